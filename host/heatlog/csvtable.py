@@ -1,0 +1,120 @@
+"""Numeric CSV tables with a header row, read fast and rejected with one clear line.
+
+Every CSV that heatlog reads (calibration points, thermograms) goes through
+:func:`read_columns`, so the checks a user relies on (missing columns, text cells, NaN, too few
+rows) behave the same everywhere. Parsing is ``numpy.loadtxt`` on the wanted columns only; the
+checks are vectorised, so reading a million rows costs little more than ``loadtxt`` itself.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import os
+from collections.abc import Sequence
+from pathlib import Path
+
+import numpy as np
+
+from heatlog.errors import InputError
+
+Source = str | os.PathLike[str] | io.TextIOBase
+
+
+def _read_header(text_head: str, where: str) -> tuple[list[str], str]:
+    first = text_head.splitlines()[0] if text_head.strip() else ""
+    if not first.strip():
+        raise InputError(
+            f"{where}: the file is empty; expected a header row such as 'time_s,temp_C'"
+        )
+    try:
+        dialect = csv.Sniffer().sniff(first, delimiters=",;\t")
+        delimiter = dialect.delimiter
+    except csv.Error:
+        delimiter = ","
+    names = [name.strip().strip('"').strip("'") for name in first.split(delimiter)]
+    return names, delimiter
+
+
+def read_columns(
+    source: Source,
+    columns: Sequence[str],
+    *,
+    optional: Sequence[str] = (),
+    min_rows: int = 1,
+    what: str = "table",
+) -> dict[str, np.ndarray]:
+    """Read the named numeric columns of a headed CSV file into float64 arrays.
+
+    ``columns`` must all be present; ``optional`` ones are returned when present. Header names are
+    matched case-insensitively after stripping blanks. Lines starting with ``#`` are comments.
+
+    Raises :class:`InputError` (one line, says what to fix) for a missing file, an empty file,
+    missing columns, non-numeric or empty cells, NaN/inf values and fewer than ``min_rows`` rows.
+    """
+    if isinstance(source, io.TextIOBase):
+        text = source.read()
+        where = getattr(source, "name", what)
+    else:
+        path = Path(source)
+        where = str(path)
+        try:
+            text = path.read_text(encoding="utf-8-sig")
+        except FileNotFoundError:
+            raise InputError(f"{where}: no such file") from None
+        except IsADirectoryError:
+            raise InputError(f"{where}: is a folder, expected a CSV file") from None
+        except UnicodeDecodeError:
+            raise InputError(f"{where}: not a UTF-8 text file") from None
+        except OSError as exc:
+            raise InputError(f"{where}: cannot read ({exc.strerror})") from None
+
+    # Skip leading comment lines so the header is the first data-bearing line.
+    lines = text.splitlines()
+    start = 0
+    while start < len(lines) and (
+        not lines[start].strip() or lines[start].lstrip().startswith("#")
+    ):
+        start += 1
+    body = "\n".join(lines[start:])
+    names, delimiter = _read_header(body, where)
+    lookup = {name.lower(): i for i, name in enumerate(names)}
+
+    missing = [c for c in columns if c.lower() not in lookup]
+    if missing:
+        raise InputError(
+            f"{where}: missing column(s) {', '.join(repr(m) for m in missing)}; "
+            f"the header has {', '.join(repr(n) for n in names)}"
+        )
+    wanted = list(columns) + [c for c in optional if c.lower() in lookup]
+    idx = [lookup[c.lower()] for c in wanted]
+
+    data_text = body.split("\n", 1)[1] if "\n" in body else ""
+    if not data_text.strip():
+        raise InputError(f"{where}: the header has no data rows below it")
+    try:
+        arr = np.loadtxt(
+            io.StringIO(data_text),
+            delimiter=delimiter,
+            usecols=idx,
+            comments="#",
+            dtype=np.float64,
+            ndmin=2,
+        )
+    except ValueError as exc:
+        msg = str(exc).splitlines()[0]
+        # loadtxt counts rows from the start of the data; add the header and skipped lines.
+        raise InputError(
+            f"{where}: non-numeric or empty cell ({msg}; row 1 is the first below the header)"
+        ) from None
+
+    n = arr.shape[0]
+    if n < min_rows:
+        raise InputError(f"{where}: need at least {min_rows} data row(s), got {n}")
+    bad = ~np.isfinite(arr)
+    if bad.any():
+        row, col = np.argwhere(bad)[0]
+        raise InputError(
+            f"{where}: column {wanted[col]!r} holds a non-finite value (NaN or inf) in data row {row + 1}"
+        )
+    return {name: np.ascontiguousarray(arr[:, j]) for j, name in enumerate(wanted)}
