@@ -1,0 +1,57 @@
+"""``heatlog demo``: the whole job on invented data, no board needed."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from heatlog.cli.output import emit, json_option
+
+CAUTION = (
+    "Caution: ammonium nitrate is an oxidiser and cold packs can chill skin; heaters and hot water "
+    "burn. Follow the safety data sheets, local codes and licensed practice when you do this for real."
+)
+
+
+@click.command("demo")
+@click.option(
+    "--out",
+    type=click.Path(file_okay=False, path_type=Path),
+    default=Path("heatlog-demo"),
+    show_default=True,
+    help="Folder for the demo's probe file, raw logs, run files and results.",
+)
+@json_option
+def demo(out: Path, as_json: bool) -> None:
+    """Calibrate a probe, find a cup's heat capacity and measure a dissolution enthalpy (invented data)."""
+    from heatlog.demo import run_demo
+
+    result = run_demo(out)
+
+    def text() -> str:
+        d = result.to_dict()
+        run = result.run
+        cal = result.calibration
+        assert run.molar_enthalpy is not None and cal.c_cal is not None
+        lines = [
+            "heatlog demo — invented data, no board attached",
+            f"  probe: Steinhart–Hart fit of the bundled calibration points -> {out / 'probe.toml'}",
+            f"  calibration run: ΔT = {cal.reduction.delta_t_K:+.4f} K ± {cal.reduction.u_delta_t_K:.4f} K "
+            f"({cal.reduction.method}); C_cal = {cal.c_cal.value:.1f} ± {cal.c_cal.u:.1f} J/K "
+            f"(invented truth {d['true_calorimeter_constant_J_per_K']:.1f} J/K)",
+            f"  dissolution run: ΔT = {run.reduction.delta_t_K:+.4f} K ± {run.reduction.u_delta_t_K:.4f} K "
+            f"(naive peak reading {run.reduction.naive_delta_t_K:+.4f} K)",
+            f"  ΔH(NH4NO3, dissolution) = {run.molar_enthalpy.value:+.2f} ± {run.molar_enthalpy.expanded:.2f} kJ/mol "
+            f"(k = 2; invented truth {d['true_enthalpy_kJ_per_mol']:+.2f} kJ/mol)",
+        ]
+        if run.hess is not None:
+            lines.append(
+                f"  Hess's law (infinite dilution): {run.hess.predicted:+.2f} ± {run.hess.u_predicted:.2f} kJ/mol; "
+                f"z = {run.hess.z:.1f}: {run.hess.verdict}"
+            )
+        lines.append(f"  files and results.json in {out}")
+        lines.append(CAUTION)
+        return "\n".join(lines)
+
+    emit(as_json, result.to_dict(), text)

@@ -1,0 +1,411 @@
+"""Run files: a TOML description of one experiment, so a result can be reproduced from files alone.
+
+A run file names the log, how to read it (columns, probe file and reading chain for raw logs), how
+to reduce it, what was in the calorimeter, and either what the run measures (a sample and its
+reaction) or what it calibrates (an electrical heater, a reference process). ``heatlog reduce
+RUN.toml`` evaluates it. The layout, with every key optional unless marked::
+
+    title = "invented example"
+    [log]
+    file = "run.csv"              # required; relative to the run file
+    time_col = "time_s"
+    temp_col = "temp_C"           # a calibrated temperature column, or instead:
+    raw_col = "counts"            # raw readings, converted with `probe` (and `chain` for counts)
+    chain = "divider:rs=10000,side=low,bits=12,oversample=64"
+    probe = "probe.toml"
+    [reduce]
+    method = "auto"   event = 0   event_start_s = …   after_start_s = …   resolution_K = …
+    [calorimeter]
+    heat_capacity_J_per_K = 38.0  u_heat_capacity_J_per_K = 2.0    # or:
+    calibrations = ["cal-1.toml", "cal-2.toml"]                    # run files with [electrical]
+    [[contents]]
+    name = "water"  mass_g = 150.0  u_mass_g = 0.05  cp = "water"  # or cp = 4.0, u_cp = 0.02
+    [electrical]                 # this run calibrates: heater energy
+    power_W = 5.0  u_power_W = 0.01  seconds = 300.0  u_seconds = 0.1   # or voltage_V/current_A
+    [sample]                     # this run measures
+    name = "NH4NO3"  mass_g = 8.0  u_mass_g = 0.002
+    molar_mass_g_per_mol = 80.043                  # or taken from the reaction's first reactant
+    reaction = "NH4NO3(s) -> NH4+(aq) + NO3-(aq)"  # for the Hess's-law comparison
+
+Parsing (:func:`parse_run`) and evaluation (:func:`evaluate_run`) are pure; :func:`load_run` and
+:func:`read_run_log` do the file reading.
+"""
+
+from __future__ import annotations
+
+import math
+import tomllib
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from heatlog.csvtable import read_columns
+from heatlog.energetics import calorimeter, heat, hess, water
+from heatlog.energetics.heat import Content
+from heatlog.errors import InputError
+from heatlog.gum import Budget, Input
+from heatlog.probes import chain_from_spec, load_probe
+from heatlog.reduce import Reduction, reduce_thermogram
+from heatlog.thermogram import Thermogram, read_thermogram_csv
+
+
+@dataclass(frozen=True)
+class LogSpec:
+    file: Path
+    time_col: str = "time_s"
+    temp_col: str = "temp_C"
+    raw_col: str | None = None
+    chain: str | None = None
+    probe: Path | None = None
+
+
+@dataclass(frozen=True)
+class ContentSpec:
+    name: str
+    mass_g: Input
+    cp: Input | None  # None: water c_p (IAPWS-95) at the run's mean temperature
+
+
+@dataclass(frozen=True)
+class ElectricalSpec:
+    seconds: Input
+    power_W: Input | None = None
+    voltage_V: Input | None = None
+    current_A: Input | None = None
+
+
+@dataclass(frozen=True)
+class SampleSpec:
+    name: str
+    mass_g: Input
+    molar_mass_g_per_mol: float | None = None
+    reaction: str | None = None
+
+
+@dataclass(frozen=True)
+class RunSpec:
+    path: Path
+    title: str
+    log: LogSpec
+    reduce: Mapping[str, Any]
+    contents: tuple[ContentSpec, ...]
+    heat_capacity: Input | None = None
+    calibrations: tuple[Path, ...] = ()
+    electrical: ElectricalSpec | None = None
+    sample: SampleSpec | None = None
+    notes: tuple[str, ...] = field(default_factory=tuple)
+
+
+_REDUCE_KEYS = {"method", "event", "event_start_s", "after_start_s", "resolution_K"}
+
+
+def _table(doc: Mapping[str, Any], key: str, where: str) -> Mapping[str, Any]:
+    value = doc.get(key, {})
+    if not isinstance(value, Mapping):
+        raise InputError(f"{where}: [{key}] must be a table")
+    return value
+
+
+def _number(doc: Mapping[str, Any], key: str, where: str, default: float | None = None) -> float:
+    value = doc.get(key, default)
+    if value is None:
+        raise InputError(f"{where}: missing {key}")
+    if isinstance(value, bool) or not isinstance(value, int | float) or not math.isfinite(value):
+        raise InputError(f"{where}: {key} must be a number, got {value!r}")
+    return float(value)
+
+
+def _quantity(doc: Mapping[str, Any], key: str, unit: str, where: str, u_default: float = 0.0) -> Input:
+    value = _number(doc, key, where)
+    u = _number(doc, f"u_{key}", where, u_default)
+    if u < 0:
+        raise InputError(f"{where}: u_{key} must not be negative")
+    return Input(value, u, unit)
+
+
+def _path(base: Path, value: Any, where: str) -> Path:
+    if not isinstance(value, str) or not value:
+        raise InputError(f"{where}: expected a file name, got {value!r}")
+    p = Path(value)
+    return p if p.is_absolute() else base / p
+
+
+def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
+    """Check a run file's parsed TOML and turn it into a :class:`RunSpec` (no file access)."""
+    where = str(path)
+    base = path.parent
+    log = _table(doc, "log", where)
+    if "file" not in log:
+        raise InputError(f"{where}: [log] needs file = \"…\" (the logged CSV)")
+    raw_col = log.get("raw_col")
+    if raw_col is not None and "probe" not in log:
+        raise InputError(f"{where}: [log] raw_col needs probe = \"…\" to convert raw readings")
+    log_spec = LogSpec(
+        file=_path(base, log["file"], where),
+        time_col=str(log.get("time_col", "time_s")),
+        temp_col=str(log.get("temp_col", "temp_C")),
+        raw_col=None if raw_col is None else str(raw_col),
+        chain=None if log.get("chain") is None else str(log["chain"]),
+        probe=None if log.get("probe") is None else _path(base, log["probe"], where),
+    )
+    red = dict(_table(doc, "reduce", where))
+    unknown = set(red) - _REDUCE_KEYS
+    if unknown:
+        raise InputError(f"{where}: [reduce] does not know {sorted(unknown)}; use {sorted(_REDUCE_KEYS)}")
+
+    contents = []
+    for i, item in enumerate(doc.get("contents", [])):
+        w = f"{where} [[contents]] #{i + 1}"
+        if not isinstance(item, Mapping) or "name" not in item:
+            raise InputError(f"{w}: needs name and mass_g")
+        cp_value = item.get("cp", "water")
+        if cp_value == "water":
+            cp = None
+        else:
+            cp = _quantity(item, "cp", "J/(g·K)", w)
+        contents.append(ContentSpec(str(item["name"]), _quantity(item, "mass_g", "g", w), cp))
+
+    cal = _table(doc, "calorimeter", where)
+    heat_capacity = None
+    calibrations: tuple[Path, ...] = ()
+    if "heat_capacity_J_per_K" in cal:
+        heat_capacity = _quantity(cal, "heat_capacity_J_per_K", "J/K", f"{where} [calorimeter]")
+    elif "calibrations" in cal:
+        files = cal["calibrations"]
+        if not isinstance(files, list) or not files:
+            raise InputError(f"{where}: [calorimeter] calibrations must be a list of run files")
+        calibrations = tuple(_path(base, f, where) for f in files)
+
+    electrical = None
+    if "electrical" in doc:
+        e = _table(doc, "electrical", where)
+        w = f"{where} [electrical]"
+        if "power_W" in e:
+            electrical = ElectricalSpec(_quantity(e, "seconds", "s", w), power_W=_quantity(e, "power_W", "W", w))
+        elif "voltage_V" in e and "current_A" in e:
+            electrical = ElectricalSpec(
+                _quantity(e, "seconds", "s", w),
+                voltage_V=_quantity(e, "voltage_V", "V", w),
+                current_A=_quantity(e, "current_A", "A", w),
+            )
+        else:
+            raise InputError(f"{w}: give power_W, or voltage_V and current_A, and seconds")
+
+    sample = None
+    if "sample" in doc:
+        s = _table(doc, "sample", where)
+        w = f"{where} [sample]"
+        sample = SampleSpec(
+            name=str(s.get("name", "sample")),
+            mass_g=_quantity(s, "mass_g", "g", w),
+            molar_mass_g_per_mol=None if "molar_mass_g_per_mol" not in s else _number(s, "molar_mass_g_per_mol", w),
+            reaction=None if s.get("reaction") is None else str(s["reaction"]),
+        )
+    if electrical is not None and sample is not None:
+        raise InputError(f"{where}: a run either calibrates ([electrical]) or measures ([sample]), not both")
+    if sample is not None and heat_capacity is None and not calibrations:
+        raise InputError(
+            f"{where}: [calorimeter] needs heat_capacity_J_per_K or calibrations to turn ΔT into heat"
+        )
+    return RunSpec(
+        path=path,
+        title=str(doc.get("title", path.stem)),
+        log=log_spec,
+        reduce=red,
+        contents=tuple(contents),
+        heat_capacity=heat_capacity,
+        calibrations=calibrations,
+        electrical=electrical,
+        sample=sample,
+    )
+
+
+def load_run(path: str | Path) -> RunSpec:
+    """Read and check a run file."""
+    p = Path(path)
+    try:
+        doc = tomllib.loads(p.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise InputError(f"{p}: no such run file") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"{p}: cannot read the run file ({exc})") from None
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"{p}: not valid TOML ({exc})") from None
+    return parse_run(doc, p)
+
+
+def read_run_log(log: LogSpec) -> Thermogram:
+    """The run's thermogram: a temperature column, or raw readings through the probe file."""
+    if log.raw_col is None:
+        return read_thermogram_csv(log.file, time_col=log.time_col, temp_col=log.temp_col)
+    assert log.probe is not None  # parse_run requires it
+    probe = load_probe(log.probe)
+    cols = read_columns(log.file, [log.time_col, log.raw_col], what="log")
+    raw = cols[log.time_col], cols[log.raw_col]
+    if log.chain is None:
+        resistance = raw[1]
+        step = None
+    else:
+        chain = chain_from_spec(log.chain)
+        resistance = chain.to_resistance(raw[1])
+        step = chain.reading(probe.model, raw[1]).step_K
+    temp = probe.model.resistance_to_temperature(resistance)
+    meta: dict[str, Any] = {"source": str(log.file), "probe_id": probe.id, "probe_u_K": probe.uncertainty_K}
+    if step is not None:
+        meta["count_step_K"] = float(np.median(step))
+    return Thermogram(raw[0], np.asarray(temp, dtype=np.float64), metadata=meta)
+
+
+@dataclass(frozen=True, eq=False)
+class RunResult:
+    """Everything a run file yields: the reduction and, when the inputs allow, heat and enthalpy."""
+
+    spec: RunSpec
+    reduction: Reduction
+    mean_temp_C: float
+    contents: tuple[Content, ...]
+    c_cal: Budget | None = None  # what this run calibrates, or the constant it used
+    heat: Budget | None = None
+    molar_enthalpy: Budget | None = None
+    specific_enthalpy: Budget | None = None
+    hess: hess.Comparison | None = None
+    predicted: Budget | None = None
+
+    def to_dict(self) -> dict[str, Any]:
+        out: dict[str, Any] = {"title": self.spec.title, "run_file": str(self.spec.path)}
+        out.update(self.reduction.to_dict())
+        out["mean_temp_C"] = self.mean_temp_C
+        if self.c_cal is not None:
+            key = "calorimeter_constant" if self.spec.electrical else "calorimeter_constant_used"
+            out[key] = {"value_J_per_K": self.c_cal.value, "u_J_per_K": self.c_cal.u, "budget": self.c_cal.to_dict()}
+        if self.heat is not None:
+            out.update(heat_J=self.heat.value, u_heat_J=self.heat.u, heat_budget=self.heat.to_dict())
+        if self.molar_enthalpy is not None:
+            out.update(
+                enthalpy_kJ_per_mol=self.molar_enthalpy.value,
+                u_enthalpy_kJ_per_mol=self.molar_enthalpy.u,
+                U_enthalpy_kJ_per_mol=self.molar_enthalpy.expanded,
+                enthalpy_budget=self.molar_enthalpy.to_dict(),
+            )
+        if self.specific_enthalpy is not None:
+            out.update(enthalpy_J_per_g=self.specific_enthalpy.value, u_enthalpy_J_per_g=self.specific_enthalpy.u)
+        if self.hess is not None and self.predicted is not None:
+            out["hess"] = {
+                "predicted_kJ_per_mol": self.predicted.value,
+                "u_predicted_kJ_per_mol": self.predicted.u,
+                "comparison": self.hess.to_dict(),
+            }
+        out["sign_convention"] = heat.SIGN_CONVENTION
+        return out
+
+
+def _contents(spec: RunSpec, mean_temp_C: float) -> tuple[Content, ...]:
+    out = []
+    for c in spec.contents:
+        cp = c.cp if c.cp is not None else water.water_cp_input(mean_temp_C)
+        out.append(Content(c.name, c.mass_g, cp))
+    return tuple(out)
+
+
+def _reduce(spec: RunSpec, thermogram: Thermogram) -> Reduction:
+    r = spec.reduce
+    resolution = r.get("resolution_K", thermogram.metadata.get("count_step_K"))
+    return reduce_thermogram(
+        thermogram,
+        method=str(r.get("method", "auto")),
+        event_index=int(r.get("event", 0)),
+        event_start_s=r.get("event_start_s"),
+        after_start_s=r.get("after_start_s"),
+        resolution_K=None if resolution is None else float(resolution),
+    )
+
+
+def _energy(e: ElectricalSpec) -> Budget:
+    if e.power_W is not None:
+        return calorimeter.power_energy(e.power_W, e.seconds)
+    assert e.voltage_V is not None and e.current_A is not None
+    return calorimeter.electrical_energy(e.voltage_V, e.current_A, e.seconds)
+
+
+def _molar_mass(sample: SampleSpec) -> float | None:
+    if sample.molar_mass_g_per_mol is not None:
+        return sample.molar_mass_g_per_mol
+    if sample.reaction is None:
+        return None
+    reaction = hess.reaction(sample.reaction)
+    first = reaction.reactants[0]
+    # Per mole of reaction as written: the extent is n(sample)/ν, so the mass per extent is M·ν.
+    return first.species.molar_mass * float(first.coefficient)
+
+
+def evaluate_run(
+    spec: RunSpec,
+    thermogram: Thermogram,
+    *,
+    calibrate: Callable[[Path], RunResult] | None = None,
+) -> RunResult:
+    """Reduce the run and derive what its inputs allow (pure apart from ``calibrate``).
+
+    ``calibrate`` evaluates a calibration run file named in ``[calorimeter] calibrations``; the
+    CLI passes one that loads and evaluates the file.
+    """
+    red = _reduce(spec, thermogram)
+    lo, hi = red.fore_start_s, red.after_end_s
+    mask = (thermogram.time_s >= lo) & (thermogram.time_s <= hi)
+    mean_temp = float(np.mean(thermogram.temp_C[mask])) if mask.any() else float(np.mean(thermogram.temp_C))
+    contents = _contents(spec, mean_temp)
+    dt = red.budget
+
+    if spec.electrical is not None:
+        c = calorimeter.electrical_calibration(_energy(spec.electrical), heat.as_input(dt), list(contents))
+        return RunResult(spec, red, mean_temp, contents, c_cal=c)
+
+    c_cal: Budget | Input | None = spec.heat_capacity
+    if spec.calibrations:
+        if calibrate is None:
+            raise InputError(f"{spec.path}: calibration run files need a loader")
+        results = [calibrate(p) for p in spec.calibrations]
+        constants: list[Budget] = [r.c_cal for r in results if r.c_cal is not None]
+        c_cal = constants[0] if len(constants) == 1 else calorimeter.combine_calibrations(constants)
+    if c_cal is None:
+        return RunResult(spec, red, mean_temp, contents)
+    c_budget = c_cal if isinstance(c_cal, Budget) else Budget("C_cal (given)", c_cal.value, "J/K", ())
+    q = heat.heat(dt, c_cal, list(contents))
+    result = RunResult(spec, red, mean_temp, contents, c_cal=c_budget if c_budget.components else None, heat=q)
+    sample = spec.sample
+    if sample is None:
+        return result
+    spec_h = heat.specific_enthalpy(dt, c_cal, list(contents), sample.mass_g)
+    mm = _molar_mass(sample)
+    molar = predicted = comparison = None
+    if mm is not None:
+        n = Input(sample.mass_g.value / mm, sample.mass_g.u / mm, "mol", note=f"{sample.name}: m/M, M = {mm:.4f} g/mol")
+        molar = heat.molar_enthalpy(dt, c_cal, list(contents), n)
+        if sample.reaction is not None:
+            predicted = hess.reaction_enthalpy(sample.reaction)
+            comparison = hess.compare(molar, predicted)
+    return RunResult(
+        spec,
+        red,
+        mean_temp,
+        contents,
+        c_cal=result.c_cal,
+        heat=q,
+        molar_enthalpy=molar,
+        specific_enthalpy=spec_h,
+        hess=comparison,
+        predicted=predicted,
+    )
+
+
+def run_file(path: str | Path, _seen: Sequence[Path] = ()) -> RunResult:
+    """Load, read and evaluate a run file, following its calibration run files."""
+    spec = load_run(path)
+    here = spec.path.resolve()
+    if here in _seen:
+        raise InputError(f"{spec.path}: calibration run files refer to each other in a loop")
+    thermogram = read_run_log(spec.log)
+    return evaluate_run(spec, thermogram, calibrate=lambda p: run_file(p, (*_seen, here)))
