@@ -1,0 +1,1 @@
+"""Probe physics: resistance–temperature curves, reading chains, calibration fits, design, files."""

@@ -1,0 +1,92 @@
+"""Input checks shared by every probe model: finite numbers, positive resistance, valid range.
+
+A model converts inside its stated validity range widened by :data:`RANGE_MARGIN_K` on each side,
+so a bath that settles a few tenths of a kelvin past the end point of a calibration is still read;
+beyond that the conversion stops with a :class:`~heatlog.errors.RangeError`.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+
+from heatlog.errors import RangeError
+
+#: How far past its stated range (each side, in K) a model still converts (common practice, no
+#: source: a small extrapolation of a smooth curve costs far less than a stopped run).
+RANGE_MARGIN_K = 1.0
+
+Scalar = float
+ArrayLike = Any  # a float, a sequence of floats or a numpy array
+
+
+def as_array(x: ArrayLike, what: str, unit: str) -> tuple[np.ndarray, bool]:
+    """Return ``x`` as a float64 array and whether it was a scalar; reject NaN and inf."""
+    try:
+        arr = np.asarray(x, dtype=np.float64)
+    except (TypeError, ValueError):
+        raise RangeError(f"{what} must be a number or an array of numbers, got {x!r}") from None
+    if not np.all(np.isfinite(arr)):
+        raise RangeError(f"{what} must be a finite number in {unit}; got NaN or inf")
+    return arr, arr.ndim == 0
+
+
+def restore(arr: np.ndarray, scalar: bool) -> Any:
+    """Give back a Python float for scalar input, else the array."""
+    return float(arr) if scalar else arr
+
+
+def _first_bad(arr: np.ndarray, bad: np.ndarray) -> tuple[float, int]:
+    flat_bad = np.ravel(bad)
+    return float(np.ravel(arr)[np.argmax(flat_bad)]), int(flat_bad.sum())
+
+
+def _count_note(n: int) -> str:
+    return "" if n <= 1 else f" ({n} values out of range)"
+
+
+def check_positive_resistance(r: np.ndarray) -> None:
+    """Resistances must be positive: zero or negative means a short, an open or a chain error."""
+    bad = r <= 0.0
+    if np.any(bad):
+        value, n = _first_bad(r, bad)
+        raise RangeError(
+            f"resistance must be positive, got {value:g} Ω{_count_note(n)}; "
+            "check the probe wiring and the reading chain settings"
+        )
+
+
+def check_temperature(t_C: np.ndarray, t_min_C: float, t_max_C: float, model: str) -> None:
+    """Temperatures must lie inside the model's range widened by the margin."""
+    bad = (t_C < t_min_C - RANGE_MARGIN_K) | (t_C > t_max_C + RANGE_MARGIN_K)
+    if np.any(bad):
+        value, n = _first_bad(t_C, bad)
+        raise RangeError(
+            f"{value:g} °C lies outside the valid range {t_min_C:g}..{t_max_C:g} °C of this "
+            f"{model} model (±{RANGE_MARGIN_K:g} K margin){_count_note(n)}; "
+            "recalibrate over a wider range or use a model made for that range"
+        )
+
+
+def check_resistance(
+    r: np.ndarray, r_lo: float, r_hi: float, t_min_C: float, t_max_C: float, model: str
+) -> None:
+    """Resistances must map into the model's range (``r_lo``..``r_hi`` hold the margin already)."""
+    check_positive_resistance(r)
+    bad = (r < r_lo) | (r > r_hi)
+    if np.any(bad):
+        value, n = _first_bad(r, bad)
+        raise RangeError(
+            f"{value:.6g} Ω lies outside {r_lo:.6g}..{r_hi:.6g} Ω, the resistances this {model} "
+            f"model covers ({t_min_C:g}..{t_max_C:g} °C ±{RANGE_MARGIN_K:g} K){_count_note(n)}; "
+            "check the probe, the chain settings or the probe file"
+        )
+
+
+def check_range_order(t_min_C: float, t_max_C: float, model: str) -> None:
+    """A validity range must be finite and have its lower end first."""
+    if not (np.isfinite(t_min_C) and np.isfinite(t_max_C)) or t_min_C >= t_max_C:
+        raise RangeError(
+            f"{model}: valid range must run from low to high, got {t_min_C:g}..{t_max_C:g} °C"
+        )
