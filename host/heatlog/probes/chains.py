@@ -253,3 +253,60 @@ class MAX31865Chain(_Chain):
 
 
 Chain = VoltageDivider | ADS1115Divider | MAX31865Chain
+
+
+# Short keys accepted by chain_from_spec, per chain: key -> (field name, converter).
+_SPEC_KEYS: dict[str, dict[str, tuple[str, type]]] = {
+    "divider": {
+        "rs": ("r_series_ohm", float),
+        "side": ("thermistor_side", str),
+        "bits": ("bits", int),
+        "oversample": ("oversample", int),
+    },
+    "ads1115": {
+        "rs": ("r_series_ohm", float),
+        "vexc": ("excitation_V", float),
+        "fsr": ("fsr_V", float),
+        "side": ("thermistor_side", str),
+    },
+    "max31865": {"rref": ("r_ref_ohm", float), "lead": ("lead_ohm", float)},
+}
+_CHAIN_CLASSES: dict[str, type] = {
+    "divider": VoltageDivider,
+    "ads1115": ADS1115Divider,
+    "max31865": MAX31865Chain,
+}
+CHAIN_SPEC_HELP = (
+    "divider:rs=10000,side=low,bits=12,oversample=16 | "
+    "ads1115:rs=10000,vexc=3.3,fsr=4.096,side=low | max31865:rref=430,lead=0"
+)
+
+
+def chain_from_spec(spec: str) -> Chain:
+    """Build a chain from a short text such as ``divider:rs=10000,bits=12,oversample=16``."""
+    kind, _, rest = spec.strip().partition(":")
+    kind = kind.strip().lower()
+    if kind not in _SPEC_KEYS:
+        raise RangeError(f"unknown chain {kind!r}; write it as {CHAIN_SPEC_HELP}")
+    keys = _SPEC_KEYS[kind]
+    kwargs: dict[str, Any] = {}
+    for item in filter(None, (part.strip() for part in rest.split(","))):
+        key, eq, value = item.partition("=")
+        key = key.strip().lower()
+        if not eq or key not in keys:
+            raise RangeError(
+                f"chain {kind}: cannot use {item!r}; keys are {', '.join(keys)} (as key=value)"
+            )
+        field_name, convert = keys[key]
+        try:
+            kwargs[field_name] = convert(value.strip())
+        except ValueError:
+            raise RangeError(
+                f"chain {kind}: {key} must be a {convert.__name__}, got {value!r}"
+            ) from None
+    try:
+        chain: Chain = _CHAIN_CLASSES[kind](**kwargs)
+    except TypeError:
+        need = [k for k, (f, _) in keys.items() if f in ("r_series_ohm", "excitation_V")]
+        raise RangeError(f"chain {kind}: give {', '.join(need)} (as key=value)") from None
+    return chain

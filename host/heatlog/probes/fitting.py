@@ -76,6 +76,11 @@ class CalibrationFit:
         """Root mean square of the residuals (over n points, not ν)."""
         return float(np.sqrt(np.mean(self.residuals_K**2)))
 
+    @property
+    def residual_sd_K(self) -> float:
+        """s = √(Σr²/ν), the scatter of the points about the curve; 0 when ν = 0 (unknown)."""
+        return float(np.sqrt(np.sum(self.residuals_K**2) / self.dof)) if self.dof > 0 else 0.0
+
     def u_fit(self, t_C: Any) -> np.ndarray:
         """Standard uncertainty (K, k=1) of the fitted curve itself at ``t_C``."""
         t = np.atleast_1d(np.asarray(t_C, dtype=np.float64))
@@ -117,6 +122,7 @@ class CalibrationFit:
             "residuals_K": self.residuals_K,
             "max_abs_residual_K": self.max_abs_residual_K,
             "rms_residual_K": self.rms_residual_K,
+            "residual_sd_K": self.residual_sd_K,
             "covariance": self.covariance,
             "u_fit_K": self.u_table(),
             "warnings": list(self.warnings),
