@@ -24,7 +24,7 @@ from typing import Any, ClassVar
 
 import numpy as np
 
-from heatlog.errors import RangeError
+from heatlog.errors import InputError, RangeError
 from heatlog.probes.models import ProbeModel
 from heatlog.probes.validity import as_array, check_positive_resistance, restore
 
@@ -287,26 +287,26 @@ def chain_from_spec(spec: str) -> Chain:
     kind, _, rest = spec.strip().partition(":")
     kind = kind.strip().lower()
     if kind not in _SPEC_KEYS:
-        raise RangeError(f"unknown chain {kind!r}; write it as {CHAIN_SPEC_HELP}")
+        raise InputError(f"unknown chain {kind!r}; write it as {CHAIN_SPEC_HELP}")
     keys = _SPEC_KEYS[kind]
     kwargs: dict[str, Any] = {}
     for item in filter(None, (part.strip() for part in rest.split(","))):
         key, eq, value = item.partition("=")
         key = key.strip().lower()
         if not eq or key not in keys:
-            raise RangeError(
+            raise InputError(
                 f"chain {kind}: cannot use {item!r}; keys are {', '.join(keys)} (as key=value)"
             )
         field_name, convert = keys[key]
         try:
             kwargs[field_name] = convert(value.strip())
         except ValueError:
-            raise RangeError(
+            raise InputError(
                 f"chain {kind}: {key} must be a {convert.__name__}, got {value!r}"
             ) from None
     try:
         chain: Chain = _CHAIN_CLASSES[kind](**kwargs)
     except TypeError:
         need = [k for k, (f, _) in keys.items() if f in ("r_series_ohm", "excitation_V")]
-        raise RangeError(f"chain {kind}: give {', '.join(need)} (as key=value)") from None
+        raise InputError(f"chain {kind}: give {', '.join(need)} (as key=value)") from None
     return chain
