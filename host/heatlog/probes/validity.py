@@ -74,7 +74,9 @@ def check_resistance(
 ) -> None:
     """Resistances must map into the model's range (``r_lo``..``r_hi`` hold the margin already)."""
     check_positive_resistance(r)
-    bad = (r < r_lo) | (r > r_hi)
+    # A relative slack of 1e-9 (far below a microkelvin) keeps the end points themselves inside
+    # whatever rounding the forward and inverse conversions leave.
+    bad = (r < r_lo * (1.0 - 1e-9)) | (r > r_hi * (1.0 + 1e-9))
     if np.any(bad):
         value, n = _first_bad(r, bad)
         raise RangeError(
