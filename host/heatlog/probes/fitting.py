@@ -144,8 +144,8 @@ def _check_points(
         raise CalibrationError("calibration points must be finite numbers (no NaN or inf)")
     if t.size < n_needed:
         raise CalibrationError(
-            f"need at least {n_needed} calibration points for {model} ({what_fitted} fitted), "
-            f"got {t.size}; add points spread over the range you will measure"
+            f"need at least {n_needed} calibration points for {model}, got {t.size} "
+            f"({what_fitted} to fit); add points spread over the range you will measure"
         )
     if np.any(r <= 0):
         bad = float(r[np.argmax(r <= 0)])
