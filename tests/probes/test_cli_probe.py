@@ -18,6 +18,9 @@ EXAMPLE = ROOT / "host" / "heatlog" / "data" / "examples" / "ntc_10k_calibration
 SH10K = SteinhartHart(1.129148e-3, 2.34125e-4, 8.76741e-8)  # widely quoted set, from memory
 
 
+FIT_EXAMPLE = ("fit", str(EXAMPLE), "--model", "steinhart-hart", "--ref-u", "0.01")
+
+
 def run(*args: str):
     return CliRunner().invoke(main, ["probe", *args])
 
@@ -39,12 +42,7 @@ def test_example_csv_is_what_its_script_makes():
 
 def test_fit_example_json_keys():
     r = run(
-        "fit",
-        str(EXAMPLE),
-        "--model",
-        "steinhart-hart",
-        "--ref-u",
-        "0.01",
+        *FIT_EXAMPLE,
         "--range",
         "0",
         "80",
@@ -72,12 +70,7 @@ def test_fit_example_json_keys():
 def test_fit_text_and_probe_file_then_convert(tmp_path):
     out = tmp_path / "ntc.toml"
     r = run(
-        "fit",
-        str(EXAMPLE),
-        "--model",
-        "steinhart-hart",
-        "--ref-u",
-        "0.01",
+        *FIT_EXAMPLE,
         "--out",
         str(out),
         "--reference",
@@ -122,34 +115,12 @@ def test_convert_standard_pt100_and_counts():
 
 
 def test_design_json_and_text():
-    r = run(
-        "design",
-        "--beta",
-        "3950",
-        "--r25",
-        "10000",
-        "--range",
-        "0",
-        "80",
-        "--target-mk",
-        "5",
-        "--json",
-    )
+    nominal = ["design", "--beta", "3950", "--r25", "10000", "--range", "0", "80"]
+    r = run(*nominal, "--target-mk", "5", "--json")
     assert r.exit_code == 0, r.output
     out = json.loads(r.output)
     assert out["r_series_ohm"] > 0 and out["oversample_needed"] >= 1
-    r = run(
-        "design",
-        "--beta",
-        "3950",
-        "--r25",
-        "10000",
-        "--range",
-        "0",
-        "80",
-        "--criterion",
-        "linearity",
-    )
+    r = run(*nominal, "--criterion", "linearity")
     assert r.exit_code == 0 and "series resistor" in r.output
 
 

@@ -20,10 +20,10 @@ from heatlog.errors import CalibrationError
 from heatlog.probes.inversion import solve_increasing
 from heatlog.probes.validity import (
     RANGE_MARGIN_K,
+    ForwardCurve,
     as_array,
     check_range_order,
     check_resistance,
-    check_temperature,
     restore,
 )
 
@@ -36,7 +36,7 @@ IEC_RANGE_C = (-200.0, 850.0)
 
 
 @dataclass(frozen=True)
-class CallendarVanDusen:
+class CallendarVanDusen(ForwardCurve):
     """Callendar–Van Dusen curve (IEC 60751) for a platinum RTD."""
 
     R0: float = 100.0
@@ -73,11 +73,6 @@ class CallendarVanDusen:
         c_term = np.where(t < 0.0, self.C * (4.0 * t**3 - 300.0 * t * t), 0.0)
         return self.R0 * (self.A + 2.0 * self.B * t + c_term)
 
-    @property
-    def resistance_limits(self) -> tuple[float, float]:
-        ends = self._r(np.array([self.t_min_C - RANGE_MARGIN_K, self.t_max_C + RANGE_MARGIN_K]))
-        return float(ends[0]), float(ends[1])
-
     def _quadratic_root(self, ratio_minus_one: np.ndarray) -> np.ndarray:
         disc = self.A * self.A + 4.0 * self.B * ratio_minus_one
         return 2.0 * ratio_minus_one / (self.A + np.sqrt(np.maximum(disc, 0.0)))
@@ -104,12 +99,6 @@ class CallendarVanDusen:
             else:
                 t = t_cold
         return restore(np.asarray(t, dtype=np.float64), scalar)
-
-    def temperature_to_resistance(self, t_C: Any) -> Any:
-        """Resistance in ohms at ``t_C`` in °C."""
-        arr, scalar = as_array(t_C, "temperature", "°C")
-        check_temperature(arr, self.t_min_C, self.t_max_C, self.name)
-        return restore(self._r(arr), scalar)
 
     def dtemperature_dresistance(self, r: Any) -> Any:
         """Slope dt/dR in K/Ω at resistance ``r``."""

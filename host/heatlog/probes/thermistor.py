@@ -23,6 +23,7 @@ from heatlog.errors import CalibrationError
 from heatlog.probes.inversion import solve_increasing
 from heatlog.probes.validity import (
     RANGE_MARGIN_K,
+    ForwardCurve,
     as_array,
     check_range_order,
     check_resistance,
@@ -44,17 +45,15 @@ THERMISTOR_LIMITS_C = (-80.0, 300.0)
 _LN_R_GRID = np.linspace(np.log(1e-3), np.log(1e10), 8001)
 
 
-@dataclass(frozen=True)
 class _SteinhartHartCurve:
     """Shared maths of the three- and four-term forms: 1/T = A + B x + D x² + C x³, x = ln R."""
 
     kind: ClassVar[str] = "thermistor"
     name: ClassVar[str] = ""
+    t_min_C: float
+    t_max_C: float
 
     def _abcd(self) -> tuple[float, float, float, float]:
-        raise NotImplementedError
-
-    def _limits(self) -> tuple[float, float]:
         raise NotImplementedError
 
     def _g(self, x: np.ndarray) -> np.ndarray:
@@ -68,7 +67,7 @@ class _SteinhartHartCurve:
     @cached_property
     def _x_bracket(self) -> tuple[float, float]:
         """ln R at the warm and cold ends of the range (with margin), on a monotonic branch."""
-        t_min, t_max = self._limits()
+        t_min, t_max = self.t_min_C, self.t_max_C
         check_range_order(t_min, t_max, self.name)
         if t_min - RANGE_MARGIN_K <= -ZERO_CELSIUS_K:
             raise CalibrationError(f"{self.name}: valid range must lie above absolute zero")
@@ -108,7 +107,7 @@ class _SteinhartHartCurve:
         """Temperature in °C for resistance ``r`` in ohms."""
         arr, scalar = as_array(r, "resistance", "ohms")
         r_lo, r_hi = self.resistance_limits
-        check_resistance(arr, r_lo, r_hi, *self._limits(), self.name)
+        check_resistance(arr, r_lo, r_hi, self.t_min_C, self.t_max_C, self.name)
         return restore(1.0 / self._g(np.log(arr)) - ZERO_CELSIUS_K, scalar)
 
     def _ln_r(self, inv_t: np.ndarray) -> np.ndarray:
@@ -118,7 +117,7 @@ class _SteinhartHartCurve:
     def temperature_to_resistance(self, t_C: Any) -> Any:
         """Resistance in ohms at temperature ``t_C`` in °C."""
         arr, scalar = as_array(t_C, "temperature", "°C")
-        check_temperature(arr, *self._limits(), self.name)
+        check_temperature(arr, self.t_min_C, self.t_max_C, self.name)
         return restore(np.exp(self._ln_r(1.0 / (arr + ZERO_CELSIUS_K))), scalar)
 
     def dtemperature_dresistance(self, r: Any) -> Any:
@@ -158,9 +157,6 @@ class SteinhartHart(_SteinhartHartCurve):
     def _abcd(self) -> tuple[float, float, float, float]:
         return self.A, self.B, self.C, 0.0
 
-    def _limits(self) -> tuple[float, float]:
-        return self.t_min_C, self.t_max_C
-
     def coefficients(self) -> dict[str, float]:
         return {"A": self.A, "B": self.B, "C": self.C}
 
@@ -192,15 +188,12 @@ class SteinhartHart4(_SteinhartHartCurve):
     def _abcd(self) -> tuple[float, float, float, float]:
         return self.A, self.B, self.C, self.D
 
-    def _limits(self) -> tuple[float, float]:
-        return self.t_min_C, self.t_max_C
-
     def coefficients(self) -> dict[str, float]:
         return {"A": self.A, "B": self.B, "C": self.C, "D": self.D}
 
 
 @dataclass(frozen=True)
-class Beta:
+class Beta(ForwardCurve):
     """β model, R = R25 exp[β(1/T − 1/T25)]; both directions in closed form."""
 
     R25: float
@@ -229,23 +222,12 @@ class Beta:
             self.beta * (1.0 / (t_C + ZERO_CELSIUS_K) - 1.0 / (self.T25_C + ZERO_CELSIUS_K))
         )
 
-    @property
-    def resistance_limits(self) -> tuple[float, float]:
-        ends = self._r(np.array([self.t_max_C + RANGE_MARGIN_K, self.t_min_C - RANGE_MARGIN_K]))
-        return float(ends[0]), float(ends[1])
-
     def resistance_to_temperature(self, r: Any) -> Any:
         """Temperature in °C for resistance ``r`` in ohms: 1/T = 1/T25 + ln(R/R25)/β."""
         arr, scalar = as_array(r, "resistance", "ohms")
         check_resistance(arr, *self.resistance_limits, self.t_min_C, self.t_max_C, self.name)
         inv_t = 1.0 / (self.T25_C + ZERO_CELSIUS_K) + np.log(arr / self.R25) / self.beta
         return restore(1.0 / inv_t - ZERO_CELSIUS_K, scalar)
-
-    def temperature_to_resistance(self, t_C: Any) -> Any:
-        """Resistance in ohms at ``t_C`` in °C."""
-        arr, scalar = as_array(t_C, "temperature", "°C")
-        check_temperature(arr, self.t_min_C, self.t_max_C, self.name)
-        return restore(self._r(arr), scalar)
 
     def dtemperature_dresistance(self, r: Any) -> Any:
         """Slope dT/dR = −T²/(β R) in K/Ω."""
