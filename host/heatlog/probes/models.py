@@ -18,8 +18,11 @@ class ProbeModel(Protocol):
 
     name: ClassVar[str]
     kind: ClassVar[str]
-    t_min_C: float
-    t_max_C: float
+
+    @property
+    def t_min_C(self) -> float: ...
+    @property
+    def t_max_C(self) -> float: ...
 
     def coefficients(self) -> dict[str, float]: ...
     def resistance_to_temperature(self, r: Any) -> Any: ...
@@ -32,7 +35,7 @@ class ProbeModel(Protocol):
 
 
 #: Model classes by the name used in probe files and on the command line.
-MODEL_CLASSES: dict[str, type] = {
+MODEL_CLASSES: dict[str, type[SteinhartHart | SteinhartHart4 | Beta | CallendarVanDusen]] = {
     SteinhartHart.name: SteinhartHart,
     SteinhartHart4.name: SteinhartHart4,
     Beta.name: Beta,

@@ -8,7 +8,7 @@ beyond that the conversion stops with a :class:`~heatlog.errors.RangeError`.
 from __future__ import annotations
 
 from collections.abc import Callable
-from typing import Any
+from typing import Any, ClassVar
 
 import numpy as np
 
@@ -111,7 +111,7 @@ class ForwardCurve:
 
     t_min_C: float
     t_max_C: float
-    name: str
+    name: ClassVar[str]
 
     def _r(self, t_C: np.ndarray) -> np.ndarray:
         raise NotImplementedError
