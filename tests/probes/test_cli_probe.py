@@ -11,7 +11,7 @@ from heatlog.cli import main
 from heatlog.probes.chains import MAX31865Chain
 from heatlog.probes.probefile import load_probe
 from heatlog.probes.rtd import pt100
-from heatlog.probes.thermistor import SteinhartHart
+from heatlog.probes.thermistor import Beta, SteinhartHart
 
 ROOT = Path(__file__).resolve().parents[2]
 EXAMPLE = ROOT / "host" / "heatlog" / "data" / "examples" / "ntc_10k_calibration.csv"
@@ -65,6 +65,17 @@ def test_fit_example_json_keys():
     # Invented data with 3 mK reference scatter: residuals of a few mK, not tenths.
     assert out["max_abs_residual_K"] < 0.01
     assert out["u_fit_K"]["max_u_K"] >= 0.01  # never below the reference's own uncertainty
+    assert any("scald" in c for c in out["cautions"])  # points up to 80 °C: hot bath
+
+
+def test_beta_reference_temperature_option(tmp_path):
+    b = Beta(2252.0, 3891.0, T25_C=30.0)
+    t = np.array([0.0, 20.0, 40.0, 60.0])
+    path = write_points(tmp_path / "b.csv", t, b.temperature_to_resistance(t))
+    r = run("fit", str(path), "--model", "beta", "--t25", "30", "--json")
+    assert json.loads(r.output)["coefficients"]["R25"] == pytest.approx(2252.0, rel=1e-8)
+    cautions = json.loads(r.output)["cautions"]
+    assert len(cautions) == 1 and "scald" in cautions[0]
 
 
 def test_fit_text_and_probe_file_then_convert(tmp_path):

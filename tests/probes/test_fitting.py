@@ -2,11 +2,13 @@
 
 import numpy as np
 import pytest
-from heatlog.errors import CalibrationError, RangeError
+from heatlog.errors import CalibrationError, HeatlogError, RangeError
 from heatlog.probes.chains import MAX31865Chain, VoltageDivider
 from heatlog.probes.fitting import fit_counts, fit_resistance
 from heatlog.probes.rtd import IEC_C, CallendarVanDusen, pt100
 from heatlog.probes.thermistor import Beta, SteinhartHart, SteinhartHart4
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 SH10K = SteinhartHart(1.129148e-3, 2.34125e-4, 8.76741e-8)  # widely quoted set, from memory
 # An invented NTC that a three-term curve cannot follow exactly (D ≠ 0), R(25 °C) = 10 kΩ.
@@ -204,3 +206,41 @@ def test_bad_options_raise():
         fit_resistance(t, pt100().temperature_to_resistance(t), "callendar-van-dusen", r0_ohm=0.0)
     with pytest.raises(RangeError):
         fit_counts(t, [0, 1000, 2000, 3000], VoltageDivider(1e4), "steinhart-hart")
+
+
+@pytest.mark.parametrize(
+    "model", ["steinhart-hart", "steinhart-hart-4", "beta", "callendar-van-dusen"]
+)
+@settings(max_examples=60, deadline=None)
+@given(
+    temps=st.lists(st.floats(-300.0, 1000.0), min_size=0, max_size=8),
+    res=st.lists(st.floats(-10.0, 1e7), min_size=0, max_size=8),
+)
+def test_fuzzed_points_end_in_a_fit_or_a_clean_error(model, temps, res):
+    try:
+        fit = fit_resistance(temps, res, model)
+    except HeatlogError:
+        return
+    assert np.all(np.isfinite(fit.residuals_K))
+
+
+@pytest.mark.parametrize(
+    "model", ["steinhart-hart", "steinhart-hart-4", "beta", "callendar-van-dusen"]
+)
+@settings(max_examples=80, deadline=None)
+@given(
+    temps=st.lists(st.floats(-60.0, 250.0), min_size=2, max_size=9, unique=True),
+    res=st.lists(st.floats(1.0, 1e6), min_size=2, max_size=9, unique=True),
+    ref_u=st.floats(0.0, 1.0),
+)
+def test_fuzzed_monotonic_points_end_in_a_fit_or_a_clean_error(model, temps, res, ref_u):
+    n = min(len(temps), len(res))
+    t = np.sort(temps[:n])
+    r = np.sort(res[:n])
+    r = r if model == "callendar-van-dusen" else r[::-1]
+    try:
+        fit = fit_resistance(t, r, model, ref_u_K=ref_u)
+    except HeatlogError:
+        return
+    assert np.all(np.isfinite(fit.residuals_K))
+    assert np.all(np.isfinite(fit.u_table()["u_K"]))

@@ -22,6 +22,28 @@ from heatlog.probes.thermistor import Beta
 
 STANDARD_PROBES = {"pt100": pt100, "pt1000": pt1000}
 
+# Above this a calibration bath can scald on contact (contact-burn guidance: ~44 °C for hours can
+# burn skin, Moritz & Henriques 1947, from memory); below the cold one, baths are usually
+# dry-ice/alcohol or cryogenic mixtures.
+_HOT_BATH_C = 45.0
+_COLD_BATH_C = -20.0
+
+
+def bath_cautions(temps: np.ndarray) -> list[str]:
+    """Usual cautions for the calibration baths that the points imply."""
+    out = []
+    if temps.size and float(np.max(temps)) > _HOT_BATH_C:
+        out.append(
+            "hot baths above about 45 °C scald: use a stable, lidded bath, splash protection and "
+            "heat-resistant gloves, and follow your local lab safety rules"
+        )
+    if temps.size and float(np.min(temps)) < _COLD_BATH_C:
+        out.append(
+            "cold baths (dry ice, cryogens) burn skin and displace air: insulated gloves, eye "
+            "protection, ventilation; follow the safety data sheets and local rules"
+        )
+    return out
+
 
 @click.group("probe")
 def probe() -> None:
@@ -43,7 +65,7 @@ def _read_points(path: Path, chain_spec: str | None) -> tuple[np.ndarray, np.nda
     return cols["temp_C"], cols["resistance_ohm"], False
 
 
-def _fit_text(fit: CalibrationFit, wrote: Path | None) -> str:
+def _fit_text(fit: CalibrationFit, wrote: Path | None, cautions: list[str]) -> str:
     lines = [
         f"{fit.model_name} fit: {fit.temp_C.size} points, {len(fit.fitted)} coefficients fitted, "
         f"{fit.dof} degrees of freedom",
@@ -65,6 +87,7 @@ def _fit_text(fit: CalibrationFit, wrote: Path | None) -> str:
     )
     lines += [f"note: {n}" for n in fit.notes]
     lines += [f"warning: {w}" for w in fit.warnings]
+    lines += [f"caution: {c}" for c in cautions]
     if wrote is not None:
         lines.append(f"wrote {wrote}")
     return "\n".join(lines)
@@ -87,6 +110,9 @@ def _fit_text(fit: CalibrationFit, wrote: Path | None) -> str:
     "--chain", "chain_spec", default=None, help=f"For a temp_C,counts CSV: {CHAIN_SPEC_HELP}."
 )
 @click.option("--r0", type=float, default=None, help="Hold R0 fixed (callendar-van-dusen), Ω.")
+@click.option(
+    "--t25", type=float, default=25.0, show_default=True, help="Reference temperature of beta, °C."
+)
 @click.option("--id", "probe_id", default=None, help="Probe id for --out (default: file stem).")
 @click.option("--reference", default=None, help="Reference thermometer used (needed with --out).")
 @click.option(
@@ -101,6 +127,7 @@ def fit_command(
     range_C: tuple[float, float] | None,
     chain_spec: str | None,
     r0: float | None,
+    t25: float,
     probe_id: str | None,
     reference: str | None,
     cal_date: str | None,
@@ -109,13 +136,14 @@ def fit_command(
 ) -> None:
     """Fit a probe curve to calibration points (CSV: temp_C,resistance_ohm or temp_C,counts)."""
     temps, values, is_counts = _read_points(points, chain_spec)
-    options: dict[str, Any] = {"ref_u_K": ref_u, "range_C": range_C, "r0_ohm": r0}
+    options: dict[str, Any] = {"ref_u_K": ref_u, "range_C": range_C, "r0_ohm": r0, "t25_C": t25}
     if is_counts:
         assert chain_spec is not None
         fit = fit_counts(temps, values, chain_from_spec(chain_spec), model, **options)
     else:
         fit = fit_resistance(temps, values, model, **options)
     payload = fit.to_dict()
+    payload["cautions"] = bath_cautions(fit.temp_C)
     if out is not None:
         if not reference:
             raise InputError("--out needs --reference naming the reference thermometer used")
@@ -132,7 +160,7 @@ def fit_command(
             raise InputError(f"{out}: cannot write ({exc.strerror})") from None
         payload["probe_file"] = str(out)
         payload["uncertainty_K"] = probe_file.uncertainty_K
-    emit(as_json, payload, lambda: _fit_text(fit, out))
+    emit(as_json, payload, lambda: _fit_text(fit, out, payload["cautions"]))
 
 
 def _model_from(
