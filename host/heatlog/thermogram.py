@@ -13,7 +13,7 @@ import io
 import os
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
@@ -102,7 +102,7 @@ def _parse_iso(cell: str, row: int, where: str) -> float:
             "such as 2026-03-01T10:15:00"
         ) from None
     if stamp.tzinfo is None:
-        stamp = stamp.replace(tzinfo=timezone.utc)
+        stamp = stamp.replace(tzinfo=UTC)
     return stamp.timestamp()
 
 

@@ -9,10 +9,12 @@ where T_f and s_f are the fitted temperature and drift rate at the centre time o
   exponential approach, T(t) = T_ref + s·(1 − e^(−k(t − t_ref)))/k. For a fixed k the model is
   linear in (T_f, T_a, s_f), so k is found by a one-dimensional search (variable projection).
 
-Choice (``model="auto"``): both models have four parameters; the Newtonian model is taken when its
-Akaike information criterion (Akaike 1974, AIC = n·ln(RSS/n) + 2p) is lower than the linear one's
-by more than 2, i.e. when the curvature of the drift is resolved by the data; otherwise the linear
-model, which is what the curvature-free data support.
+Choice (``model="auto"``): both models have four parameters. Newton's law is the physical model
+(the linear form is its limit for k·period → 0, and straight lines extrapolated to the ends of a
+long curved period are biased even where noise hides the curvature), so it is taken unless the
+linear model's Akaike information criterion (Akaike 1974, AIC = n·ln(RSS/n) + 2p) is lower by more
+than 2, i.e. unless the data contradict Newton's law (e.g. drift rates that do not fall on one line
+in temperature).
 
 Uncertainties use the sandwich form: parameter changes are a linear map P of the readings
 (P = (JᵀJ)⁻¹Jᵀ), each reading has the residual variance of its own period, inflated by
@@ -298,11 +300,15 @@ def fit_drift(
     lin = _fit("linear", fore_t, fore_y, after_t, after_y)
     newt = _fit("newtonian", fore_t, fore_y, after_t, after_y)
     if model == "auto":
-        pick_newton = newt.aic < lin.aic - AIC_MARGIN
-        chosen = newt if pick_newton else lin
+        pick_linear = lin.aic < newt.aic - AIC_MARGIN
+        chosen = lin if pick_linear else newt
         why = (
             f"AIC newtonian {newt.aic:.1f} vs linear {lin.aic:.1f}: "
-            + ("curvature resolved, Newtonian" if pick_newton else "no resolved curvature, linear")
+            + (
+                "straight lines fit clearly better, the drift is not Newtonian; linear"
+                if pick_linear
+                else "Newton's law is not contradicted by the data; newtonian"
+            )
         )
     else:
         chosen = lin if model == "linear" else newt

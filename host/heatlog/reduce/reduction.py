@@ -3,12 +3,13 @@
 :func:`reduce_thermogram` finds the events (``events``), fits the drift (``drift``), applies every
 correction (``correction``) and builds the budget (``uncertainty``).
 
-Automatic method choice (``method="auto"``), stated criterion: Regnault–Pfaundler, which assumes
-only Newtonian exchange and nothing about the shape of the release, unless the rise is sampled too
-coarsely for its trapezoid integral (fewer than ``MIN_RISE_SAMPLES`` readings between 10 % and 90 %
-of the change) *and* the Newton-model fit describes the main period within the noise (RMS residual
-in the main period ≤ 2× the drift-period noise); then the Newton-model fit, which integrates the
-vessel model analytically.
+Automatic method choice (``method="auto"``), stated criterion: of the methods whose assumptions the
+data support, the one with the smallest standard uncertainty (budget without the method spread).
+Regnault–Pfaundler always qualifies (it assumes only Newtonian exchange, nothing about the shape
+of the release). The Newton-model fit qualifies when it describes the main period within the noise
+(RMS residual there ≤ 2× the drift-period noise, resolution and 1 µK floor); it then uses the
+whole curve and is often more precise. The Dickinson forms are reported and, equal-area,
+enter the method spread; they are chosen only on request.
 
 Long logs are averaged in blocks down to ``MAX_POINTS`` points first (block means keep the time
 integral and the drift fits are unchanged in expectation), so the work is O(n) and small.
@@ -22,6 +23,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from heatlog.errors import ReductionError
+from heatlog.gum import Budget, Component
 from heatlog.reduce.correction import (
     METHODS,
     NewtonFit,
@@ -41,11 +43,9 @@ from heatlog.reduce.events import (
     reading_noise,
 )
 from heatlog.reduce.uncertainty import delta_t_budget, resolution_u
-from heatlog.gum import Budget, Component
 from heatlog.thermogram import Thermogram
 
 MAX_POINTS = 4000
-MIN_RISE_SAMPLES = 8
 NEWTON_RMS_FACTOR = 2.0
 
 
@@ -183,15 +183,6 @@ def _one_pass(t, y, lo, t0, ta, hi, drift_model: str) -> _Pass:
     return _Pass(choice, values, mp.t)
 
 
-def _rise_samples(mp_t: np.ndarray, y: np.ndarray, t: np.ndarray, fit: DriftFit) -> int:
-    inside = (t > mp_t[0]) & (t < mp_t[-1])
-    tt, yy = t[inside], y[inside]
-    if tt.size == 0:
-        return 0
-    frac = (yy - fit.fore(tt)) / (fit.after(tt) - fit.fore(tt))
-    return int(np.count_nonzero((frac > 0.1) & (frac < 0.9)))
-
-
 def reduce_thermogram(
     thermogram: Thermogram,
     *,
@@ -288,52 +279,30 @@ def reduce_thermogram(
         ),
     }
 
-    n_rise = _rise_samples(mp.t, y, t, fit)
-    if method == "auto":
-        if n_rise < MIN_RISE_SAMPLES and newton_ok:
-            chosen = "newton"
-            reason = f"rise sampled by {n_rise} < {MIN_RISE_SAMPLES} readings and the Newton fit matches"
-        else:
-            chosen = "regnault-pfaundler"
-            reason = (
-                f"rise sampled by {n_rise} readings"
-                if n_rise >= MIN_RISE_SAMPLES
-                else "rise coarsely sampled but the Newton fit does not match the main period"
-            ) + "; Regnault–Pfaundler needs only Newtonian exchange"
-    else:
-        chosen = method
-        reason = "requested"
-        if method == "newton" and not newton_ok:
-            notes.append("the Newton-model fit does not describe the main period within the noise")
-    value = values[chosen]
-    if not math.isfinite(value):
-        raise ReductionError(f"the {chosen} method failed on this log; try --method regnault-pfaundler")
-
-    # --- uncertainty ---------------------------------------------------------------------------
-    extra: list[Component] = []
-    u_fore = u_after = u_noise = 0.0
     nf, na = fit.fore_t.size, fit.after_t.size
-    if chosen == "newton":
-        extra.append(Component("Newton-model fit", value, newton.u_delta_t_K, 1.0, "K",
-                               max(fit.n - 7, 1), "A", "covariance of the whole-curve fit"))
-    else:
-        funcs = {
-            "regnault-pfaundler": lambda f: regnault_pfaundler(main_period(t, y, f, t0, ta), f),
-            "dickinson": lambda f: dickinson(main_period(t, y, f, t0, ta), f)[0],
-            "dickinson-60": lambda f: dickinson_60(main_period(t, y, f, t0, ta), f)[0],
-        }
-        u_fore, u_after, _ = fit.u_of(funcs[chosen])
+    funcs = {
+        "regnault-pfaundler": lambda f: regnault_pfaundler(main_period(t, y, f, t0, ta), f),
+        "dickinson": lambda f: dickinson(main_period(t, y, f, t0, ta), f)[0],
+        "dickinson-60": lambda f: dickinson_60(main_period(t, y, f, t0, ta), f)[0],
+    }
+    u_res = resolution_u(q, noise)
+
+    def parts(name: str) -> tuple[float, float, float, list[Component]]:
+        """Fore, after and main-noise uncertainty and extra components of one method."""
+        if name == "newton":
+            comp = Component("Newton-model fit", values["newton"], newton.u_delta_t_K, 1.0, "K",
+                             max(fit.n - 7, 1), "A", "covariance of the whole-curve fit")
+            return 0.0, 0.0, 0.0, [comp]
+        u_f, u_a, _ = fit.u_of(funcs[name])
         sigma_main = max(fit.sigma_fore, fit.sigma_after)
         w = trapezoid_weights(mp.t)[1:-1]
-        u_noise = abs(fit.k_per_s) * sigma_main * float(np.sqrt(np.sum(w**2)))
-        if not math.isfinite(u_noise):
-            u_noise = 0.0
+        u_n = abs(fit.k_per_s) * sigma_main * float(np.sqrt(np.sum(w**2)))
+        return u_f, u_a, (u_n if math.isfinite(u_n) else 0.0), []
 
     # boundaries: main-period start earlier, after-period start later
     shift0 = max(rr.window_s / 2, 30.0)
     shift1 = max(2 * tau, 30.0)
-    ref_method = chosen if chosen != "newton" else "regnault-pfaundler"
-    spreads = []
+    alternatives = []
     for d0, d1 in ((shift0, 0.0), (0.0, shift1), (shift0, shift1)):
         a0, a1 = t0 - d0, ta + d1
         try:
@@ -341,17 +310,54 @@ def reduce_thermogram(
             _period_check(t, a1, hi, "after-period", "")
         except ReductionError:
             continue
-        alt = _one_pass(t, y, lo, a0, a1, hi, fit.model)
-        spreads.append(abs(alt.values[ref_method] - base.values[ref_method]))
-    boundary = max(spreads) if spreads else 0.0
-    if not spreads:
+        alternatives.append(_one_pass(t, y, lo, a0, a1, hi, fit.model).values)
+    if not alternatives:
         notes.append("periods too short to vary the boundaries; boundary component omitted")
+
+    def boundary_spread(name: str) -> float:
+        ref = name if name != "newton" else "regnault-pfaundler"
+        return max((abs(a[ref] - base.values[ref]) for a in alternatives), default=0.0)
+
+    def u_without_spread(name: str) -> float:
+        u_f, u_a, u_n, extra = parts(name)
+        b = boundary_spread(name) / math.sqrt(3.0)
+        return math.sqrt(u_f**2 + u_a**2 + u_n**2 + b**2 + u_res**2 + sum(c.u**2 for c in extra))
+
+    if method == "auto":
+        u_rp = u_without_spread("regnault-pfaundler")
+        u_nt = u_without_spread("newton") if newton_ok else math.inf
+        if u_nt < u_rp:
+            chosen = "newton"
+            reason = (
+                f"the Newton-model fit matches the main period within the noise and is more "
+                f"precise (u {u_nt:.2g} K vs {u_rp:.2g} K for Regnault–Pfaundler)"
+            )
+        else:
+            chosen = "regnault-pfaundler"
+            reason = (
+                "Regnault–Pfaundler needs only Newtonian exchange; "
+                + (
+                    f"it is at least as precise as the Newton fit (u {u_rp:.2g} K vs {u_nt:.2g} K)"
+                    if newton_ok
+                    else "the Newton-model fit does not match the main period within the noise"
+                )
+            )
+    else:
+        chosen = method
+        reason = "requested"
+        if method == "newton" and not newton_ok:
+            notes.append("the Newton-model fit does not describe the main period within the noise")
+    value = values[chosen]
+    if not math.isfinite(value):
+        raise ReductionError(
+            f"the {chosen} method failed on this log; try --method regnault-pfaundler"
+        )
 
     others = ["regnault-pfaundler", "dickinson"] + (["newton"] if newton_ok else [])
     if chosen == "dickinson-60":
         others = ["regnault-pfaundler"]
     method_spread = max((abs(values[m] - value) for m in others if m != chosen), default=0.0)
-
+    u_fore, u_after, u_noise, extra = parts(chosen)
     budget = delta_t_budget(
         value=value,
         u_fore=u_fore,
@@ -359,8 +365,8 @@ def reduce_thermogram(
         dof_fore=max(nf - 2, 1),
         dof_after=max(na - 2, 1),
         u_noise=u_noise,
-        u_resolution=resolution_u(q, noise),
-        boundary_spread=boundary,
+        u_resolution=u_res,
+        boundary_spread=boundary_spread(chosen),
         method_spread=method_spread,
         method=chosen,
         extra=extra,

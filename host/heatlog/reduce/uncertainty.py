@@ -44,17 +44,17 @@ def delta_t_budget(
     extra: Sequence[Component] = (),
 ) -> Budget:
     comps = [
-        Component("fore-period drift fit", value, u_fore, 1.0, "K", dof_fore, "A",
+        Component("fore-period drift fit", 0.0, u_fore, 1.0, "K", dof_fore, "A",
                   "fore-period readings through the drift fit"),
-        Component("after-period drift fit", value, u_after, 1.0, "K", dof_after, "A",
+        Component("after-period drift fit", 0.0, u_after, 1.0, "K", dof_after, "A",
                   "after-period readings through the drift fit"),
-        Component("main-period reading noise", value, u_noise, 1.0, "K", math.inf, "A",
+        Component("main-period reading noise", 0.0, u_noise, 1.0, "K", math.inf, "A",
                   "k·σ·√Σw² of the exchange integral"),
-        Component("resolution", value, u_resolution, 1.0, "K", math.inf, "B",
+        Component("resolution", 0.0, u_resolution, 1.0, "K", math.inf, "B",
                   "√2·q/√12 at the two ends (JCGM 100 F.2.2.1)"),
-        Component("period boundaries", value, boundary_spread / SQRT3, 1.0, "K", math.inf, "B",
+        Component("period boundaries", 0.0, boundary_spread / SQRT3, 1.0, "K", math.inf, "B",
                   "largest change with moved boundaries, rectangular"),
-        Component("method spread", value, method_spread / SQRT3, 1.0, "K", math.inf, "B",
+        Component("method spread", 0.0, method_spread / SQRT3, 1.0, "K", math.inf, "B",
                   "largest difference to other applicable methods, rectangular"),
         *extra,
     ]
