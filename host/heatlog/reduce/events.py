@@ -8,8 +8,8 @@ Criterion (stated, our own design):
    dT/dt = g(T) = a − kT (module ``drift``). Fit that line robustly (iteratively trimmed least
    squares, points beyond 4σ dropped) and take the residual r(t) = dT/dt − g(T).
 3. An event is a run of |r| > 5σ_r (σ_r: 1.4826·MAD of r on the quiet points); runs of the same
-   sign closer than W are merged; runs whose size ∫r dt is below 10× the reading noise or 5
-   resolution steps are dropped.
+   sign closer than W are merged; runs whose size ∫r dt is below 10× the reading noise, 5
+   resolution steps or 0.1 mK are dropped.
 4. Event start: walk back from the first crossing of 5σ_r to where |r| falls below σ_r, then a further
    W/2 + 2h earlier (the smoothing window spreads the onset; an early start costs nothing, since the
    corrections are exact for any start inside the Newtonian fore-period).
@@ -34,6 +34,7 @@ from scipy.signal import savgol_filter
 MIN_PERIOD_S = 120.0
 MIN_PERIOD_POINTS = 12
 THRESHOLD_SIGMA = 5.0
+MIN_EVENT_K = 1e-4  # smaller changes are below any logger this tool serves
 
 
 @dataclass(frozen=True)
@@ -142,7 +143,7 @@ def detect_events(
         else:
             merged.append([a, b, s])
     noise = reading_noise(y) if noise_K is None else noise_K
-    min_size = max(10 * noise, 5 * resolution_K, 1e-9)
+    min_size = max(10 * noise, 5 * resolution_K, MIN_EVENT_K)
     events: list[Event] = []
     for a, b, s in merged:
         seg = r[a:b]
