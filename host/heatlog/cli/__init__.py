@@ -38,7 +38,10 @@ def main() -> None:
 
 
 # Modules under heatlog.cli that define one click command or group named like the module.
-_COMMAND_MODULES: tuple[tuple[str, str], ...] = (("probe", "probe"),)
+_COMMAND_MODULES: tuple[tuple[str, str], ...] = (
+    ("probe", "probe"),
+    ("reduce", "reduce"),
+)
 
 
 def _register() -> None:

@@ -1,0 +1,88 @@
+"""``heatlog reduce FILE``: corrected temperature change of one event in a logged thermogram."""
+
+from __future__ import annotations
+
+import click
+
+from heatlog.cli.output import emit, json_option
+from heatlog.reduce import METHODS, Reduction, reduce_thermogram
+from heatlog.thermogram import read_thermogram_csv
+
+CAUTION = (
+    "Caution: hot liquids, acids/bases, heaters and cold packs can injure; follow the safety data "
+    "sheets, local codes and your lab's rules."
+)
+
+
+def _text(red: Reduction) -> str:
+    drift = red.drift
+    k, u_k, t_inf, u_t = drift.k_and_t_inf()
+    lines = [
+        f"corrected ΔT = {red.delta_t_K:+.5f} K, u = {red.u_delta_t_K:.2g} K, "
+        f"U(k=2) = {red.U_delta_t_K:.2g} K  [{red.method}]",
+        f"  naive (extreme reading − start reading) = {red.naive_delta_t_K:+.5f} K",
+        f"  main period {red.event_start_s:.1f} s → after-period from {red.after_start_s:.1f} s "
+        f"(fore-period from {red.fore_start_s:.1f} s, after-period to {red.after_end_s:.1f} s)",
+        f"  drift: {drift.model}, k = {k:.3g} ± {u_k:.2g} 1/s, T∞ = "
+        + (f"{t_inf:.3f} ± {u_t:.2g} °C" if t_inf == t_inf else "undefined (k ≈ 0)"),
+        f"  method choice: {red.method_reason}",
+        "  methods: " + ", ".join(f"{m} {r.delta_t_K:+.5f}" for m, r in red.methods.items()),
+        f"  events found: {len(red.events)}"
+        + "".join(
+            f"\n    [{e.index}] start {e.start_s:.1f} s, after {e.after_start_s:.1f} s, "
+            f"{'rising' if e.direction > 0 else 'falling'}, ≈{e.size_K:+.3g} K"
+            for e in red.events
+        ),
+        "",
+        red.budget.table(),
+    ]
+    lines += [f"note: {n}" for n in red.notes]
+    lines.append(CAUTION)
+    return "\n".join(lines)
+
+
+@click.command("reduce")
+@click.argument("file", type=click.Path(dir_okay=False, path_type=str))
+@click.option("--time-col", default="time_s", show_default=True, help="Column with the time.")
+@click.option("--temp-col", default="temp_C", show_default=True, help="Column with °C readings.")
+@click.option("--iso-time", is_flag=True, help="The time column holds ISO-8601 timestamps.")
+@click.option(
+    "--method",
+    type=click.Choice(["auto", *METHODS]),
+    default="auto",
+    show_default=True,
+    help="Correction method.",
+)
+@click.option("--event", "event_index", type=click.IntRange(min=0), default=0, show_default=True,
+              help="Which detected event to reduce (0 = first).")
+@click.option("--event-start", type=float, default=None, help="Main-period start, s (override).")
+@click.option("--after-start", type=float, default=None, help="After-period start, s (override).")
+@click.option("--resolution", type=click.FloatRange(min=0.0), default=None,
+              help="Reading step in K (ADC/probe resolution); default: from the data, else 0.")
+@json_option
+def reduce(
+    file: str,
+    time_col: str,
+    temp_col: str,
+    iso_time: bool,
+    method: str,
+    event_index: int,
+    event_start: float | None,
+    after_start: float | None,
+    resolution: float | None,
+    as_json: bool,
+) -> None:
+    """Corrected temperature change (with uncertainty) of one event in FILE (CSV)."""
+    thermogram = read_thermogram_csv(file, time_col=time_col, temp_col=temp_col, iso_time=iso_time)
+    red = reduce_thermogram(
+        thermogram,
+        method=method,
+        event_index=event_index,
+        event_start_s=event_start,
+        after_start_s=after_start,
+        resolution_K=resolution,
+    )
+    payload = red.to_dict()
+    payload["file"] = file
+    payload["caution"] = CAUTION
+    emit(as_json, payload, lambda: _text(red))

@@ -1,0 +1,61 @@
+"""The uncertainty budget of a corrected temperature change (GUM, JCGM 100:2008).
+
+Components, all in kelvin with sensitivity 1 (each is already the effect on the result):
+
+* fore-period drift fit and after-period drift fit: the readings of each period propagated through
+  the drift fit into the result (sandwich form, see ``drift``), Type A;
+* reading noise in the main period: the noise of the readings between t₀ and tₙ enters
+  Regnault–Pfaundler through k·∫T dt, so u = |k|·σ·√Σwᵢ² (trapezoid weights wᵢ), Type A;
+* resolution: the two end temperatures are each known to a quantisation step q, u = √2·q/√12
+  (JCGM 100 F.2.2.1), Type B; only when the readings are not dithered by noise larger than q;
+* period boundaries: largest change of the result when the main-period start is moved earlier and
+  the after-period start later (see ``reduce_thermogram``), as a rectangular half-width (a/√3);
+* method spread: largest difference between the chosen result and the other exact methods that
+  apply (rectangular a/√3).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+
+from heatlog.gum import SQRT3, Budget, Component, quantisation
+
+
+def resolution_u(step_K: float, noise_K: float) -> float:
+    """√2·q/√12 for the two ends, dropped when noise > q already dithers the readings."""
+    if step_K <= 0 or noise_K > step_K:
+        return 0.0
+    return math.sqrt(2.0) * quantisation(step_K)
+
+
+def delta_t_budget(
+    *,
+    value: float,
+    u_fore: float,
+    u_after: float,
+    dof_fore: float,
+    dof_after: float,
+    u_noise: float,
+    u_resolution: float,
+    boundary_spread: float,
+    method_spread: float,
+    method: str,
+    extra: Sequence[Component] = (),
+) -> Budget:
+    comps = [
+        Component("fore-period drift fit", 0.0, u_fore, 1.0, "K", dof_fore, "A",
+                  "fore-period readings through the drift fit"),
+        Component("after-period drift fit", 0.0, u_after, 1.0, "K", dof_after, "A",
+                  "after-period readings through the drift fit"),
+        Component("main-period reading noise", 0.0, u_noise, 1.0, "K", math.inf, "A",
+                  "k·σ·√Σw² of the exchange integral"),
+        Component("resolution", 0.0, u_resolution, 1.0, "K", math.inf, "B",
+                  "√2·q/√12 at the two ends (JCGM 100 F.2.2.1)"),
+        Component("period boundaries", 0.0, boundary_spread / SQRT3, 1.0, "K", math.inf, "B",
+                  "largest change with moved boundaries, rectangular"),
+        Component("method spread", 0.0, method_spread / SQRT3, 1.0, "K", math.inf, "B",
+                  "largest difference to other applicable methods, rectangular"),
+        *extra,
+    ]
+    return Budget(f"corrected temperature change ({method})", value, "K", tuple(comps))

@@ -1,0 +1,117 @@
+"""Corrected ΔT against synthetic Newtonian runs with a known adiabatic change (invented data).
+
+Sources: Regnault–Pfaundler in the ISO 1928 Annex C form and the Dickinson extrapolation of
+ASTM D240 / D5865 (REFERENCES.md); Newton's-law vessel model (REFERENCES.md). The truth is the
+adiabatic change the generator releases; the generator is checked against scipy's ODE solver in
+test_synthetic.py.
+"""
+
+import math
+
+import pytest
+from heatlog.errors import ReductionError
+from heatlog.reduce import reduce_thermogram
+from heatlog.reduce.synthetic import Release, synthetic_run
+
+
+def _clean(**kw):
+    base = dict(releases=(Release(600.0, 5.0, 20.0),), duration_s=2400.0, dt_s=0.5,
+                k_per_s=5e-4, jacket_C=22.0, start_C=20.0)
+    base.update(kw)
+    return synthetic_run(**base)
+
+
+def test_regnault_pfaundler_exact_on_noise_free_newtonian_run():
+    # ISO 1928 Annex C: exact for Newtonian exchange; only the trapezoid rule remains (1e-4 K).
+    red = reduce_thermogram(_clean().thermogram, method="regnault-pfaundler")
+    assert red.delta_t_K == pytest.approx(5.0, abs=1e-4)
+    assert red.drift.model == "newtonian"
+    assert red.k_per_s == pytest.approx(5e-4, rel=1e-4)
+    assert red.t_inf_C == pytest.approx(22.0, abs=1e-3)
+
+
+def test_regnault_pfaundler_needs_no_release_shape_heater_with_lag():
+    run = _clean(releases=(Release(600.0, 3.0, 120.0, "heater"),), probe_lag_s=6.0)
+    red = reduce_thermogram(run.thermogram)
+    assert red.method == "regnault-pfaundler"  # the first-order release model does not fit
+    assert not red.methods["newton"].applicable
+    assert red.delta_t_K == pytest.approx(3.0, abs=1e-4)
+
+
+@pytest.mark.parametrize("method, rel", [("dickinson", 0.005), ("dickinson-60", 0.005)])
+def test_dickinson_within_half_a_percent(method, rel):
+    # ASTM D240 / D5865 form (60 % rule) and the equal-area extrapolation time.
+    red = reduce_thermogram(_clean(probe_lag_s=4.0).thermogram, method=method)
+    assert red.delta_t_K == pytest.approx(5.0, rel=rel)
+    assert red.method == method
+
+
+def test_newton_fit_recovers_release_with_probe_lag():
+    run = _clean(probe_lag_s=7.0, dt_s=2.0)
+    red = reduce_thermogram(run.thermogram, method="newton")
+    assert red.delta_t_K == pytest.approx(5.0, abs=1e-4)
+    assert red.newton.tau_probe_s == pytest.approx(7.0, rel=0.01)
+    assert red.newton.tau_release_s == pytest.approx(20.0, rel=0.01)
+
+
+def test_naive_peak_reading_errs_by_several_percent_on_a_leaky_vessel():
+    run = _clean(k_per_s=1e-3, releases=(Release(600.0, 4.0, 60.0),), jacket_C=20.0)
+    red = reduce_thermogram(run.thermogram)
+    assert red.delta_t_K == pytest.approx(4.0, rel=1e-4)
+    assert (4.0 - red.naive_delta_t_K) / 4.0 > 0.05
+
+
+def test_falling_event_is_signed():
+    run = _clean(releases=(Release(600.0, -3.2, 15.0),), noise_K=0.005, probe_lag_s=3.0, seed=4)
+    red = reduce_thermogram(run.thermogram)
+    assert red.delta_t_K < 0
+    assert abs(red.delta_t_K + 3.2) <= red.U_delta_t_K
+    assert red.naive_delta_t_K < 0
+
+
+def test_select_second_event_and_manual_override():
+    run = synthetic_run(
+        releases=(Release(400.0, 3.0, 60.0, "heater"), Release(1800.0, -4.0, 20.0)),
+        duration_s=3300.0, dt_s=1.0, k_per_s=3e-4, probe_lag_s=3.0, noise_K=0.01, seed=2,
+    )
+    first = reduce_thermogram(run.thermogram, event_index=0)
+    second = reduce_thermogram(run.thermogram, event_index=1)
+    assert len(second.events) == 2
+    assert abs(first.delta_t_K - 3.0) <= first.U_delta_t_K
+    assert abs(second.delta_t_K + 4.0) <= second.U_delta_t_K
+    manual = reduce_thermogram(run.thermogram, event_start_s=1750.0, after_start_s=2100.0)
+    assert manual.event_start_s == 1750.0 and manual.after_start_s == 2100.0
+    assert abs(manual.delta_t_K + 4.0) <= manual.U_delta_t_K
+    with pytest.raises(ReductionError, match="event 5 does not exist; 2 event"):
+        reduce_thermogram(run.thermogram, event_index=5)
+
+
+def test_budget_components_and_dict():
+    run = _clean(noise_K=0.01, resolution_K=0.02, seed=1)
+    red = reduce_thermogram(run.thermogram)
+    names = [c.name for c in red.budget.components]
+    assert names[:6] == [
+        "fore-period drift fit", "after-period drift fit", "main-period reading noise",
+        "resolution", "period boundaries", "method spread",
+    ]
+    assert red.resolution_K == pytest.approx(0.02)  # found from the data
+    assert red.u_delta_t_K == pytest.approx(red.budget.u)
+    d = red.to_dict()
+    assert d["U_delta_t_K"] == pytest.approx(2 * d["u_delta_t_K"])
+    assert set(d["methods"]) == {"regnault-pfaundler", "dickinson", "dickinson-60", "newton"}
+    assert d["drift"]["model"] in ("linear", "newtonian")
+    assert math.isfinite(d["drift"]["k_per_s"])
+
+
+@pytest.mark.parametrize(
+    "kw, fragment",
+    [
+        (dict(releases=(Release(60.0, 2.0, 10.0),)), "fore-period lasts"),
+        (dict(releases=(Release(2300.0, 2.0, 10.0),)), "after-period lasts"),
+        (dict(releases=()), "no event found"),
+    ],
+    ids=["too-early", "too-late", "none"],
+)
+def test_reduction_errors(kw, fragment):
+    with pytest.raises(ReductionError, match=fragment):
+        reduce_thermogram(_clean(noise_K=0.005, dt_s=2.0, **kw).thermogram)
