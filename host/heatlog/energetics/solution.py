@@ -14,8 +14,9 @@ INCOMP library.
 
 Uncertainty (common practice, no source): u = 0.001 J/(g·K) + f·|c_p,water − c_p|, i.e. a share
 f of the solute's effect on c_p, with f = 0.03 for NaCl (356 fitted points) and 0.10 for the
-others. These shares are set to cover the spread between Laliberté and Melinder found in the
-tests over 5–40 °C up to 1 mol/kg; they are not a published figure.
+others. They are set to cover, at k = 2, the spread between the solute effects of Laliberté's
+model and Melinder's correlations (CoolProp INCOMP) found in the tests (NaCl 5–40 °C, KCl
+25–40 °C, 0.1–1 mol/kg); they are not a published figure.
 """
 
 from __future__ import annotations
@@ -235,7 +236,7 @@ def solution_cp_mass_fraction(solute: str, w: float, t_c: float) -> Input:
             f"for {solute}; give a measured c_p instead"
         )
     cpw = float(water_cp(t_c))
-    cp = (1.0 - w) * cpw + w * s.cp_solute(t_c, w)
+    cp = cpw if w == 0.0 else (1.0 - w) * cpw + w * s.cp_solute(t_c, w)
     u = _BASE_U + s.share_u * abs(cpw - cp)
     return Input(
         cp, u, "J/(g·K)", note=f"{solute}(aq), w = {w:.4g}, {t_c:g} °C; {SOURCE}; u: no source"
