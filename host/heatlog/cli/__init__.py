@@ -38,7 +38,10 @@ def main() -> None:
 
 
 # Modules under heatlog.cli that define one click command or group named like the module.
-_COMMAND_MODULES: tuple[tuple[str, str], ...] = ()
+_COMMAND_MODULES: tuple[tuple[str, str], ...] = (
+    ("energetics", "calibrate"),
+    ("energetics", "hess"),
+)
 
 
 def _register() -> None:

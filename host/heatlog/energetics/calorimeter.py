@@ -19,7 +19,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 from scipy import integrate
@@ -277,4 +277,6 @@ def combine_calibrations(results: Sequence[Input | Budget]) -> Budget:
             note=f"Birge ratio {birge:.3g}; s/√n = {u_a:.3g}",
         ),
     )
-    return Budget("C_cal (weighted mean of repeats)", mean, unit, comps)
+    b = Budget("C_cal (weighted mean of repeats)", mean, unit, comps)
+    # Student-t coverage factor for the Welch–Satterthwaite ν_eff (JCGM 100, G.4).
+    return replace(b, k=b.coverage_factor())
