@@ -295,13 +295,13 @@ def parse_reaction(text: str, resolve: Resolver | None = None) -> Reaction:
 
 def imbalance(reaction: Reaction) -> tuple[dict[str, Fraction], Fraction]:
     """Net element counts and net charge (products minus reactants); all zero when balanced."""
-    net: Counter[str] = Counter()
+    net: dict[str, Fraction] = {}
     charge = Fraction(0)
     for nu, sp in reaction.signed_terms():
         for el, k in sp.composition:
-            net[el] += nu * k
+            net[el] = net.get(el, Fraction(0)) + nu * k
         charge += nu * sp.charge
-    return {el: Fraction(v) for el, v in net.items() if v != 0}, charge
+    return {el: v for el, v in net.items() if v != 0}, charge
 
 
 def check_balance(reaction: Reaction) -> None:
