@@ -5,6 +5,8 @@ import json
 import pytest
 from click.testing import CliRunner
 from heatlog.cli import main
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 
 def run(*args):
@@ -126,6 +128,11 @@ def test_hess_text_json_and_compare():
         (["calibrate", "reaction", "--reference", "tris-hcl", "--amount", "0.5", "--u-amount",
           "0", "--reduce-json", "missing.json"], "no such file"),
         (["calibrate", "combine", "150"], "VALUE:U"),
+        (["calibrate", "electrical", "--power", "nan", "--u-power", "0.1", "--seconds", "300",
+          "--u-seconds", "1", "--delta-t", "2", "--u-delta-t", "0.01"], "finite"),
+        (["calibrate", "electrical", "--power", "18", "--u-power", "0.1", "--seconds", "300",
+          "--u-seconds", "1", "--delta-t", "2", "--u-delta-t", "0.01", "--water-g", "inf"],
+         "finite"),
         (["calibrate", "electrical", "--power", "18", "--u-power", "0.1", "--seconds", "300",
           "--u-seconds", "1", "--delta-t", "2", "--u-delta-t", "0.01", "--water-g", "100",
           "--solute", "CaCl2", "--molality", "0.1", "--temp", "20"], "25–100 °C"),
@@ -137,3 +144,14 @@ def test_bad_input_is_one_clear_line(args, message):
     lines = r.output.strip().splitlines()
     assert len(lines) == 1 and lines[0].startswith("Error: "), r.output
     assert message in lines[0]
+
+
+@given(st.text(alphabet="NaClHO()+-> 23^·aqsg", max_size=30))
+@settings(max_examples=100, deadline=None)
+def test_hess_fuzz_never_tracebacks(text):
+    r = run("hess", text, "--json")
+    if r.exit_code == 0:
+        assert json.loads(r.output)["budget"]["components"]
+    else:
+        assert r.exception is None or isinstance(r.exception, SystemExit), r.exception
+        assert r.output.startswith("Error: ") or "Usage" in r.output

@@ -154,6 +154,14 @@ def test_hydrates_and_aliases():
     assert reaction("urea(s) -> CO(NH2)2(s)")  # an alias parses to the same species
 
 
+def test_typeset_input():
+    # Subscripts, superscript charges and the U+2212 minus sign read as the plain forms.
+    typeset = reaction_enthalpy("MgSO₄(s) → Mg²⁺(aq) + SO₄²⁻(aq)")
+    plain = reaction_enthalpy("MgSO4(s) -> Mg^2+(aq) + SO4^2-(aq)")
+    assert typeset.value == plain.value
+    assert reaction_enthalpy("H⁺(aq) + OH−(aq) → H₂O(l)").value == pytest.approx(-55.815)
+
+
 def test_parentheses():
     assert dict(parse_formula("Ca(OH)2")[1]) == {"Ca": 1, "O": 2, "H": 2}
     assert dict(parse_formula("CO(NH2)2")[1]) == {"C": 1, "O": 1, "N": 2, "H": 4}

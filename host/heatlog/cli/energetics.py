@@ -8,6 +8,7 @@ holding ``Budget.to_dict()``.
 from __future__ import annotations
 
 import json
+import math
 from collections.abc import Callable
 from pathlib import Path
 from typing import Any
@@ -36,8 +37,10 @@ _number = click.FLOAT
 def _inp(value: float, u: float, unit: str, name: str) -> Any:
     from heatlog.gum import Input
 
-    if u < 0:
-        raise InputError(f"uncertainty of {name} must be zero or positive, got {u}")
+    if not math.isfinite(value):
+        raise InputError(f"{name} must be a finite number, got {value}")
+    if not (math.isfinite(u) and u >= 0):
+        raise InputError(f"uncertainty of {name} must be a finite number ≥ 0, got {u}")
     return Input(value, u, unit)
 
 
@@ -63,8 +66,9 @@ def _contents_options(f: Callable[..., Any]) -> Callable[..., Any]:
 def _contents(water_g, u_water_g, temp_c, solute, molality, cp, u_cp) -> list[Any]:
     from heatlog.energetics import Content, given_cp, solution_cp, water_cp_input
 
-    if water_g < 0:
-        raise InputError(f"--water-g must not be negative, got {water_g}")
+    _inp(temp_c, 0.0, "°C", "--temp")
+    if not (math.isfinite(water_g) and water_g >= 0):
+        raise InputError(f"--water-g must be a finite number ≥ 0, got {water_g}")
     if water_g == 0:
         return []
     if cp is not None:

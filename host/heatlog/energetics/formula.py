@@ -33,6 +33,9 @@ PHASES = {"s": "s", "cr": "s", "l": "l", "g": "g", "aq": "aq"}
 _HYDRATE_DOTS = "·•*."
 _ARROWS = ("->", "→", "=>", "=")
 _PHASE_RE = re.compile(r"\((s|cr|l|g|aq)\)\s*$")
+_SUBSCRIPTS = str.maketrans("₀₁₂₃₄₅₆₇₈₉", "0123456789")
+_SUPERSCRIPTS = str.maketrans("⁰¹²³⁴⁵⁶⁷⁸⁹⁺⁻", "0123456789+-")
+_SUPERSCRIPT_RUN = re.compile("[⁰¹²³⁴⁵⁶⁷⁸⁹⁺⁻]+")
 _COEFF_RE = re.compile(r"^\s*(\d+/\d+|\d+(?:\.\d+)?)\s*(?=[A-Z(\[])")
 
 
@@ -191,12 +194,19 @@ def _species(formula_text: str, charge: int, phase: str | None) -> Species:
     return Species(formula, charge, phase, comp)
 
 
+def normalise(text: str) -> str:
+    """Typeset input to plain text: subscript digits, superscript charges (SO₄²⁻ → SO4^2-), and
+    the minus sign U+2212."""
+    out = text.translate(_SUBSCRIPTS).replace("\u2212", "-")
+    return _SUPERSCRIPT_RUN.sub(lambda m: "^" + m.group().translate(_SUPERSCRIPTS), out)
+
+
 def parse_species(text: str) -> list[Species]:
     """Every reading of a species text; more than one only for a bare digit before a sign.
 
     Raises :class:`InputError` when no reading is a valid formula.
     """
-    s = text.strip()
+    s = normalise(text).strip()
     phase = None
     m = _PHASE_RE.search(s)
     if m:
@@ -277,7 +287,7 @@ def parse_reaction(text: str, resolve: Resolver | None = None) -> Reaction:
     Without ``resolve`` an ambiguous species ("Ca2+") raises :class:`InputError` asking for the
     explicit form. The result is not yet checked for balance: see :func:`check_balance`.
     """
-    left, right = split_reaction(text)
+    left, right = split_reaction(normalise(text))
     sides = []
     for part, where in ((left, "left"), (right, "right")):
         terms = []

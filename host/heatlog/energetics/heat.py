@@ -11,7 +11,6 @@ C_cal, ΔT, amount), propagated by the GUM law of propagation with the inputs un
 
 from __future__ import annotations
 
-import math
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, replace
 
@@ -216,10 +215,3 @@ def kirchhoff(
         return x["ΔH(T)"] + x["ΔCp"] * (t_ref_c - x["T"]) * 1e-3
 
     return propagate(f, inputs, quantity=f"ΔH at {t_ref_c:g} °C (Kirchhoff)", unit="kJ/mol")
-
-
-def check_finite(**values: float) -> None:
-    """Raise :class:`InputError` naming the first value that is not a finite number."""
-    for name, v in values.items():
-        if not math.isfinite(v):
-            raise InputError(f"{name} must be a finite number, got {v}")
