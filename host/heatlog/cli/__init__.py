@@ -41,6 +41,9 @@ def main() -> None:
 _COMMAND_MODULES: tuple[tuple[str, str], ...] = (
     ("probe", "probe"),
     ("reduce", "reduce"),
+    ("energetics", "calibrate"),
+    ("energetics", "hess"),
+    ("demo", "demo"),
 )
 
 

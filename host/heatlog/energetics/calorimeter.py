@@ -1,0 +1,282 @@
+"""The calorimeter's own heat capacity C_cal ("calorimeter constant"), by three methods.
+
+* Electrical: a known energy Q (V·I·t, P·t, or a logged power channel integrated by the
+  trapezoid rule) gives C_total = Q/ΔT, and C_cal = C_total − Σ m_i·c_p,i.
+* Mixing: hot water poured onto cold water in the calorimeter; with T_f extrapolated to the
+  mixing time, C_cal = [m_h c_p,h (T_h − T_f) − m_c c_p,c (T_f − T_c)]/(T_f − T_c).
+  The textbook form uses one c_p; here c_p,h and c_p,c are water at each stream's mean
+  temperature unless given.
+* Reference reaction or dissolution: a process of known ΔH (per gram or per mole) times the
+  amount gives q = −ΔH·amount, then C_total = q/ΔT as above.
+
+Repeated calibrations combine in :func:`combine_calibrations` (weighted mean; the scatter enters
+the uncertainty when it exceeds what the individual uncertainties explain).
+
+Each result is a :class:`heatlog.gum.Budget` in J/K whose components are the primitive inputs.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, replace
+
+import numpy as np
+from scipy import integrate
+
+from heatlog.energetics.heat import Content, as_input, content_inputs, heat_capacity_sum, substitute
+from heatlog.energetics.water import water_cp_input
+from heatlog.errors import CalibrationError, InputError
+from heatlog.gum import Budget, Component, Input, propagate, rectangular
+
+
+@dataclass(frozen=True)
+class ReferenceProcess:
+    """A process with a certified or published enthalpy, usable to calibrate a calorimeter."""
+
+    key: str
+    description: str
+    dh: Input  # J per unit of `per`
+    per: str  # "g" or "mol"
+    conditions: str
+    source: str
+    hazard: str
+
+
+REFERENCE_PROCESSES: dict[str, ReferenceProcess] = {
+    p.key: p
+    for p in (
+        ReferenceProcess(
+            "tris-hcl",
+            "tris(hydroxymethyl)aminomethane (SRM 724a) dissolved in 0.1 mol/L HCl",
+            Input(-245.76, 0.13, "J/g", note="±0.26 J/g taken as k = 2 (from memory)"),
+            "g",
+            "298.15 K, about 0.5 g tris per 100 mL of 0.1 N HCl",
+            "Prosen & Kilday, J. Res. NBS 77A (1973)",
+            "acid",
+        ),
+        ReferenceProcess(
+            "kcl",
+            "potassium chloride (SRM 1655) dissolved in water",
+            Input(17584.0, 10.0, "J/mol", note="±0.02 kJ/mol taken as k = 2 (from memory)"),
+            "mol",
+            "298.15 K, final molality 0.111 mol/kg (depends on both: match them)",
+            "Kilday 1980 (from memory)",
+            "",
+        ),
+    )
+}
+
+
+def _positive(name: str, x: Input) -> Input:
+    if not (math.isfinite(x.value) and x.value > 0):
+        raise InputError(f"{name} must be a positive number, got {x.value}")
+    if not (math.isfinite(x.u) and x.u >= 0):
+        raise InputError(f"uncertainty of {name} must be zero or positive, got {x.u}")
+    return x
+
+
+def electrical_energy(voltage: Input, current: Input, seconds: Input) -> Budget:
+    """Q = V·I·t in J (heater voltage by 4-wire sense, current from a shunt, heating time)."""
+    inputs = {
+        "V": _positive("heater voltage", as_input(voltage, "V")),
+        "I": _positive("heater current", as_input(current, "A")),
+        "t_heat": _positive("heating time", as_input(seconds, "s")),
+    }
+    return propagate(
+        lambda **x: x["V"] * x["I"] * x["t_heat"], inputs, quantity="Q = V·I·t", unit="J"
+    )
+
+
+def power_energy(power: Input, seconds: Input) -> Budget:
+    """Q = P·t in J for a heater of known steady power."""
+    inputs = {
+        "P": _positive("heater power", as_input(power, "W")),
+        "t_heat": _positive("heating time", as_input(seconds, "s")),
+    }
+    return propagate(lambda P, t_heat: P * t_heat, inputs, quantity="Q = P·t", unit="J")
+
+
+def logged_energy(
+    time_s: np.ndarray,
+    power_w: np.ndarray,
+    *,
+    u_power_rel: float,
+    u_time_rel: float = 0.0,
+) -> Budget:
+    """Q = ∫P dt by the trapezoid rule over a logged heater power channel.
+
+    ``u_power_rel`` is the relative standard uncertainty of the power channel's scale (a gain
+    error common to every sample, so it scales Q as a whole); ``u_time_rel`` that of the time base.
+    The integration error is estimated as the difference between the trapezoid and Simpson
+    rules, taken as the half-width of a rectangular distribution.
+    """
+    t = np.asarray(time_s, dtype=float)
+    p = np.asarray(power_w, dtype=float)
+    if t.ndim != 1 or t.shape != p.shape or t.size < 3:
+        raise InputError("the power log needs matching time and power columns with ≥ 3 rows")
+    if not (np.all(np.isfinite(t)) and np.all(np.isfinite(p))):
+        raise InputError("the power log holds a non-finite value")
+    if np.any(np.diff(t) <= 0):
+        raise InputError("the power log's times must increase strictly; sort it or drop repeats")
+    q = float(integrate.trapezoid(p, t))
+    if q <= 0:
+        raise InputError(f"the logged heater energy is {q:.4g} J; expected a positive energy")
+    integration = rectangular(q - float(integrate.simpson(p, x=t)))
+    comps = (
+        Component("∫P dt (trapezoid)", q, 0.0, 1.0, "J", note=f"{t.size} samples"),
+        Component("power scale", 1.0, u_power_rel, q, "", note="gain error common to all samples"),
+        Component("time base", 1.0, u_time_rel, q, ""),
+        Component("integration rule", 0.0, integration, 1.0, "J", note="|trapezoid − Simpson|/√3"),
+    )
+    return Budget("Q = ∫P dt", q, "J", comps)
+
+
+def _c_cal_from_heat(
+    q_inputs: dict[str, Input],
+    q_of: Callable[[dict[str, float]], float],
+    delta_t: Input,
+    contents: Sequence[Content],
+    quantity: str,
+) -> Budget:
+    dt = as_input(delta_t, "K")
+    if not (math.isfinite(dt.value) and dt.value != 0):
+        raise InputError(f"ΔT must be a non-zero number, got {dt.value}")
+    inputs = dict(q_inputs)
+    inputs["ΔT"] = dt
+    inputs.update(content_inputs(contents))
+
+    def c_cal(**x: float) -> float:
+        return q_of(x) / x["ΔT"] - heat_capacity_sum(contents, x)
+
+    b = propagate(c_cal, inputs, quantity=quantity, unit="J/K")
+    if b.value + heat_capacity_sum(contents, {k: v.value for k, v in inputs.items()}) <= 0:
+        raise CalibrationError(
+            f"the total heat capacity comes out {b.value:.4g} J/K + contents ≤ 0: the sign of ΔT "
+            "does not match the heat (an exothermic process warms, an endothermic one cools)"
+        )
+    return b
+
+
+def electrical_calibration(
+    energy: Budget | Input, delta_t: Input, contents: Sequence[Content]
+) -> Budget:
+    """C_cal = Q/ΔT − Σ m_i c_p,i (J/K) from an electrical energy and the corrected ΔT.
+
+    When ``energy`` is a budget (from :func:`electrical_energy`, :func:`power_energy` or
+    :func:`logged_energy`) its components appear in the result by the chain rule.
+    """
+    q = as_input(energy, "J")
+    _positive("electrical energy", q)
+    b = _c_cal_from_heat(
+        {"Q": q}, lambda x: x["Q"], delta_t, contents, "C_cal (electrical calibration)"
+    )
+    return substitute(b, "Q", energy) if isinstance(energy, Budget) else b
+
+
+def mixing_calibration(
+    m_hot: Input,
+    t_hot: Input,
+    m_cold: Input,
+    t_cold: Input,
+    t_final: Input,
+    *,
+    cp_hot: Input | None = None,
+    cp_cold: Input | None = None,
+) -> Budget:
+    """C_cal by the method of mixtures (J/K); temperatures in °C, masses in g.
+
+    The cold water is in the calorimeter at T_c; the hot water at T_h is added; T_f is the
+    common temperature extrapolated back to the mixing time. The three temperatures are taken as
+    uncorrelated; if one probe read them all, its calibration offset largely cancels in the
+    differences and this budget is conservative.
+    """
+    th, tc, tf = t_hot.value, t_cold.value, t_final.value
+    if not (tc < tf < th):
+        raise InputError(
+            f"need T_cold < T_final < T_hot, got {tc:g}, {tf:g}, {th:g} °C; check the order"
+        )
+    inputs = {
+        "m_h": _positive("hot water mass", as_input(m_hot, "g")),
+        "T_h": as_input(t_hot, "°C"),
+        "m_c": _positive("cold water mass", as_input(m_cold, "g")),
+        "T_c": as_input(t_cold, "°C"),
+        "T_f": as_input(t_final, "°C"),
+        "c_p,h": cp_hot or water_cp_input((th + tf) / 2),
+        "c_p,c": cp_cold or water_cp_input((tc + tf) / 2),
+    }
+
+    def c_cal(m_h: float, T_h: float, m_c: float, T_c: float, T_f: float, **cp: float) -> float:
+        return (m_h * cp["c_p,h"] * (T_h - T_f) - m_c * cp["c_p,c"] * (T_f - T_c)) / (T_f - T_c)
+
+    return propagate(c_cal, inputs, quantity="C_cal (method of mixtures)", unit="J/K")
+
+
+def reaction_calibration(
+    process: ReferenceProcess | Input,
+    amount: Input,
+    delta_t: Input,
+    contents: Sequence[Content],
+) -> Budget:
+    """C_cal from a process of known enthalpy (J per g or per mol, matching ``amount``).
+
+    q = −ΔH·amount is the heat the calorimeter takes up; C_cal = q/ΔT − Σ m_i c_p,i.
+    """
+    dh = process.dh if isinstance(process, ReferenceProcess) else process
+    if not (math.isfinite(dh.value) and dh.value != 0):
+        raise InputError(f"the reference enthalpy must be a non-zero number, got {dh.value}")
+    per = process.per if isinstance(process, ReferenceProcess) else ""
+    q_inputs = {
+        "ΔH_ref": dh,
+        "amount": _positive("amount of reference substance", as_input(amount, per)),
+    }
+    name = process.key if isinstance(process, ReferenceProcess) else "given process"
+    return _c_cal_from_heat(
+        q_inputs,
+        lambda x: -x["ΔH_ref"] * x["amount"],
+        delta_t,
+        contents,
+        f"C_cal (reference process: {name})",
+    )
+
+
+def combine_calibrations(results: Sequence[Input | Budget]) -> Budget:
+    """Weighted mean of repeated calibrations, with the scatter in the uncertainty.
+
+    Weights 1/u_i². The uncertainty is the largest of: the internal one 1/√Σw, that times the
+    Birge ratio R_B = √(χ²/(n−1)), and the type-A standard deviation of the plain mean s/√n.
+    The budget shows the internal part and, as a type-A component with n−1 degrees of freedom,
+    the extra scatter. The runs are taken as independent; errors they share (same thermometer,
+    same water c_p) do not average down, so carry those separately when they matter.
+    """
+    xs = [as_input(r) for r in results]
+    n = len(xs)
+    if n < 2:
+        raise InputError(f"need at least 2 calibrations to combine, got {n}")
+    if any(not (x.u > 0) for x in xs):
+        raise InputError("every calibration needs a positive standard uncertainty to be weighted")
+    v = np.array([x.value for x in xs])
+    w = 1.0 / np.array([x.u for x in xs]) ** 2
+    mean = float(np.sum(w * v) / np.sum(w))
+    u_int = float(1.0 / math.sqrt(np.sum(w)))
+    birge = math.sqrt(float(np.sum(w * (v - mean) ** 2)) / (n - 1))
+    u_a = float(np.std(v, ddof=1) / math.sqrt(n))
+    u = max(u_int, u_int * birge, u_a)
+    extra = math.sqrt(max(u**2 - u_int**2, 0.0))
+    unit = xs[0].unit or "J/K"
+    comps = (
+        Component("weighted mean (internal)", mean, u_int, 1.0, unit, note=f"{n} calibrations"),
+        Component(
+            "scatter beyond stated u",
+            0.0,
+            extra,
+            1.0,
+            unit,
+            dof=n - 1,
+            evaluation="A",
+            note=f"Birge ratio {birge:.3g}; s/√n = {u_a:.3g}",
+        ),
+    )
+    b = Budget("C_cal (weighted mean of repeats)", mean, unit, comps)
+    # Student-t coverage factor for the Welch–Satterthwaite ν_eff (JCGM 100, G.4).
+    return replace(b, k=b.coverage_factor())

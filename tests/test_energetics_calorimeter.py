@@ -1,0 +1,221 @@
+"""Calorimeter constant, heat and enthalpy budgets: hand-worked cases and GUM/JCGM 101 checks."""
+
+import math
+
+import numpy as np
+import pytest
+from heatlog.energetics.calorimeter import (
+    REFERENCE_PROCESSES,
+    combine_calibrations,
+    electrical_calibration,
+    electrical_energy,
+    logged_energy,
+    mixing_calibration,
+    power_energy,
+    reaction_calibration,
+)
+from heatlog.energetics.heat import (
+    Content,
+    heat,
+    kirchhoff,
+    limiting_reagent,
+    molar_enthalpy,
+    molar_enthalpy_monte_carlo,
+    specific_enthalpy,
+)
+from heatlog.errors import CalibrationError, InputError
+from heatlog.gum import Input
+
+
+def water(mass_g, u_m=0.0, cp=4.18, u_cp=0.0, name="water"):
+    return Content(name, Input(mass_g, u_m, "g"), Input(cp, u_cp, "J/(g·K)"))
+
+
+def test_electrical_worked_example():
+    # Invented data. Q = 12.00 V · 1.500 A · 300.0 s = 5400 J; ΔT = 2.400 K → C_total = 2250 J/K;
+    # 500.0 g water at 4.18 J/(g·K) hold 2090 J/K, so C_cal = 160.0 J/K.
+    q = electrical_energy(Input(12.0, 0.01), Input(1.5, 0.005), Input(300.0, 0.5))
+    assert q.value == pytest.approx(5400.0)
+    rel = math.sqrt((0.01 / 12) ** 2 + (0.005 / 1.5) ** 2 + (0.5 / 300) ** 2)
+    assert q.u == pytest.approx(5400.0 * rel, rel=1e-6)
+    b = electrical_calibration(q, Input(2.4, 0.01), [water(500.0)])
+    assert b.value == pytest.approx(160.0, abs=1e-9)
+    # GUM by hand: u(C)² = (u_Q/ΔT)² + (Q·u_ΔT/ΔT²)²
+    want = math.hypot(q.u / 2.4, 5400.0 * 0.01 / 2.4**2)
+    assert b.u == pytest.approx(want, rel=1e-6)
+    names = [c.name for c in b.components]
+    assert {"V", "I", "t_heat", "ΔT", "m(water)", "c_p(water)"} <= set(names)
+    assert "Q" not in names  # the energy budget is expanded by the chain rule
+
+
+def test_power_and_logged_energy_agree():
+    # Invented log: a steady 18.0 W heater sampled each second for 300 s.
+    t = np.arange(0.0, 301.0)
+    p = np.full_like(t, 18.0)
+    logged = logged_energy(t, p, u_power_rel=0.002)
+    steady = power_energy(Input(18.0, 0.036), Input(300.0, 0.0))
+    assert logged.value == pytest.approx(steady.value, rel=1e-12)
+    assert logged.u == pytest.approx(steady.u, rel=1e-9)
+
+
+def test_logged_energy_trapezoid_and_its_error_estimate():
+    # ∫_0^π sin(t) dt = 2 exactly; trapezoid with 21 samples underestimates by about 0.4 %,
+    # and the |trapezoid − Simpson|/√3 term must cover that error at k = 2.
+    t = np.linspace(0.0, math.pi, 21)
+    b = logged_energy(t, np.sin(t), u_power_rel=0.0)
+    assert b.value == pytest.approx(2.0, rel=5e-3)
+    assert abs(b.value - 2.0) <= 2 * b.u
+    with pytest.raises(InputError, match="increase"):
+        logged_energy(t[::-1], np.sin(t), u_power_rel=0.0)
+
+
+def test_mixing_worked_example():
+    # Invented data, worked by hand. 50.0 g of water at 60.0 °C poured onto 50.0 g at 20.0 °C in
+    # the calorimeter; extrapolated T_f = 38.5 °C; c_p = 4.18 J/(g·K) for both.
+    #   heat given by the hot water:  50.0 · 4.18 · (60.0 − 38.5) = 4493.5 J
+    #   heat taken by the cold water: 50.0 · 4.18 · (38.5 − 20.0) = 3866.5 J
+    #   the calorimeter took the rest, 627.0 J, over 18.5 K → C_cal = 627.0/18.5 = 33.892 J/K
+    # Uncertainty with u(T) = 0.1 K for each temperature and exact masses and c_p:
+    #   ∂C/∂T_h = m_h c/(T_f − T_c) = 209/18.5 = 11.297
+    #   ∂C/∂T_c = m_h c (T_h − T_f)/(T_f − T_c)² = 4493.5/342.25 = 13.129
+    #   ∂C/∂T_f = −m_h c (T_h − T_c)/(T_f − T_c)² = −8360/342.25 = −24.427
+    #   u(C) = 0.1 · √(11.297² + 13.129² + 24.427²) = 2.994 J/K
+    cp = Input(4.18, 0.0)
+    b = mixing_calibration(
+        Input(50.0, 0.0),
+        Input(60.0, 0.1),
+        Input(50.0, 0.0),
+        Input(20.0, 0.1),
+        Input(38.5, 0.1),
+        cp_hot=cp,
+        cp_cold=cp,
+    )
+    assert b.value == pytest.approx(33.892, abs=1e-3)
+    assert b.u == pytest.approx(2.994, abs=2e-3)
+    by_name = {c.name: c for c in b.components}
+    assert by_name["T_f"].sensitivity == pytest.approx(-24.427, abs=1e-3)
+
+
+def test_mixing_defaults_to_iapws_water_and_checks_order():
+    b = mixing_calibration(
+        Input(50.0, 0.01), Input(60.0, 0.1), Input(50.0, 0.01), Input(20.0, 0.1), Input(38.5, 0.1)
+    )
+    # water c_p near 4.18 J/(g·K), so the result is close to the fixed-c_p example above
+    assert b.value == pytest.approx(33.9, abs=0.5)
+    with pytest.raises(InputError, match="T_cold < T_final < T_hot"):
+        mixing_calibration(
+            Input(50.0, 0.0), Input(20.0, 0.1), Input(50.0, 0.0), Input(60.0, 0.1), Input(38.5, 0.1)
+        )
+
+
+def test_tris_reference_recovers_a_known_constant():
+    # Invented run built from the certified value (Prosen & Kilday 1973, −245.76 J/g): 0.5000 g
+    # tris releases 122.88 J; with 100.0 g of acid at 4.15 J/(g·K) (415 J/K) and C_cal = 50 J/K
+    # the rise is 122.88/465 K. The calibration must give back 50 J/K.
+    tris = REFERENCE_PROCESSES["tris-hcl"]
+    assert tris.dh.value == -245.76
+    dt = 0.5 * 245.76 / 465.0
+    b = reaction_calibration(tris, Input(0.5, 1e-4), Input(dt, 0.001), [water(100.0, cp=4.15)])
+    assert b.value == pytest.approx(50.0, abs=1e-9)
+
+
+def test_endothermic_reference_and_sign_check():
+    # KCl dissolution is endothermic (+17.584 kJ/mol, Kilday 1980, from memory): ΔT < 0.
+    kcl = REFERENCE_PROCESSES["kcl"]
+    n = 0.02  # mol
+    dt = -n * 17584.0 / (400.0 * 4.18 + 80.0)
+    b = reaction_calibration(kcl, Input(n, 1e-5), Input(dt, 1e-3), [water(400.0)])
+    assert b.value == pytest.approx(80.0, abs=1e-9)
+    with pytest.raises(CalibrationError, match="sign of ΔT"):
+        reaction_calibration(kcl, Input(n, 1e-5), Input(-dt, 1e-3), [water(400.0)])
+
+
+def test_combine_consistent_and_scattered():
+    # Consistent repeats (Birge ratio < 1): the internal uncertainty 1/√Σw stands.
+    vals = [Input(150.0, 2.0), Input(151.0, 2.0), Input(150.5, 2.0)]
+    b = combine_calibrations(vals)
+    assert b.value == pytest.approx(150.5)
+    s_mean = np.std([150.0, 151.0, 150.5], ddof=1) / math.sqrt(3)
+    assert b.u == pytest.approx(max(2.0 / math.sqrt(3), s_mean))
+    # Scattered, unequal u: weights 1/u², Birge ratio √(χ²/(n−1)) inflates u (JCGM-style check).
+    vals = [Input(150.0, 1.0), Input(160.0, 2.0), Input(152.0, 4.0)]
+    w = np.array([1.0, 0.25, 0.0625])
+    v = np.array([150.0, 160.0, 152.0])
+    mean = (w * v).sum() / w.sum()
+    u_int = 1 / math.sqrt(w.sum())
+    birge = math.sqrt((w * (v - mean) ** 2).sum() / 2)
+    u_a = v.std(ddof=1) / math.sqrt(3)
+    b = combine_calibrations(vals)
+    assert b.value == pytest.approx(mean)
+    assert b.u == pytest.approx(max(u_int, u_int * birge, u_a))
+    assert b.u > u_int
+    with pytest.raises(InputError, match="at least 2"):
+        combine_calibrations(vals[:1])
+
+
+def test_heat_budget_by_hand():
+    # q = (m c + C) ΔT = (100·4.18 + 30)·2.0 = 896 J
+    b = heat(Input(2.0, 0.01), Input(30.0, 3.0), [water(100.0, 0.05, 4.18, 0.004)])
+    assert b.value == pytest.approx(896.0)
+    want = math.sqrt(
+        (448.0 * 0.01) ** 2 + (2.0 * 3.0) ** 2 + (4.18 * 2 * 0.05) ** 2 + (100 * 2 * 0.004) ** 2
+    )
+    assert b.u == pytest.approx(want, rel=1e-6)
+
+
+def test_enthalpy_sign_and_units():
+    # Invented: 50.0 mL 1 M HCl + 50.0 mL 1 M NaOH → 0.0500 mol water; rise 6.60 K.
+    contents = [water(100.0, 0.1, 4.18, 0.004)]
+    b = molar_enthalpy(Input(6.6, 0.02), Input(25.0, 2.0), contents, Input(0.05, 0.0002))
+    q = (100.0 * 4.18 + 25.0) * 6.6
+    assert b.value == pytest.approx(-q / 0.05 / 1000)  # exothermic: ΔH < 0, kJ/mol
+    g = specific_enthalpy(Input(6.6, 0.02), Input(25.0, 2.0), contents, Input(2.0, 0.001))
+    assert g.value == pytest.approx(-q / 2.0)
+
+
+def test_monte_carlo_agrees_with_law_of_propagation():
+    # JCGM 101:2008 Monte Carlo vs JCGM 100 law of propagation for the molar enthalpy; with
+    # small relative uncertainties the model is near-linear, so mean and u agree closely.
+    args = (
+        Input(6.6, 0.02),
+        Input(25.0, 2.0),
+        [water(100.0, 0.1, 4.18, 0.004)],
+        Input(0.05, 0.0002),
+    )
+    lpu = molar_enthalpy(*args)
+    mc = molar_enthalpy_monte_carlo(*args, trials=200_000, seed=1)
+    assert mc.mean == pytest.approx(lpu.value, abs=0.02 * lpu.u)
+    assert mc.u == pytest.approx(lpu.u, rel=0.02)
+    assert mc.low < lpu.value - 1.9 * lpu.u and mc.high > lpu.value + 1.9 * lpu.u
+
+
+def test_limiting_reagent():
+    lim = limiting_reagent(
+        {"NaOH": Input(0.0500, 1e-4), "HCl": Input(0.0480, 1e-4)}, {"NaOH": 1, "HCl": 1}
+    )
+    assert lim.reagent == "HCl" and lim.extent.value == pytest.approx(0.048)
+    # 2 H2 + O2: 3 mol H2 and 2 mol O2 → H2 limits, ξ = 1.5 mol
+    lim = limiting_reagent({"H2": Input(3.0, 0.03), "O2": Input(2.0, 0.0)}, {"H2": 2, "O2": 1})
+    assert lim.reagent == "H2" and lim.extent.value == 1.5 and lim.extent.u == pytest.approx(0.015)
+    with pytest.raises(InputError, match="unmatched"):
+        limiting_reagent({"H2": Input(1.0, 0.0)}, {"O2": 1})
+
+
+def test_kirchhoff_correction():
+    # Neutralisation measured at 20 °C with ΔCp = +215 J/(K·mol) (magnitude from Singh et al.
+    # 1976 as listed in REFERENCES.md; positive for H+ + OH- → H2O, negative for the
+    # ionisation of water): ΔH(25) = ΔH(20) + 0.215·5 kJ/mol.
+    b = kirchhoff(Input(-56.89, 0.3), Input(20.0, 0.1), Input(215.0, 10.0))
+    assert b.value == pytest.approx(-56.89 + 1.075)
+    assert b.u == pytest.approx(
+        math.sqrt(0.3**2 + (0.215 * 0.1) ** 2 + (0.005 * 10) ** 2), rel=1e-6
+    )
+
+
+def test_bad_inputs():
+    with pytest.raises(InputError, match="positive"):
+        electrical_energy(Input(-1.0, 0.01), Input(1.0, 0.01), Input(10.0, 0.1))
+    with pytest.raises(InputError, match="non-zero"):
+        electrical_calibration(Input(100.0, 1.0), Input(0.0, 0.01), [])
+    with pytest.raises(InputError, match="distinct"):
+        heat(Input(1.0, 0.0), Input(1.0, 0.0), [water(1.0), water(2.0)])
