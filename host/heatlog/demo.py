@@ -132,7 +132,7 @@ class DemoResult:
     run: RunResult
 
     def to_dict(self) -> dict[str, Any]:
-        h = self.run.molar_enthalpy
+        h = self.run.molar
         c = self.calibration.c_cal
         assert h is not None and c is not None
         return {

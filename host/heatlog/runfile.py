@@ -43,8 +43,15 @@ from typing import Any
 import numpy as np
 
 from heatlog.csvtable import read_columns
-from heatlog.energetics import calorimeter, heat, hess, water
-from heatlog.energetics.heat import Content
+from heatlog.energetics import calorimeter, hess, water
+from heatlog.energetics.heat import (
+    SIGN_CONVENTION,
+    Content,
+    as_input,
+    heat,
+    molar_enthalpy,
+    specific_enthalpy,
+)
 from heatlog.errors import InputError
 from heatlog.gum import Budget, Input
 from heatlog.probes import chain_from_spec, load_probe
@@ -268,9 +275,9 @@ class RunResult:
     mean_temp_C: float
     contents: tuple[Content, ...]
     c_cal: Budget | None = None  # what this run calibrates, or the constant it used
-    heat: Budget | None = None
-    molar_enthalpy: Budget | None = None
-    specific_enthalpy: Budget | None = None
+    heat_J: Budget | None = None
+    molar: Budget | None = None
+    specific: Budget | None = None
     hess: hess.Comparison | None = None
     predicted: Budget | None = None
 
@@ -281,24 +288,24 @@ class RunResult:
         if self.c_cal is not None:
             key = "calorimeter_constant" if self.spec.electrical else "calorimeter_constant_used"
             out[key] = {"value_J_per_K": self.c_cal.value, "u_J_per_K": self.c_cal.u, "budget": self.c_cal.to_dict()}
-        if self.heat is not None:
-            out.update(heat_J=self.heat.value, u_heat_J=self.heat.u, heat_budget=self.heat.to_dict())
-        if self.molar_enthalpy is not None:
+        if self.heat_J is not None:
+            out.update(heat_J=self.heat_J.value, u_heat_J=self.heat_J.u, heat_budget=self.heat_J.to_dict())
+        if self.molar is not None:
             out.update(
-                enthalpy_kJ_per_mol=self.molar_enthalpy.value,
-                u_enthalpy_kJ_per_mol=self.molar_enthalpy.u,
-                U_enthalpy_kJ_per_mol=self.molar_enthalpy.expanded,
-                enthalpy_budget=self.molar_enthalpy.to_dict(),
+                enthalpy_kJ_per_mol=self.molar.value,
+                u_enthalpy_kJ_per_mol=self.molar.u,
+                U_enthalpy_kJ_per_mol=self.molar.expanded,
+                enthalpy_budget=self.molar.to_dict(),
             )
-        if self.specific_enthalpy is not None:
-            out.update(enthalpy_J_per_g=self.specific_enthalpy.value, u_enthalpy_J_per_g=self.specific_enthalpy.u)
+        if self.specific is not None:
+            out.update(enthalpy_J_per_g=self.specific.value, u_enthalpy_J_per_g=self.specific.u)
         if self.hess is not None and self.predicted is not None:
             out["hess"] = {
                 "predicted_kJ_per_mol": self.predicted.value,
                 "u_predicted_kJ_per_mol": self.predicted.u,
                 "comparison": self.hess.to_dict(),
             }
-        out["sign_convention"] = heat.SIGN_CONVENTION
+        out["sign_convention"] = SIGN_CONVENTION
         return out
 
 
@@ -360,7 +367,7 @@ def evaluate_run(
     dt = red.budget
 
     if spec.electrical is not None:
-        c = calorimeter.electrical_calibration(_energy(spec.electrical), heat.as_input(dt), list(contents))
+        c = calorimeter.electrical_calibration(_energy(spec.electrical), as_input(dt), list(contents))
         return RunResult(spec, red, mean_temp, contents, c_cal=c)
 
     c_cal: Budget | Input | None = spec.heat_capacity
@@ -373,17 +380,17 @@ def evaluate_run(
     if c_cal is None:
         return RunResult(spec, red, mean_temp, contents)
     c_budget = c_cal if isinstance(c_cal, Budget) else Budget("C_cal (given)", c_cal.value, "J/K", ())
-    q = heat.heat(dt, c_cal, list(contents))
-    result = RunResult(spec, red, mean_temp, contents, c_cal=c_budget if c_budget.components else None, heat=q)
+    q = heat(dt, c_cal, list(contents))
+    result = RunResult(spec, red, mean_temp, contents, c_cal=c_budget if c_budget.components else None, heat_J=q)
     sample = spec.sample
     if sample is None:
         return result
-    spec_h = heat.specific_enthalpy(dt, c_cal, list(contents), sample.mass_g)
+    spec_h = specific_enthalpy(dt, c_cal, list(contents), sample.mass_g)
     mm = _molar_mass(sample)
     molar = predicted = comparison = None
     if mm is not None:
         n = Input(sample.mass_g.value / mm, sample.mass_g.u / mm, "mol", note=f"{sample.name}: m/M, M = {mm:.4f} g/mol")
-        molar = heat.molar_enthalpy(dt, c_cal, list(contents), n)
+        molar = molar_enthalpy(dt, c_cal, list(contents), n)
         if sample.reaction is not None:
             predicted = hess.reaction_enthalpy(sample.reaction)
             comparison = hess.compare(molar, predicted)
@@ -393,9 +400,9 @@ def evaluate_run(
         mean_temp,
         contents,
         c_cal=result.c_cal,
-        heat=q,
-        molar_enthalpy=molar,
-        specific_enthalpy=spec_h,
+        heat_J=q,
+        molar=molar,
+        specific=spec_h,
         hess=comparison,
         predicted=predicted,
     )

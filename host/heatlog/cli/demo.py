@@ -33,7 +33,7 @@ def demo(out: Path, as_json: bool) -> None:
         d = result.to_dict()
         run = result.run
         cal = result.calibration
-        assert run.molar_enthalpy is not None and cal.c_cal is not None
+        assert run.molar is not None and cal.c_cal is not None
         lines = [
             "heatlog demo — invented data, no board attached",
             f"  probe: Steinhart–Hart fit of the bundled calibration points -> {out / 'probe.toml'}",
@@ -42,7 +42,7 @@ def demo(out: Path, as_json: bool) -> None:
             f"(invented truth {d['true_calorimeter_constant_J_per_K']:.1f} J/K)",
             f"  dissolution run: ΔT = {run.reduction.delta_t_K:+.4f} K ± {run.reduction.u_delta_t_K:.4f} K "
             f"(naive peak reading {run.reduction.naive_delta_t_K:+.4f} K)",
-            f"  ΔH(NH4NO3, dissolution) = {run.molar_enthalpy.value:+.2f} ± {run.molar_enthalpy.expanded:.2f} kJ/mol "
+            f"  ΔH(NH4NO3, dissolution) = {run.molar.value:+.2f} ± {run.molar.expanded:.2f} kJ/mol "
             f"(k = 2; invented truth {d['true_enthalpy_kJ_per_mol']:+.2f} kJ/mol)",
         ]
         if run.hess is not None:
