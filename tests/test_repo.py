@@ -28,7 +28,9 @@ def test_readme_opens_with_the_job():
 
 def _tracked_files() -> list[Path]:
     try:
-        out = subprocess.run(["git", "ls-files"], cwd=ROOT, capture_output=True, text=True, check=True)
+        out = subprocess.run(
+            ["git", "ls-files"], cwd=ROOT, capture_output=True, text=True, check=True
+        )
     except (OSError, subprocess.CalledProcessError):
         pytest.skip("not a git checkout")
     return [ROOT / line for line in out.stdout.splitlines() if line]

@@ -15,7 +15,6 @@ Hess's-law prediction — and prints the result beside the value the invented ru
 from __future__ import annotations
 
 import datetime as dt
-import json
 from dataclasses import dataclass
 from importlib import resources
 from pathlib import Path
@@ -77,7 +76,9 @@ def make_demo_files(out: Path) -> DemoTruth:
     pts = read_columns(_calibration_points(), ["temp_C", "resistance_ohm"])
     fit = fit_resistance(pts["temp_C"], pts["resistance_ohm"], "steinhart-hart", ref_u_K=0.01)
     probe = probe_from_fit(
-        fit, "demo-ntc-1", reference="invented reference thermometer, u = 0.01 K",
+        fit,
+        "demo-ntc-1",
+        reference="invented reference thermometer, u = 0.01 K",
         calibration_date=dt.date(2026, 11, 30),
     )
     save_probe(probe, out / "probe.toml")
@@ -87,8 +88,13 @@ def make_demo_files(out: Path) -> DemoTruth:
     heater_J = HEATER_W * HEATER_S
     cal = synthetic_run(
         releases=(Release(600.0, heater_J / c_total_cal, HEATER_S, kind="heater"),),
-        duration_s=2400.0, dt_s=2.0, k_per_s=4e-4, jacket_C=22.5, start_C=21.0,
-        probe_lag_s=3.0, seed=11,
+        duration_s=2400.0,
+        dt_s=2.0,
+        k_per_s=4e-4,
+        jacket_C=22.5,
+        start_C=21.0,
+        probe_lag_s=3.0,
+        seed=11,
     )
     _raw_log(out / "calibration.csv", cal.thermogram.time_s, cal.thermogram.temp_C, seed=12)
 
@@ -96,8 +102,13 @@ def make_demo_files(out: Path) -> DemoTruth:
     heat_J = SALT_G / SALT_M * DH_TRUE_KJ_PER_MOL * 1e3
     run = synthetic_run(
         releases=(Release(480.0, -heat_J / c_total_run, 35.0),),
-        duration_s=2400.0, dt_s=2.0, k_per_s=4e-4, jacket_C=22.5, start_C=22.0,
-        probe_lag_s=3.0, seed=21,
+        duration_s=2400.0,
+        dt_s=2.0,
+        k_per_s=4e-4,
+        jacket_C=22.5,
+        start_C=22.0,
+        probe_lag_s=3.0,
+        seed=21,
     )
     _raw_log(out / "dissolution.csv", run.thermogram.time_s, run.thermogram.temp_C, seed=22)
 
@@ -151,12 +162,8 @@ class DemoResult:
 
 
 def run_demo(out: Path) -> DemoResult:
-    """Write the scenario's files into ``out``, evaluate both run files and save results.json."""
+    """Write the scenario's files into ``out`` and evaluate both run files."""
     truth = make_demo_files(out)
     cal = run_file(out / "calibration.toml")
     run = run_file(out / "dissolution.toml")
-    result = DemoResult(out, truth, cal, run)
-    from heatlog.cli.output import jsonable
-
-    (out / "results.json").write_text(json.dumps(jsonable(result.to_dict()), indent=2), encoding="utf-8")
-    return result
+    return DemoResult(out, truth, cal, run)

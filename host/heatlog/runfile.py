@@ -125,7 +125,9 @@ def _number(doc: Mapping[str, Any], key: str, where: str, default: float | None 
     return float(value)
 
 
-def _quantity(doc: Mapping[str, Any], key: str, unit: str, where: str, u_default: float = 0.0) -> Input:
+def _quantity(
+    doc: Mapping[str, Any], key: str, unit: str, where: str, u_default: float = 0.0
+) -> Input:
     value = _number(doc, key, where)
     u = _number(doc, f"u_{key}", where, u_default)
     if u < 0:
@@ -146,10 +148,10 @@ def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
     base = path.parent
     log = _table(doc, "log", where)
     if "file" not in log:
-        raise InputError(f"{where}: [log] needs file = \"…\" (the logged CSV)")
+        raise InputError(f'{where}: [log] needs file = "…" (the logged CSV)')
     raw_col = log.get("raw_col")
     if raw_col is not None and "probe" not in log:
-        raise InputError(f"{where}: [log] raw_col needs probe = \"…\" to convert raw readings")
+        raise InputError(f'{where}: [log] raw_col needs probe = "…" to convert raw readings')
     log_spec = LogSpec(
         file=_path(base, log["file"], where),
         time_col=str(log.get("time_col", "time_s")),
@@ -161,7 +163,9 @@ def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
     red = dict(_table(doc, "reduce", where))
     unknown = set(red) - _REDUCE_KEYS
     if unknown:
-        raise InputError(f"{where}: [reduce] does not know {sorted(unknown)}; use {sorted(_REDUCE_KEYS)}")
+        raise InputError(
+            f"{where}: [reduce] does not know {sorted(unknown)}; use {sorted(_REDUCE_KEYS)}"
+        )
 
     contents = []
     for i, item in enumerate(doc.get("contents", [])):
@@ -169,10 +173,7 @@ def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
         if not isinstance(item, Mapping) or "name" not in item:
             raise InputError(f"{w}: needs name and mass_g")
         cp_value = item.get("cp", "water")
-        if cp_value == "water":
-            cp = None
-        else:
-            cp = _quantity(item, "cp", "J/(g·K)", w)
+        cp = None if cp_value == "water" else _quantity(item, "cp", "J/(g·K)", w)
         contents.append(ContentSpec(str(item["name"]), _quantity(item, "mass_g", "g", w), cp))
 
     cal = _table(doc, "calorimeter", where)
@@ -191,7 +192,9 @@ def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
         e = _table(doc, "electrical", where)
         w = f"{where} [electrical]"
         if "power_W" in e:
-            electrical = ElectricalSpec(_quantity(e, "seconds", "s", w), power_W=_quantity(e, "power_W", "W", w))
+            electrical = ElectricalSpec(
+                _quantity(e, "seconds", "s", w), power_W=_quantity(e, "power_W", "W", w)
+            )
         elif "voltage_V" in e and "current_A" in e:
             electrical = ElectricalSpec(
                 _quantity(e, "seconds", "s", w),
@@ -208,11 +211,15 @@ def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
         sample = SampleSpec(
             name=str(s.get("name", "sample")),
             mass_g=_quantity(s, "mass_g", "g", w),
-            molar_mass_g_per_mol=None if "molar_mass_g_per_mol" not in s else _number(s, "molar_mass_g_per_mol", w),
+            molar_mass_g_per_mol=None
+            if "molar_mass_g_per_mol" not in s
+            else _number(s, "molar_mass_g_per_mol", w),
             reaction=None if s.get("reaction") is None else str(s["reaction"]),
         )
     if electrical is not None and sample is not None:
-        raise InputError(f"{where}: a run either calibrates ([electrical]) or measures ([sample]), not both")
+        raise InputError(
+            f"{where}: a run either calibrates ([electrical]) or measures ([sample]), not both"
+        )
     if sample is not None and heat_capacity is None and not calibrations:
         raise InputError(
             f"{where}: [calorimeter] needs heat_capacity_J_per_K or calibrations to turn ΔT into heat"
@@ -260,7 +267,11 @@ def read_run_log(log: LogSpec) -> Thermogram:
         resistance = chain.to_resistance(raw[1])
         step = chain.reading(probe.model, raw[1]).step_K
     temp = probe.model.resistance_to_temperature(resistance)
-    meta: dict[str, Any] = {"source": str(log.file), "probe_id": probe.id, "probe_u_K": probe.uncertainty_K}
+    meta: dict[str, Any] = {
+        "source": str(log.file),
+        "probe_id": probe.id,
+        "probe_u_K": probe.uncertainty_K,
+    }
     if step is not None:
         meta["count_step_K"] = float(np.median(step))
     return Thermogram(raw[0], np.asarray(temp, dtype=np.float64), metadata=meta)
@@ -287,9 +298,15 @@ class RunResult:
         out["mean_temp_C"] = self.mean_temp_C
         if self.c_cal is not None:
             key = "calorimeter_constant" if self.spec.electrical else "calorimeter_constant_used"
-            out[key] = {"value_J_per_K": self.c_cal.value, "u_J_per_K": self.c_cal.u, "budget": self.c_cal.to_dict()}
+            out[key] = {
+                "value_J_per_K": self.c_cal.value,
+                "u_J_per_K": self.c_cal.u,
+                "budget": self.c_cal.to_dict(),
+            }
         if self.heat_J is not None:
-            out.update(heat_J=self.heat_J.value, u_heat_J=self.heat_J.u, heat_budget=self.heat_J.to_dict())
+            out.update(
+                heat_J=self.heat_J.value, u_heat_J=self.heat_J.u, heat_budget=self.heat_J.to_dict()
+            )
         if self.molar is not None:
             out.update(
                 enthalpy_kJ_per_mol=self.molar.value,
@@ -362,12 +379,16 @@ def evaluate_run(
     red = _reduce(spec, thermogram)
     lo, hi = red.fore_start_s, red.after_end_s
     mask = (thermogram.time_s >= lo) & (thermogram.time_s <= hi)
-    mean_temp = float(np.mean(thermogram.temp_C[mask])) if mask.any() else float(np.mean(thermogram.temp_C))
+    mean_temp = (
+        float(np.mean(thermogram.temp_C[mask])) if mask.any() else float(np.mean(thermogram.temp_C))
+    )
     contents = _contents(spec, mean_temp)
     dt = red.budget
 
     if spec.electrical is not None:
-        c = calorimeter.electrical_calibration(_energy(spec.electrical), as_input(dt), list(contents))
+        c = calorimeter.electrical_calibration(
+            _energy(spec.electrical), as_input(dt), list(contents)
+        )
         return RunResult(spec, red, mean_temp, contents, c_cal=c)
 
     c_cal: Budget | Input | None = spec.heat_capacity
@@ -379,9 +400,13 @@ def evaluate_run(
         c_cal = constants[0] if len(constants) == 1 else calorimeter.combine_calibrations(constants)
     if c_cal is None:
         return RunResult(spec, red, mean_temp, contents)
-    c_budget = c_cal if isinstance(c_cal, Budget) else Budget("C_cal (given)", c_cal.value, "J/K", ())
+    c_budget = (
+        c_cal if isinstance(c_cal, Budget) else Budget("C_cal (given)", c_cal.value, "J/K", ())
+    )
     q = heat(dt, c_cal, list(contents))
-    result = RunResult(spec, red, mean_temp, contents, c_cal=c_budget if c_budget.components else None, heat_J=q)
+    result = RunResult(
+        spec, red, mean_temp, contents, c_cal=c_budget if c_budget.components else None, heat_J=q
+    )
     sample = spec.sample
     if sample is None:
         return result
@@ -389,7 +414,12 @@ def evaluate_run(
     mm = _molar_mass(sample)
     molar = predicted = comparison = None
     if mm is not None:
-        n = Input(sample.mass_g.value / mm, sample.mass_g.u / mm, "mol", note=f"{sample.name}: m/M, M = {mm:.4f} g/mol")
+        n = Input(
+            sample.mass_g.value / mm,
+            sample.mass_g.u / mm,
+            "mol",
+            note=f"{sample.name}: m/M, M = {mm:.4f} g/mol",
+        )
         molar = molar_enthalpy(dt, c_cal, list(contents), n)
         if sample.reaction is not None:
             predicted = hess.reaction_enthalpy(sample.reaction)

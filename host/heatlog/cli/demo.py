@@ -2,11 +2,12 @@
 
 from __future__ import annotations
 
+import json
 from pathlib import Path
 
 import click
 
-from heatlog.cli.output import emit, json_option
+from heatlog.cli.output import emit, json_option, jsonable
 
 CAUTION = (
     "Caution: ammonium nitrate is an oxidiser and cold packs can chill skin; heaters and hot water "
@@ -28,9 +29,11 @@ def demo(out: Path, as_json: bool) -> None:
     from heatlog.demo import run_demo
 
     result = run_demo(out)
+    payload = result.to_dict()
+    (out / "results.json").write_text(json.dumps(jsonable(payload), indent=2), encoding="utf-8")
 
     def text() -> str:
-        d = result.to_dict()
+        d = payload
         run = result.run
         cal = result.calibration
         assert run.molar is not None and cal.c_cal is not None
@@ -54,4 +57,4 @@ def demo(out: Path, as_json: bool) -> None:
         lines.append(CAUTION)
         return "\n".join(lines)
 
-    emit(as_json, result.to_dict(), text)
+    emit(as_json, payload, text)
