@@ -2,6 +2,7 @@
 
 import click
 from click.testing import CliRunner
+
 from heatlog.cli import main
 from heatlog.errors import InputError
 

@@ -4,10 +4,11 @@ import io
 
 import numpy as np
 import pytest
-from heatlog.csvtable import read_columns
-from heatlog.errors import InputError
 from hypothesis import given
 from hypothesis import strategies as st
+
+from heatlog.csvtable import read_columns
+from heatlog.errors import InputError
 
 
 def test_reads_named_columns_in_any_order_and_case(tmp_path):

@@ -4,6 +4,7 @@ import math
 
 import numpy as np
 import pytest
+
 from heatlog.gum import Budget, Component, Input, monte_carlo, propagate, quantisation, rectangular
 
 

@@ -395,8 +395,12 @@ def evaluate_run(
     if spec.calibrations:
         if calibrate is None:
             raise InputError(f"{spec.path}: calibration run files need a loader")
-        results = [calibrate(p) for p in spec.calibrations]
-        constants: list[Budget] = [r.c_cal for r in results if r.c_cal is not None]
+        constants: list[Budget] = []
+        for p in spec.calibrations:
+            c = calibrate(p).c_cal
+            if c is None:
+                raise InputError(f"{p}: not a calibration run (it needs an [electrical] table)")
+            constants.append(c)
         c_cal = constants[0] if len(constants) == 1 else calorimeter.combine_calibrations(constants)
     if c_cal is None:
         return RunResult(spec, red, mean_temp, contents)
@@ -442,7 +446,7 @@ def run_file(path: str | Path, _seen: Sequence[Path] = ()) -> RunResult:
     """Load, read and evaluate a run file, following its calibration run files."""
     spec = load_run(path)
     here = spec.path.resolve()
-    if here in _seen:
+    if any(p.resolve() in (*_seen, here) for p in spec.calibrations):
         raise InputError(f"{spec.path}: calibration run files refer to each other in a loop")
     thermogram = read_run_log(spec.log)
     return evaluate_run(spec, thermogram, calibrate=lambda p: run_file(p, (*_seen, here)))
