@@ -23,6 +23,7 @@ from heatlog.energetics.heat import (
     molar_enthalpy_monte_carlo,
     specific_enthalpy,
 )
+from heatlog.energetics.hess import reaction
 from heatlog.errors import CalibrationError, InputError
 from heatlog.gum import Input
 
@@ -199,6 +200,13 @@ def test_limiting_reagent():
     assert lim.reagent == "H2" and lim.extent.value == 1.5 and lim.extent.u == pytest.approx(0.015)
     with pytest.raises(InputError, match="unmatched"):
         limiting_reagent({"H2": Input(1.0, 0.0)}, {"O2": 1})
+    # coefficients straight from a parsed reaction
+    r = reaction("NaHCO3(s) + CH3COOH(aq) -> Na+(aq) + CH3COO-(aq) + CO2(g) + H2O(l)")
+    lim = limiting_reagent(
+        {"NaHCO3(s)": Input(0.030, 1e-4), "CH3COOH(aq)": Input(0.025, 2e-4)},
+        r.reactant_coefficients(),
+    )
+    assert lim.reagent == "CH3COOH(aq)" and lim.extent.u == pytest.approx(2e-4)
 
 
 def test_kirchhoff_correction():

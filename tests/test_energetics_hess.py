@@ -84,6 +84,20 @@ def test_table_against_chemicals_crc(formula, phase):
     )
 
 
+def test_stated_uncertainties_cover_crc_spread():
+    # The stated u must explain the spread against an independent compilation (CRC via the
+    # chemicals package, rounded to 0.1 kJ/mol, so its own u ≈ 0.05 is added): at k = 2 at
+    # least 90 % of the rows agree, and none is off by more than 3 u.
+    z = []
+    for formula, phase in CAS:
+        entry = formation_table().lookup(parse_species(f"{formula}({phase})")[0])
+        theirs = LOOKUP[phase](CAS[(formula, phase)]) / 1000.0
+        u = math.hypot(entry.u_kj_per_mol, 0.05)
+        z.append(abs(entry.dhf_kj_per_mol - theirs) / u)
+    assert sum(v <= 2 for v in z) >= 0.9 * len(z)
+    assert max(z) <= 3
+
+
 def test_every_row_is_sourced_and_has_uncertainty():
     tab = formation_table()
     assert len(tab.entries) > 60

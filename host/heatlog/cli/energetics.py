@@ -202,6 +202,8 @@ def electrical(
         if seconds is None:
             if t_on is None or t_off is None:
                 raise InputError("give --seconds, or both --on and --off")
+            if not t_off > t_on:
+                raise InputError(f"--off ({t_off:g} s) must come after --on ({t_on:g} s)")
             seconds = t_off - t_on
         elif t_on is not None or t_off is not None:
             raise InputError("give --seconds or --on/--off, not both")

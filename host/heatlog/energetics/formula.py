@@ -78,6 +78,15 @@ class Reaction:
             (t.coefficient, t.species) for t in self.products
         ]
 
+    def reactant_coefficients(self) -> dict[str, float]:
+        """Reactants' stoichiometric coefficients keyed by species text, for
+        :func:`heatlog.energetics.heat.limiting_reagent`."""
+        out: dict[str, float] = {}
+        for t in self.reactants:
+            key = format_species(t.species)
+            out[key] = out.get(key, 0.0) + float(t.coefficient)
+        return out
+
     def __str__(self) -> str:
         return format_reaction(self)
 
