@@ -145,6 +145,14 @@ def test_coefficients_scale_the_enthalpy_and_uncertainty():
     assert one.value == pytest.approx(-285.830, abs=1e-9)  # ΔfH°(H2O, l) itself, CODATA
 
 
+def test_species_on_both_sides_is_one_input():
+    # Water on both sides: the same table value, so it enters once with its net ν (here +5).
+    a = reaction_enthalpy("CuSO4·5H2O(s) + H2O(l) -> Cu^2+(aq) + SO4^2-(aq) + 6 H2O(l)")
+    b = reaction_enthalpy("CuSO4·5H2O(s) -> Cu^2+(aq) + SO4^2-(aq) + 5 H2O(l)")
+    assert a.value == pytest.approx(b.value, abs=1e-9) and a.u == pytest.approx(b.u, rel=1e-12)
+    assert [c.name for c in a.components].count("ΔfH°(H2O(l))") == 1
+
+
 def test_ambiguous_charges_resolved_by_table():
     a = reaction_enthalpy("CaCl2(s) -> Ca2+(aq) + 2 Cl-(aq)")
     b = reaction_enthalpy("CaCl2(s) -> Ca^2+(aq) + 2 Cl-(aq)")

@@ -383,11 +383,11 @@ def hess(
 
     Example: heatlog hess "NH4NO3(s) -> NH4+(aq) + NO3-(aq)"
     """
-    from heatlog.energetics import compare, reaction_enthalpy
+    from heatlog.energetics import compare, reaction, reaction_enthalpy
 
-    b = reaction_enthalpy(reaction_text)
-    r = b.quantity
-    payload: dict[str, Any] = {"reaction": r, "budget": b.to_dict()}
+    r = reaction(reaction_text)
+    b = reaction_enthalpy(r)
+    payload: dict[str, Any] = {"reaction": str(r), "budget": b.to_dict()}
     payload["value"], payload["unit"], payload["standard_uncertainty"] = b.value, b.unit, b.u
     cmp = None
     if (measured is None) != (u_measured is None):
