@@ -103,6 +103,10 @@ def test_mixing_defaults_to_iapws_water_and_checks_order():
     )
     # water c_p near 4.18 J/(g·K), so the result is close to the fixed-c_p example above
     assert b.value == pytest.approx(33.9, abs=0.5)
+    # IAPWS-95's c_p error is one shared input: its sensitivity is the net heat C_cal·(T_f − T_c)
+    # divided by (T_f − T_c), i.e. C_cal itself (per unit scale), so it nearly cancels.
+    scale = {c.name: c for c in b.components}["c_p scale"]
+    assert scale.sensitivity == pytest.approx(b.value, rel=1e-6)
     with pytest.raises(InputError, match="T_cold < T_final < T_hot"):
         mixing_calibration(
             Input(50.0, 0.0), Input(20.0, 0.1), Input(50.0, 0.0), Input(60.0, 0.1), Input(38.5, 0.1)
