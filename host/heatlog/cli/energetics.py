@@ -133,6 +133,12 @@ def _report(as_json: bool, budget: Any, caution: str, extra: dict[str, Any] | No
 
     def text() -> str:
         lines = [budget.table()]
+        ref = payload.get("reference")
+        if ref:
+            lines.append(
+                f"Reference: {ref['process']}, ΔH = {ref['dh']:g} ± {ref['u_dh']:g} {ref['unit']} "
+                f"({ref['conditions']}; {ref['source']})"
+            )
         if budget.unit == "J/K" and budget.value < 0:
             lines.append(
                 "Note: C_cal came out negative; the contents' heat capacity or ΔT is likely off."
