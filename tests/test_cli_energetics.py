@@ -68,16 +68,19 @@ def test_reaction_reference_and_reduce_json(tmp_path):
     # with C_cal = 50 J/K gives ΔT = 122.88/465 K; ΔT is passed as 'heatlog reduce --json' output.
     red = tmp_path / "reduce.json"
     red.write_text(json.dumps({"delta_t_K": 122.88 / 465.0, "u_delta_t_K": 0.002}))
-    r = run(
+    r_args = [
         "calibrate", "reaction", "--reference", "tris-hcl", "--amount", "0.5", "--u-amount",
         "0.0002", "--reduce-json", str(red), "--water-g", "100", "--u-water-g", "0.05", "--cp",
         "4.15", "--u-cp", "0.01", "--json",
-    )  # fmt: skip
+    ]  # fmt: skip
+    r = run(*r_args)
     assert r.exit_code == 0, r.output
     data = json.loads(r.output)
     assert data["value"] == pytest.approx(50.0, abs=1e-9)
     assert data["reference"]["source"].startswith("Prosen & Kilday")
     assert "eye protection" in data["caution"]
+    text = run(*[a for a in r_args if a != "--json"]).output
+    assert "Reference: tris" in text and "Prosen & Kilday" in text
 
 
 def test_solution_contents():

@@ -23,6 +23,7 @@ from heatlog.energetics.heat import (
     molar_enthalpy_monte_carlo,
     specific_enthalpy,
 )
+from heatlog.energetics.hess import reaction
 from heatlog.errors import CalibrationError, InputError
 from heatlog.gum import Input
 
@@ -102,6 +103,10 @@ def test_mixing_defaults_to_iapws_water_and_checks_order():
     )
     # water c_p near 4.18 J/(g·K), so the result is close to the fixed-c_p example above
     assert b.value == pytest.approx(33.9, abs=0.5)
+    # IAPWS-95's c_p error is one shared input: its sensitivity is the net heat C_cal·(T_f − T_c)
+    # divided by (T_f − T_c), i.e. C_cal itself (per unit scale), so it nearly cancels.
+    scale = {c.name: c for c in b.components}["c_p scale"]
+    assert scale.sensitivity == pytest.approx(b.value, rel=1e-6)
     with pytest.raises(InputError, match="T_cold < T_final < T_hot"):
         mixing_calibration(
             Input(50.0, 0.0), Input(20.0, 0.1), Input(50.0, 0.0), Input(60.0, 0.1), Input(38.5, 0.1)
@@ -199,6 +204,13 @@ def test_limiting_reagent():
     assert lim.reagent == "H2" and lim.extent.value == 1.5 and lim.extent.u == pytest.approx(0.015)
     with pytest.raises(InputError, match="unmatched"):
         limiting_reagent({"H2": Input(1.0, 0.0)}, {"O2": 1})
+    # coefficients straight from a parsed reaction
+    r = reaction("NaHCO3(s) + CH3COOH(aq) -> Na+(aq) + CH3COO-(aq) + CO2(g) + H2O(l)")
+    lim = limiting_reagent(
+        {"NaHCO3(s)": Input(0.030, 1e-4), "CH3COOH(aq)": Input(0.025, 2e-4)},
+        r.reactant_coefficients(),
+    )
+    assert lim.reagent == "CH3COOH(aq)" and lim.extent.u == pytest.approx(2e-4)
 
 
 def test_kirchhoff_correction():

@@ -133,6 +133,12 @@ def _report(as_json: bool, budget: Any, caution: str, extra: dict[str, Any] | No
 
     def text() -> str:
         lines = [budget.table()]
+        ref = payload.get("reference")
+        if ref:
+            lines.append(
+                f"Reference: {ref['process']}, ΔH = {ref['dh']:g} ± {ref['u_dh']:g} {ref['unit']} "
+                f"({ref['conditions']}; {ref['source']})"
+            )
         if budget.unit == "J/K" and budget.value < 0:
             lines.append(
                 "Note: C_cal came out negative; the contents' heat capacity or ΔT is likely off."
@@ -202,6 +208,8 @@ def electrical(
         if seconds is None:
             if t_on is None or t_off is None:
                 raise InputError("give --seconds, or both --on and --off")
+            if not t_off > t_on:
+                raise InputError(f"--off ({t_off:g} s) must come after --on ({t_on:g} s)")
             seconds = t_off - t_on
         elif t_on is not None or t_off is not None:
             raise InputError("give --seconds or --on/--off, not both")
@@ -381,11 +389,11 @@ def hess(
 
     Example: heatlog hess "NH4NO3(s) -> NH4+(aq) + NO3-(aq)"
     """
-    from heatlog.energetics import compare, reaction_enthalpy
+    from heatlog.energetics import compare, reaction, reaction_enthalpy
 
-    b = reaction_enthalpy(reaction_text)
-    r = b.quantity
-    payload: dict[str, Any] = {"reaction": r, "budget": b.to_dict()}
+    r = reaction(reaction_text)
+    b = reaction_enthalpy(r)
+    payload: dict[str, Any] = {"reaction": str(r), "budget": b.to_dict()}
     payload["value"], payload["unit"], payload["standard_uncertainty"] = b.value, b.unit, b.u
     cmp = None
     if (measured is None) != (u_measured is None):

@@ -25,7 +25,7 @@ import numpy as np
 from scipy import integrate
 
 from heatlog.energetics.heat import Content, as_input, content_inputs, heat_capacity_sum, substitute
-from heatlog.energetics.water import water_cp_input
+from heatlog.energetics.water import CP_RELATIVE_U, water_cp
 from heatlog.errors import CalibrationError, InputError
 from heatlog.gum import Budget, Component, Input, propagate, rectangular
 
@@ -202,12 +202,31 @@ def mixing_calibration(
         "m_c": _positive("cold water mass", as_input(m_cold, "g")),
         "T_c": as_input(t_cold, "°C"),
         "T_f": as_input(t_final, "°C"),
-        "c_p,h": cp_hot or water_cp_input((th + tf) / 2),
-        "c_p,c": cp_cold or water_cp_input((tc + tf) / 2),
     }
+    # One c_p error shared by both streams is one input, not two: IAPWS-95's uncertainty (or a
+    # single given c_p) scales both, and largely cancels in the numerator.
+    if cp_hot is None and cp_cold is None:
+        base_h = float(water_cp((th + tf) / 2))
+        base_c = float(water_cp((tc + tf) / 2))
+        inputs["c_p scale"] = Input(
+            1.0, CP_RELATIVE_U, "", note="IAPWS-95 water c_p at each stream's mean temperature"
+        )
+    elif cp_hot is not None and cp_cold is not None and cp_hot != cp_cold:
+        inputs["c_p,h"], inputs["c_p,c"] = cp_hot, cp_cold
+    else:
+        inputs["c_p"] = cp_hot if cp_hot is not None else cp_cold  # type: ignore[assignment]
 
-    def c_cal(m_h: float, T_h: float, m_c: float, T_c: float, T_f: float, **cp: float) -> float:
-        return (m_h * cp["c_p,h"] * (T_h - T_f) - m_c * cp["c_p,c"] * (T_f - T_c)) / (T_f - T_c)
+    def cps(x: dict[str, float]) -> tuple[float, float]:
+        if "c_p scale" in x:
+            return base_h * x["c_p scale"], base_c * x["c_p scale"]
+        if "c_p" in x:
+            return x["c_p"], x["c_p"]
+        return x["c_p,h"], x["c_p,c"]
+
+    def c_cal(**x: float) -> float:
+        c_h, c_c = cps(x)
+        m_h, m_c, t_h, t_c, t_f = x["m_h"], x["m_c"], x["T_h"], x["T_c"], x["T_f"]
+        return (m_h * c_h * (t_h - t_f) - m_c * c_c * (t_f - t_c)) / (t_f - t_c)
 
     return propagate(c_cal, inputs, quantity="C_cal (method of mixtures)", unit="J/K")
 

@@ -36,7 +36,7 @@ _PHASE_RE = re.compile(r"\((s|cr|l|g|aq)\)\s*$")
 _SUBSCRIPTS = str.maketrans("₀₁₂₃₄₅₆₇₈₉", "0123456789")
 _SUPERSCRIPTS = str.maketrans("⁰¹²³⁴⁵⁶⁷⁸⁹⁺⁻", "0123456789+-")
 _SUPERSCRIPT_RUN = re.compile("[⁰¹²³⁴⁵⁶⁷⁸⁹⁺⁻]+")
-_COEFF_RE = re.compile(r"^\s*(\d+/\d+|\d+(?:\.\d+)?)\s*(?=[A-Z(\[])")
+_COEFF_RE = re.compile(r"^\s*([0-9]+/[0-9]+|[0-9]+(?:\.[0-9]+)?)\s*(?=[A-Z(\[])")
 
 
 @dataclass(frozen=True)
@@ -77,6 +77,15 @@ class Reaction:
         return [(-t.coefficient, t.species) for t in self.reactants] + [
             (t.coefficient, t.species) for t in self.products
         ]
+
+    def reactant_coefficients(self) -> dict[str, float]:
+        """Reactants' stoichiometric coefficients keyed by species text, for
+        :func:`heatlog.energetics.heat.limiting_reagent`."""
+        out: dict[str, float] = {}
+        for t in self.reactants:
+            key = format_species(t.species)
+            out[key] = out.get(key, 0.0) + float(t.coefficient)
+        return out
 
     def __str__(self) -> str:
         return format_reaction(self)
@@ -124,7 +133,7 @@ class _FormulaParser:
         )
 
     def count(self) -> int:
-        m = re.match(r"\d+", self.text[self.pos :])
+        m = re.match(r"[0-9]+", self.text[self.pos :])
         if not m:
             return 1
         self.pos += m.end()
@@ -150,7 +159,7 @@ class _FormulaParser:
                 if not atoms:
                     raise self.fail("empty brackets")
                 return atoms
-            elif ch.isupper():
+            elif "A" <= ch <= "Z":
                 m = re.match(r"[A-Z][a-z]?", self.text[self.pos :])
                 assert m is not None
                 symbol = m.group()
@@ -177,7 +186,7 @@ def parse_formula(text: str) -> tuple[str, tuple[tuple[str, int], ...]]:
     total: Counter[str] = Counter()
     norm_parts = []
     for i, part in enumerate(parts):
-        m = re.match(r"(\d+)\s*", part) if i > 0 else None
+        m = re.match(r"([0-9]+)\s*", part) if i > 0 else None
         mult = int(m.group(1)) if m else 1
         body = part[m.end() :] if m else part
         if not body or mult == 0:
@@ -216,10 +225,10 @@ def parse_species(text: str) -> list[Species]:
         raise InputError(f"cannot read species {text!r}: no formula before the phase")
 
     explicit = (
-        re.fullmatch(r"(?P<f>.+?)\s*\^\s*(?P<n>\d*)(?P<s>[+-])", s)
-        or re.fullmatch(r"(?P<f>.+?)\s*\^\s*(?P<s>[+-])(?P<n>\d+)", s)
-        or re.fullmatch(r"(?P<f>.+?)\s*\((?P<n>\d*)(?P<s>[+-])\)", s)
-        or re.fullmatch(r"(?P<f>.+?)\s+(?P<n>\d+)(?P<s>[+-])", s)
+        re.fullmatch(r"(?P<f>.+?)\s*\^\s*(?P<n>[0-9]*)(?P<s>[+-])", s)
+        or re.fullmatch(r"(?P<f>.+?)\s*\^\s*(?P<s>[+-])(?P<n>[0-9]+)", s)
+        or re.fullmatch(r"(?P<f>.+?)\s*\((?P<n>[0-9]*)(?P<s>[+-])\)", s)
+        or re.fullmatch(r"(?P<f>.+?)\s+(?P<n>[0-9]+)(?P<s>[+-])", s)
     )
     if explicit:
         n = int(explicit.group("n") or 1)
@@ -236,7 +245,7 @@ def parse_species(text: str) -> list[Species]:
     readings = []
     errors = []
     # "NH4+" (count 4, charge +1) and "Ca2+" (charge 2+) look alike: offer both readings.
-    digits = re.search(r"\d+$", core)
+    digits = re.search(r"[0-9]+$", core)
     splits = [0]
     if digits and len(signs.group()) == 1:
         splits += [k for k in range(1, len(digits.group()) + 1)]

@@ -4,7 +4,7 @@
 infinite dilution. The table (``heatlog/data/formation_enthalpies.csv``) gives every value with a
 standard uncertainty and its source. The budget treats the table values as uncorrelated, so
 u(ΔrH°) is the root-sum-square of ν·u; values from one compilation are in truth partly
-correlated (they share key values), which this ignores — it is stated in every budget.
+correlated (they share key values), which this ignores (the budget's method says so).
 """
 
 from __future__ import annotations
@@ -27,8 +27,6 @@ from heatlog.energetics.formula import (
 )
 from heatlog.errors import InputError
 from heatlog.gum import Budget, Component, Input
-
-UNCORRELATED_NOTE = "table values taken as uncorrelated (root-sum-square of ν·u)"
 
 # Names a user may type instead of a formula.
 ALIASES = {
@@ -134,22 +132,25 @@ def reaction_enthalpy(
     r = reaction(text_or_reaction, tab) if isinstance(text_or_reaction, str) else text_or_reaction
     if not isinstance(text_or_reaction, str):
         check_balance(r)
-    comps = []
-    total = 0.0
+    # Net ν per table entry: a species on both sides is one input, not two independent ones.
+    net: dict[FormationEntry, float] = {}
     for nu, sp in r.signed_terms():
         e = tab.lookup(sp)
-        total += float(nu) * e.dhf_kj_per_mol
-        comps.append(
-            Component(
-                f"ΔfH°({format_species(e.species)})",
-                e.dhf_kj_per_mol,
-                e.u_kj_per_mol,
-                float(nu),
-                "kJ/mol",
-                note=e.source,
-            )
+        net[e] = net.get(e, 0.0) + float(nu)
+    comps = tuple(
+        Component(
+            f"ΔfH°({format_species(e.species)})",
+            e.dhf_kj_per_mol,
+            e.u_kj_per_mol,
+            nu,
+            "kJ/mol",
+            note=e.source,
         )
-    return Budget(f"ΔrH°(298.15 K) of {r}; {UNCORRELATED_NOTE}", total, "kJ/mol", tuple(comps))
+        for e, nu in net.items()
+        if nu != 0
+    )
+    total = sum(c.sensitivity * c.value for c in comps)
+    return Budget(f"ΔrH°(298.15 K) of {r}", total, "kJ/mol", comps)
 
 
 @dataclass(frozen=True)
