@@ -188,8 +188,9 @@ def _check_points(
 def _covariance(
     jac: np.ndarray, residuals: np.ndarray, dof: int, ref_u_K: float, fitted: tuple[str, ...]
 ) -> tuple[np.ndarray, str]:
-    scale = np.linalg.norm(jac, axis=0)
-    if not np.all(np.isfinite(jac)) or np.any(scale == 0):
+    with np.errstate(over="ignore"):
+        scale = np.linalg.norm(jac, axis=0)
+    if not np.all(np.isfinite(scale)) or np.any(scale == 0):
         raise CalibrationError(
             f"the points do not determine {', '.join(fitted)}; spread them over the range of use"
         )
@@ -261,8 +262,15 @@ def _fit_beta(t: np.ndarray, r: np.ndarray, t25_C: float) -> dict[str, float]:
         model_inv_t = inv_t25 + (np.log(r) - p[0]) / p[1]
         return 1.0 / model_inv_t - (t + ZERO_CELSIUS_K)
 
-    sol = least_squares(residual_K, x0=[ln_r25, beta0], x_scale=[1.0, abs(beta0)], method="lm")
-    if not sol.success:
+    # Wild points can send trial steps to overflow; such a fit ends in the error below.
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        try:
+            sol = least_squares(
+                residual_K, x0=[ln_r25, beta0], x_scale=[1.0, abs(beta0)], method="lm"
+            )
+        except ValueError as exc:
+            raise CalibrationError(f"beta fit failed ({exc}); check the points") from None
+    if not (sol.success and np.all(np.isfinite(sol.x)) and sol.x[1] > 0):
         raise CalibrationError(f"beta fit did not converge ({sol.message}); check the points")
     return {"R25": float(np.exp(sol.x[0])), "beta": float(sol.x[1])}
 
