@@ -122,7 +122,10 @@ def test_convert_standard_pt100_and_counts():
         100.0, abs=1e-4
     )  # IEC 60751
     r = run("convert", "--standard", "pt100", "--counts", "7620", "--chain", "max31865:rref=430")
-    assert r.exit_code == 0 and "one count" in r.output
+    assert r.exit_code == 0 and "one count" in r.output and "class B" in r.output
+    r = run("convert", "--standard", "pt100", "--counts", "7620", "--chain", "max31865", "--json")
+    row = json.loads(r.output)["results"][0]
+    assert row["u_quantisation_K"] == pytest.approx(row["step_K"] / 12**0.5)  # JCGM 100, F.2.2.1
 
 
 def test_design_json_and_text():

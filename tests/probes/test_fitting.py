@@ -244,3 +244,18 @@ def test_fuzzed_monotonic_points_end_in_a_fit_or_a_clean_error(model, temps, res
         return
     assert np.all(np.isfinite(fit.residuals_K))
     assert np.all(np.isfinite(fit.u_table()["u_K"]))
+
+
+def test_cvd_c_needs_a_point_cold_enough_to_show_it():
+    # Near 0 °C the IEC C term is far below a millikelvin: C is held, not fitted from noise.
+    t = np.array([-5.0, 0.0, 50.0, 100.0, 150.0])
+    fit = fit_resistance(t, PT_TRUTH.temperature_to_resistance(t), "callendar-van-dusen")
+    assert "C" not in fit.fitted and "-20" in fit.notes[0]
+    assert fit.max_abs_residual_K < 1e-3  # PT_TRUTH's own C differs, but only by µK at −5 °C
+
+
+def test_points_that_cannot_determine_the_coefficients_are_refused():
+    # Four points crowded into 10 mK cannot pin down a three-term curve.
+    t = np.array([25.0, 25.003, 25.006, 25.01])
+    with pytest.raises(CalibrationError, match="determine"):
+        fit_resistance(t, SH10K.temperature_to_resistance(t), "steinhart-hart")

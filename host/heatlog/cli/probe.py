@@ -12,12 +12,13 @@ import numpy as np
 from heatlog.cli.output import emit, json_option
 from heatlog.csvtable import read_columns
 from heatlog.errors import InputError
+from heatlog.gum import quantisation
 from heatlog.probes.chains import CHAIN_SPEC_HELP, chain_from_spec
 from heatlog.probes.design import CRITERIA, design_divider
 from heatlog.probes.fitting import CalibrationFit, fit_counts, fit_resistance
 from heatlog.probes.models import MODEL_NAMES, ProbeModel
 from heatlog.probes.probefile import load_probe, probe_from_fit, save_probe
-from heatlog.probes.rtd import pt100, pt1000
+from heatlog.probes.rtd import pt100, pt1000, tolerance_class
 from heatlog.probes.thermistor import Beta
 
 STANDARD_PROBES = {"pt100": pt100, "pt1000": pt1000}
@@ -211,11 +212,22 @@ def convert_command(
         assert chain_spec is not None
         reading = chain_from_spec(chain_spec).reading(model, np.array(counts))
         rows += [
-            {"counts": c, "resistance_ohm": r, "temp_C": t, "step_K": s}
+            {
+                "counts": c,
+                "resistance_ohm": r,
+                "temp_C": t,
+                "step_K": s,
+                "u_quantisation_K": quantisation(s),
+            }
             for c, r, t, s in zip(
                 counts, reading.resistance_ohm, reading.temp_C, reading.step_K, strict=True
             )
         ]
+    if standard is not None:
+        # A nominal curve's honest uncertainty is the sensor's tolerance class (IEC 60751).
+        for row in rows:
+            row["tolerance_class_A_K"] = tolerance_class(row["temp_C"], "A")
+            row["tolerance_class_B_K"] = tolerance_class(row["temp_C"], "B")
     payload = {
         "probe": name,
         "model": model.name,
@@ -226,7 +238,11 @@ def convert_command(
 
     def text() -> str:
         head = f"{name} ({model.name}, valid {model.t_min_C:g}..{model.t_max_C:g} °C"
-        head += f", u = {u:.3g} K k=1)" if u is not None else ", nominal curve: no calibration)"
+        head += (
+            f", u = {u:.3g} K k=1)"
+            if u is not None
+            else ", nominal IEC 60751 curve: the sensor's tolerance class bounds its error)"
+        )
         lines = [head]
         for row in rows:
             parts = []
@@ -236,6 +252,11 @@ def convert_command(
             parts.append(f"{row['temp_C']:.4f} °C")
             if "step_K" in row:
                 parts.append(f"one count = {row['step_K'] * 1e3:.3g} mK")
+            if "tolerance_class_A_K" in row:
+                parts.append(
+                    f"class A ±{row['tolerance_class_A_K']:.3g} K, "
+                    f"class B ±{row['tolerance_class_B_K']:.3g} K"
+                )
             lines.append("  " + "  ↔  ".join(parts))
         return "\n".join(lines)
 

@@ -6,8 +6,8 @@ Pure functions on arrays. Linear least squares where the model is linear in its 
   being minimised is (to first order) a temperature error in kelvin;
 * Callendar–Van Dusen: R = R0 + (R0A) t + (R0B) t² + (R0C)(t − 100) t³ with R0 free, or
   R/R0 − 1 = A t + B t² + C (t − 100) t³ with R0 fixed; weighted by 1/(dR/dt) of the IEC 60751
-  curve. C is fitted only when there are points below 0 °C; otherwise it keeps the IEC 60751
-  value, stated in the result's notes;
+  curve. C is fitted only when there are points below 0 °C far enough down to show it (at or
+  below :data:`C_FIT_BELOW_C`); otherwise it keeps the IEC 60751 value, stated in the notes;
 
 and ``scipy.optimize.least_squares`` in kelvin residuals for the β model (started from the
 linear fit of ln R against 1/T).
@@ -33,6 +33,11 @@ from heatlog.probes.chains import Chain
 from heatlog.probes.models import MODEL_KINDS, MODEL_NAMES, ProbeModel, build_model
 from heatlog.probes.rtd import IEC_A, IEC_B, IEC_C, IEC_RANGE_C
 from heatlog.probes.thermistor import THERMISTOR_LIMITS_C, ZERO_CELSIUS_K
+
+#: C of Callendar–Van Dusen is fitted only with a point at or below this temperature: there the
+#: IEC 60751 C term, C(t − 100)t³/A, reaches about 1 mK (derived); closer to 0 °C the points
+#: cannot tell C from noise.
+C_FIT_BELOW_C = -20.0
 
 # Coefficients each model needs to fit (the minimum number of points).
 _FITTED = {
@@ -181,11 +186,23 @@ def _check_points(
 
 
 def _covariance(
-    jac: np.ndarray, residuals: np.ndarray, dof: int, ref_u_K: float
+    jac: np.ndarray, residuals: np.ndarray, dof: int, ref_u_K: float, fitted: tuple[str, ...]
 ) -> tuple[np.ndarray, str]:
-    scale = np.linalg.norm(jac, axis=0)
-    scale[scale == 0] = 1.0
+    with np.errstate(over="ignore"):
+        scale = np.linalg.norm(jac, axis=0)
+    if not np.all(np.isfinite(scale)) or np.any(scale == 0):
+        raise CalibrationError(
+            f"the points do not determine {', '.join(fitted)}; spread them over the range of use"
+        )
     js = jac / scale
+    singular = np.linalg.svd(js, compute_uv=False)
+    # Below 1e-8 the condition number of JᵀJ passes 1e16: its inverse has no correct digit left
+    # in float64, so neither coefficients nor covariance would mean anything.
+    if singular[-1] < 1e-8 * singular[0]:
+        raise CalibrationError(
+            f"the points barely determine {', '.join(fitted)} (the fit is ill-conditioned); "
+            "spread them over the range of use"
+        )
     inv = np.linalg.pinv(js.T @ js) / np.outer(scale, scale)
     if dof > 0:
         return inv * float(np.sum(residuals**2) / dof), "residuals"
@@ -245,8 +262,15 @@ def _fit_beta(t: np.ndarray, r: np.ndarray, t25_C: float) -> dict[str, float]:
         model_inv_t = inv_t25 + (np.log(r) - p[0]) / p[1]
         return 1.0 / model_inv_t - (t + ZERO_CELSIUS_K)
 
-    sol = least_squares(residual_K, x0=[ln_r25, beta0], x_scale=[1.0, abs(beta0)], method="lm")
-    if not sol.success:
+    # Wild points can send trial steps to overflow; such a fit ends in the error below.
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        try:
+            sol = least_squares(
+                residual_K, x0=[ln_r25, beta0], x_scale=[1.0, abs(beta0)], method="lm"
+            )
+        except ValueError as exc:
+            raise CalibrationError(f"beta fit failed ({exc}); check the points") from None
+    if not (sol.success and np.all(np.isfinite(sol.x)) and sol.x[1] > 0):
         raise CalibrationError(f"beta fit did not converge ({sol.message}); check the points")
     return {"R25": float(np.exp(sol.x[0])), "beta": float(sol.x[1])}
 
@@ -278,7 +302,8 @@ def fit_resistance(
     if model == "callendar-van-dusen":
         if r0_ohm is not None and not r0_ohm > 0:
             raise CalibrationError(f"fixed R0 must be a positive resistance, got {r0_ohm}")
-        with_c = bool(np.any(np.asarray(temp_C, dtype=np.float64) < 0))
+        coldest = float(np.min(np.asarray(temp_C, dtype=np.float64), initial=0.0))
+        with_c = coldest <= C_FIT_BELOW_C
         fitted = tuple(k for k in ("R0", "A", "B", "C") if (k != "R0" or r0_ohm is None))
         fitted = fitted if with_c else tuple(k for k in fitted if k != "C")
     else:
@@ -316,8 +341,13 @@ def fit_resistance(
             notes.append(f"R0 held at {r0_ohm:g} Ω as stated")
         if not with_c:
             coeffs["C"] = IEC_C
+            why = (
+                "no points below 0 °C"
+                if coldest >= 0
+                else f"no point at or below {C_FIT_BELOW_C:g} °C, where its term reaches ~1 mK"
+            )
             notes.append(
-                f"C not fitted (no points below 0 °C): held at the IEC 60751 value {IEC_C:g}; "
+                f"C not fitted ({why}): held at the IEC 60751 value {IEC_C:g}; "
                 "it only acts below 0 °C"
             )
             if lo < 0:
@@ -331,7 +361,7 @@ def fit_resistance(
     dof = int(t.size - len(fitted))
     names = list(fit_model.coefficients())
     jac = fit_model.coefficient_sensitivities(r)[:, [names.index(k) for k in fitted]]
-    cov, source = _covariance(jac, residuals, dof, ref_u_K)
+    cov, source = _covariance(jac, residuals, dof, ref_u_K, fitted)
     if dof == 0:
         warnings.append(
             f"{t.size} points for {len(fitted)} coefficients leave no degrees of freedom: the "

@@ -56,10 +56,10 @@ class CallendarVanDusen(ForwardCurve):
         if self.R0 <= 0:
             raise CalibrationError(f"{self.name}: R0 must be a positive resistance, got {self.R0}")
         grid = np.linspace(self.t_min_C - RANGE_MARGIN_K, self.t_max_C + RANGE_MARGIN_K, 2001)
-        if np.any(self._slope(grid) <= 0):
+        if np.any(self._slope(grid) <= 0) or self._r(grid[:1])[0] <= 0:
             raise CalibrationError(
-                f"{self.name}: coefficients {self.coefficients()} do not give a resistance that "
-                f"rises with temperature over {self.t_min_C:g}..{self.t_max_C:g} °C"
+                f"{self.name}: coefficients {self.coefficients()} do not give a positive resistance "
+                f"that rises with temperature over {self.t_min_C:g}..{self.t_max_C:g} °C"
             )
 
     def coefficients(self) -> dict[str, float]:
