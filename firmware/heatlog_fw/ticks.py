@@ -16,3 +16,11 @@ except ImportError:
 
     def ticks_diff(a, b):
         return ((a - b + _HALF) & (_PERIOD - 1)) - _HALF
+
+
+try:
+    from time import sleep_ms  # noqa: F401
+except ImportError:
+
+    def sleep_ms(ms):
+        _time.sleep(ms / 1000)

@@ -8,6 +8,7 @@ Each check_* function takes `vectors`, a dict of vector files already read: {"fr
 import struct
 
 from fakefs import FakeFs, PowerCut
+from heatlog_fw import conversions as cv
 from heatlog_fw import framing
 from heatlog_fw import logformat as lf
 from heatlog_fw.crc import crc16, crc32
@@ -23,6 +24,11 @@ ANCHOR_MS = 1780000000000  # invented data: 2026-05-27T...Z as the host-set cloc
 
 def _unhex(s):
     return bytes(int(s[i : i + 2], 16) for i in range(0, len(s), 2))
+
+
+def _hex(b):
+    # not bytes.hex(): MicroPython 1.27 returns b"" (bytes) for an empty input
+    return "".join(f"{x:02x}" for x in b)
 
 
 def check_crc_check_values(vectors):
@@ -45,9 +51,7 @@ def check_frame_vectors(vectors):
                 if t == framing.BAD:
                     out.append(["bad", payload.decode(), rid])
                 else:
-                    out.append(
-                        ["frame", t, rid, payload.hex() if hasattr(payload, "hex") else payload]
-                    )
+                    out.append(["frame", t, rid, _hex(payload)])
         want = [list(x) for x in case["expect"]]
         assert out == want, (case["name"], out, want)
 
@@ -306,7 +310,394 @@ def check_state_survives_cut_in_rename(vectors):
     assert st2.state["active"] == 1
 
 
+def check_conversion_vectors(vectors):
+    v = vectors["conversions"]
+    c = v["callendar_van_dusen"]
+    for case in c["cases"]:
+        r = cv.cvd_ohms(case["t_C"], c["R0_ohm"], c["A"], c["B"], c["C"])
+        assert abs(r - case["R_ohm"]) <= case["tol_ohm"], (case, r)
+        t = cv.cvd_c(case["R_ohm"], c["R0_ohm"], c["A"], c["B"], c["C"])
+        assert abs(t - case["t_C"]) <= case["tol_C"], (case, t)
+    s = v["steinhart_hart"]
+    for case in s["cases"]:
+        t = cv.steinhart_hart_c(case["R_ohm"], s["A"], s["B"], s["C"])
+        assert abs(t - case["t_C"]) <= case["tol_C"], (case, t)
+    b = v["beta"]
+    for case in b["cases"]:
+        t = cv.beta_c(case["R_ohm"], b["R25_ohm"], b["beta_K"])
+        assert abs(t - case["t_C"]) <= case["tol_C"], (case, t)
+    m = v["max31865"]
+    for case in m["cases"]:
+        r = cv.rtd_ohms(case["code"], 1, m["R_ref_ohm"])
+        t = cv.cvd_c(r, 100.0)
+        assert abs(t - case["t_C"]) <= case["tol_C"], (case, t)
+    d = v["adc_divider"]
+    for case in d["cases"]:
+        r = cv.divider_ohms(case["raw"], case["full_scale"], d["R_fixed_ohm"])
+        if case["R_ohm"] is None:
+            assert r is None
+        else:
+            assert abs(r - case["R_ohm"]) <= case["tol_ohm"], (case, r)
+    model = {"type": "callendar_van_dusen", "R0": 100.0}
+    assert abs(cv.to_celsius(model, 138.5055) - 100.0) < 1e-3
+    assert abs(cv.to_celsius({"type": "beta", "R25": 1e4, "beta": 3950.0}, 1e4) - 25.0) < 1e-9
+    assert cv.to_celsius(model, None) is None and cv.to_celsius({"type": "x"}, 100.0) is None
+
+
+def check_drivers(vectors):
+    import machine
+    from heatlog_fw import adc_divider, ads1115, max31865
+
+    adc = machine.ADC(machine.Pin(26))
+    ch = adc_divider.AdcDivider(adc)
+    adc.codes = [2047, 2048, 2049, 2048]
+    assert ch.read_raw(4) == 2048 + 2049 + 2048 + 2047 and ch.fault == 0  # first read discarded
+    adc.codes = [0]
+    ch.read_raw(8)
+    assert ch.fault == adc_divider.FAULT_SHORT
+    adc.codes = [4095]
+    ch.read_raw(8)
+    assert ch.fault == adc_divider.FAULT_OPEN
+    adc.codes = [512]
+    ch2 = adc_divider.AdcDivider(adc, dnl={512: 511})
+    assert ch2.read_raw(3) == 3 * 511
+
+    i2c = machine.I2C(0)
+    dev = machine.FakeAds1115()
+    i2c.devices[0x48] = dev
+    ads = ads1115.Ads1115(i2c, 0x48, gain=1, rate=7)
+    ads.wait_ms = 0
+    dev.volts_uv = {4: 1100000, 7: 3300000}  # AIN0 = 1.1 V, AIN3 = 3.3 V (over range at 4.096)
+    r = ads1115.Ads1115Ratio(ads, 4, 7)
+    q = r.read_raw(2)
+    # AIN0 code = 1.1/4.096*32768 = 8800; AIN3 = 26400: ratio 1/3 in Q15
+    assert q == 8800 * 32768 // 26400 and r.fault == 0, q
+    reg, cfg = dev.writes[-1]
+    assert (
+        reg == 1
+        and cfg & 0x8000
+        and (cfg >> 12) & 7 == 7
+        and (cfg >> 9) & 7 == 1
+        and (cfg >> 5) & 7 == 7
+    )
+    assert cfg & 0x0100  # single-shot
+    dev.volts_uv = {4: 1100000, 7: 0}
+    assert r.read_raw(1) == 0 and r.fault == ads1115.FAULT_OPEN
+
+    spi = machine.SPI(0)
+    rtd = machine.FakeMax31865(resistance=100.0, r_ref=430.0)
+    spi.device = rtd
+    cs = machine.Pin(17, machine.Pin.OUT)
+    m = max31865.Max31865(spi, cs, wires=3, mains_hz=50, high_code=0x7FF0, low_code=0x0400)
+    m.wait_ms = 0
+    assert rtd.regs[0] & 0x80 and rtd.regs[0] & 0x10 and rtd.regs[0] & 0x01  # VBIAS, 3-wire, 50 Hz
+    assert (rtd.regs[3] << 8 | rtd.regs[4]) >> 1 == 0x7FF0 and (
+        rtd.regs[5] << 8 | rtd.regs[6]
+    ) >> 1 == 0x0400
+    assert m.read_raw(2) == 2 * 7620 and m.fault == 0  # 100 ohm / 430 ohm * 32768 = 7620
+    assert cs.v == 1
+    rtd.fault = 0x04 | 0x08  # RTDIN- open
+    m.read_raw(1)
+    assert m.fault == max31865.FAULT_OPEN and m.fault_reg == 0x0C and rtd.regs[7] == 0  # cleared
+    rtd.fault = 0x40
+    m.read_raw(1)
+    assert m.fault == max31865.FAULT_SHORT
+    rtd.fault = 0x80
+    m.read_raw(1)
+    assert m.fault == max31865.FAULT_RANGE
+    rtd.fault = 0
+    m.read_raw(1)
+    assert m.fault == 0
+    try:
+        max31865.Max31865(spi, cs, wires=5)
+        raise AssertionError("accepted 5 wires")
+    except ValueError:
+        pass
+
+
+EXAMPLE_CONFIG = {
+    "board_id": "bench-1",
+    "interval_ms": 1000,
+    "oversample": 4,
+    "flush_ms": 3000,
+    "channels": [
+        {
+            "kind": "adc_divider",
+            "probe_id": "NTC-A1",
+            "pin": 26,
+            "r_fixed_ohm": 10000,
+            "model": {"type": "steinhart_hart", "A": 1.129148e-3, "B": 2.34125e-4, "C": 8.76741e-8},
+        },
+        {
+            "kind": "max31865",
+            "probe_id": "PT100-C3",
+            "spi": {"id": 0, "sck": 18, "mosi": 19, "miso": 16},
+            "cs": 17,
+            "r_ref_ohm": 430,
+            "wires": 4,
+            "model": {"type": "callendar_van_dusen", "R0": 100},
+        },
+    ],
+}
+
+
+class _Link:
+    """Host side of the serial link for the logger checks (firmware framing, no pyserial)."""
+
+    def __init__(self, lg):
+        self.lg = lg
+        self.out = bytearray()
+        self.parser = framing.Parser()
+        self.rid = 0
+
+    def write(self, data):
+        self.out.extend(data)
+
+    def frames(self):
+        got = list(self.parser.feed(bytes(self.out)))
+        self.out = bytearray()
+        return got
+
+    def ask(self, t, payload=b"", now=0):
+        self.rid = (self.rid + 1) & 0xFF
+        self.lg.poll(framing.encode(t, self.rid, payload), now)
+        got = [f for f in self.frames() if f[0] != 0xC0]
+        assert len(got) == 1 and got[0][1] == self.rid, got
+        return got[0][0], got[0][2]
+
+
+def _logger(cfg, fs=None, machine_mod=None):
+    import json
+
+    import machine
+    from heatlog_fw.logger import Logger
+
+    fs = fs or FakeFs()
+    fs.mkdir(ROOT)
+    if cfg is not None:
+        with fs.open(ROOT + "/config.json", "w") as f:
+            f.write(json.dumps(cfg) if not isinstance(cfg, str) else cfg)
+    holder = []
+    lg = Logger(fs, ROOT, machine_mod or _FakeHw(machine), lambda d: holder[0].write(d), 1, None)
+    link = _Link(lg)
+    holder.append(link)
+    return lg, link, fs
+
+
+class _FakeHw:
+    """The fake machine module, with an RTD attached to every SPI bus created."""
+
+    def __init__(self, machine):
+        self.m = machine
+        self.Pin = machine.Pin
+        self.rtd = machine.FakeMax31865(resistance=119.3971, r_ref=430.0)
+
+    def ADC(self, pin):
+        return self.m.ADC(pin)
+
+    def I2C(self, *a, **k):
+        return self.m.I2C(*a, **k)
+
+    def SPI(self, *a, **k):
+        s = self.m.SPI(*a, **k)
+        s.device = self.rtd
+        return s
+
+
+def check_logger_commands(vectors):
+    import json
+
+    from heatlog_fw import protocol as pr
+
+    lg, link, fs = _logger(EXAMPLE_CONFIG)
+    for d in lg.sampler.channels:
+        if hasattr(d, "wait_ms"):
+            d.wait_ms = 0
+    assert lg.boot(0) is None and lg.config_errors == []
+    t, p = link.ask(pr.IDENTIFY)
+    ident = json.loads(p)
+    assert t == pr.IDENTIFY | 0x80 and ident["board_id"] == "bench-1" and ident["clock_ms"] is None
+    assert ident["format"] == 1 and ident["protocol"] == 1 and ident["record_size"] == 22
+    t, p = link.ask(pr.SET_CLOCK, struct.pack("<q", ANCHOR_MS), 0)
+    assert t == pr.SET_CLOCK | 0x80 and struct.unpack("<qq", p) == (ANCHOR_MS, 0)
+    t, p = link.ask(pr.START_RUN, b"", 10)
+    assert t == pr.START_RUN | 0x80 and struct.unpack("<I", p) == (1,)
+    t, p = link.ask(pr.START_RUN, b"", 10)
+    assert t == pr.ERROR and p[0] == pr.E_STATE
+    t, p = link.ask(pr.STREAM, b"\x01", 10)
+    assert t == pr.STREAM | 0x80 and struct.unpack("<BH", p) == (1, 22)
+    live = 0
+    for now in range(10, 10010, 250):
+        lg.poll(None, now)
+        live += len([f for f in link.frames() if f[0] == pr.LIVE])
+    assert live == 9, live  # one live record per 1000 ms slot (the first came before STREAM)
+    lg.poll(None, 20000)  # late by 9 slots: skipped, not sampled in a burst
+    recs = [f for f in link.frames() if f[0] == pr.LIVE]
+    assert len(recs) == 1 and recs[0][2][1] & lf.REC_SLOTS_SKIPPED
+    assert struct.unpack_from("<I", recs[0][2], 8)[0] == 19000 + 990  # slot offset + lateness
+    t, p = link.ask(pr.SET_CLOCK, struct.pack("<q", ANCHOR_MS + 25000), 20100)
+    t, p = link.ask(pr.STOP_RUN, b"", 20200)
+    assert struct.unpack("<I", p) == (1,)
+    t, p = link.ask(pr.LIST_RUNS, struct.pack("<H", 0))
+    runs = json.loads(p)
+    assert runs["active"] is None and runs["more"] is False and runs["runs"][0][0] == 1
+    size = runs["runs"][0][1]
+    data = bytearray()
+    while len(data) < size:
+        t, p = link.ask(pr.READ_RUN, struct.pack("<IIH", 1, len(data), 100))
+        run, off, total = struct.unpack_from("<III", p)
+        assert (run, off, total) == (1, len(data), size)
+        data.extend(p[12:])
+    h = lf.unpack_header(data)
+    assert h["anchor_ms"] == ANCHOR_MS + 10 and h["flags"] & lf.HDR_CLOCK_VALID
+    recs = _records(bytes(data))
+    assert [r[0] for r in recs] == list(range(12)) and recs[0][1] == 0, recs
+    assert recs[-1][1] == 20090 and data.count(b"\x5e\x14") >= 1  # clock-set segment marker
+    assert recs[1][2] == 4 * 2048  # ADC raw: sum of 4 codes
+    assert recs[1][3] == 4 * int(119.3971 * 32768 / 430)  # RTD: 50 degC, IEC 60751
+    t, p = link.ask(pr.RUN_CHECKSUM, struct.pack("<I", 1))
+    assert struct.unpack("<III", p) == (1, size, crc32(bytes(data)))
+    t, p = link.ask(pr.ERASE_RUN, struct.pack("<III", 1, size, crc32(bytes(data)) ^ 1))
+    assert t == pr.ERROR and p[0] == pr.E_CHECKSUM
+    t, p = link.ask(pr.READ_RUN, struct.pack("<IIH", 7, 0, 10))
+    assert t == pr.ERROR and p[0] == pr.E_NOT_FOUND
+    t, p = link.ask(pr.ERASE_RUN, struct.pack("<III", 1, size, crc32(bytes(data))))
+    assert t == pr.ERASE_RUN | 0x80
+    t, p = link.ask(pr.GET_CONFIG)
+    assert json.loads(p) == EXAMPLE_CONFIG
+    t, p = link.ask(pr.PUT_CONFIG, b'{"board_id": 5}')
+    assert t == pr.ERROR and p[0] == pr.E_CONFIG and b"board_id" in p and b"interval_ms" in p
+    t, p = link.ask(pr.PUT_CONFIG, b"__import__('os').remove('x')")
+    assert t == pr.ERROR and p[0] == pr.E_CONFIG and b"not valid JSON" in p
+    new = dict(EXAMPLE_CONFIG)
+    new["board_id"] = "bench-2"
+    t, p = link.ask(pr.PUT_CONFIG, json.dumps(new).encode())
+    assert t == pr.PUT_CONFIG | 0x80, p
+    assert json.loads(link.ask(pr.IDENTIFY)[1])["board_id"] == "bench-2"
+    for bad_t, bad_p, code in (
+        (0x55, b"", pr.E_UNKNOWN),
+        (pr.READ_RUN, b"\x01", pr.E_PAYLOAD),
+        (pr.READ_RUN, struct.pack("<IIH", 1, 0, 0), pr.E_PAYLOAD),
+        (pr.SET_CLOCK, struct.pack("<q", 5), pr.E_PAYLOAD),
+        (pr.STREAM, b"\x07", pr.E_PAYLOAD),
+        (pr.STOP_RUN, b"", pr.E_STATE),
+    ):
+        t, p = link.ask(bad_t, bad_p)
+        assert t == pr.ERROR and p[0] == code, (bad_t, p)
+    lg.poll(b"\xa7\x01\x01\x09\x00\x00\xff\xff", 0)  # bad CRC
+    got = link.frames()
+    assert got[0][0] == pr.ERROR and got[0][2][0] == pr.E_BAD_FRAME
+
+
+def check_logger_bad_config_idles(vectors):
+    from heatlog_fw import protocol as pr
+
+    for cfg, words in (
+        (None, "no config.json"),
+        ("{not json", "not valid JSON"),
+        ({"board_id": "x", "interval_ms": 50, "channels": []}, "interval_ms"),
+        (dict(EXAMPLE_CONFIG, oversample=200), "oversample"),
+    ):
+        lg, link, fs = _logger(cfg)
+        lg.boot(0)
+        text = bytes(link.out).decode()
+        assert "config invalid" in text and words in text, (words, text)
+        link.out = bytearray()
+        t, p = link.ask(pr.START_RUN)
+        assert t == pr.ERROR and words in p.decode(), p
+        assert lg.poll(None, 100) == 50 and not lg.watchdog_wanted
+        t, p = link.ask(pr.IDENTIFY)
+        assert t == pr.IDENTIFY | 0x80
+
+
+def check_logger_resumes_after_reset(vectors):
+    lg, link, fs = _logger(EXAMPLE_CONFIG)
+    for d in lg.sampler.channels:
+        if hasattr(d, "wait_ms"):
+            d.wait_ms = 0
+    lg.boot(0)
+    lg.start_run(0)
+    for now in range(0, 7001, 500):
+        lg.poll(None, now)
+    fs2 = fs.crashed()  # power cut: records after the last flush (3000 ms) are gone
+    lg2, link2, _ = _logger(None, fs2)
+    for d in lg2.sampler.channels:
+        if hasattr(d, "wait_ms"):
+            d.wait_ms = 0
+    assert lg2.boot(100) == 1 and lg2.watchdog_wanted
+    for now in range(100, 2200, 500):
+        lg2.poll(None, now)
+    lg2.stop_run(3000)
+    with fs2.open(ROOT + "/" + run_name(1), "rb") as f:
+        data = f.read()
+    recs = _records(data)
+    seqs = [r[0] for r in recs]
+    assert seqs == list(range(len(seqs))) and len(seqs) >= 4 + 3, seqs
+    assert b"\x5e" in data[lf.header_size(2) :]
+    assert "resumed run 1" in bytes(link2.out).decode()
+
+
+class _QuietAdc:
+    """Allocation-free ADC for the allocation check (the general fakes allocate freely)."""
+
+    def read_u16(self):
+        return 0x8008
+
+
+class _QuietSpi:
+    """Allocation-free SPI answering like a MAX31865 at code 7620 with no fault."""
+
+    def write(self, buf):
+        pass
+
+    def readinto(self, buf):
+        if len(buf) == 2:
+            buf[0] = (7620 << 1) >> 8
+            buf[1] = (7620 << 1) & 0xFF
+        else:
+            buf[0] = 0
+
+
+def _quiet_pin(v=None):
+    return None
+
+
+def check_sampler_allocates_nothing(vectors):
+    """Under MicroPython: no heap allocation per sample (CPython has no gc.mem_alloc: skip)."""
+    import gc
+
+    from heatlog_fw.adc_divider import AdcDivider
+    from heatlog_fw.max31865 import Max31865
+    from heatlog_fw.sampler import Sampler
+
+    if not hasattr(gc, "mem_alloc"):
+        return
+    fs = FakeFs()
+    store = LogStore(ROOT, fs, batch_records=400, flush_ms=10**8, space_ms=10**8)
+    store.start("b", "0.1.0", 1000, 4, CHANNELS, 0, 0)
+    rtd = Max31865(_QuietSpi(), _quiet_pin)
+    rtd.wait_ms = 0
+    s = Sampler([AdcDivider(_QuietAdc()), rtd], 1000, 4)
+    s.start(0)
+    s.step(0, store, False)
+    gc.collect()
+    gc.disable()
+    before = gc.mem_alloc()
+    for k in range(1, 201):
+        s.step(k * 1000 + 7, store, False)
+    after = gc.mem_alloc()
+    gc.enable()
+    assert s.seq == 201 and store.pending == 201
+    assert after - before == 0, after - before
+
+
 CHECKS = [
+    check_logger_commands,
+    check_logger_bad_config_idles,
+    check_logger_resumes_after_reset,
+    check_sampler_allocates_nothing,
+    check_drivers,
+    check_conversion_vectors,
     check_crc_check_values,
     check_frame_vectors,
     check_parser_bounded_on_garbage,
