@@ -6,7 +6,7 @@ erratum E11: DNL spikes at 512, 1536, 2560, 3584) from a calibration: {code: cor
 """
 
 try:
-    from micropython import const
+    from micropython import const  # pyright: ignore[reportAssignmentType]
 except ImportError:
 
     def const(x):

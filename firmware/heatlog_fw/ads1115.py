@@ -7,7 +7,7 @@ and stores the ratio signal/excitation as Q15 (ratio * 32768).
 from .ticks import sleep_ms
 
 try:
-    from micropython import const
+    from micropython import const  # pyright: ignore[reportAssignmentType]
 except ImportError:
 
     def const(x):

@@ -29,6 +29,6 @@ class Clock:
         d = ticks_diff(now, self.base_ticks)
         if d > _REBASE_MS:
             self.base_ms += d
-            self.base_ticks = ticks_add(self.base_ticks, d)
+            self.base_ticks = ticks_add(self.base_ticks, d)  # pyright: ignore[reportArgumentType]
             d = 0
         return self.base_ms + d

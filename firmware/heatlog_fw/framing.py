@@ -11,7 +11,7 @@ import struct
 from .crc import crc16
 
 try:
-    from micropython import const
+    from micropython import const  # pyright: ignore[reportAssignmentType]
 except ImportError:
 
     def const(x):
@@ -32,7 +32,10 @@ R_TIMEOUT = b"timeout"
 R_JUNK = b"junk"
 
 
-def encode(ftype, rid, payload=b""):
+def encode(ftype, rid, payload=None):
+    """One frame as a bytearray; payload is any bytes-like object (None: empty)."""
+    if payload is None:
+        payload = b""
     n = len(payload)
     if n > MAX_PAYLOAD:
         raise ValueError("payload too long")

@@ -10,7 +10,7 @@ import struct
 from .crc import crc16, crc32
 
 try:
-    from micropython import const
+    from micropython import const  # pyright: ignore[reportAssignmentType]
 except ImportError:
 
     def const(x):

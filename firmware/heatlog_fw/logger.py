@@ -25,7 +25,7 @@ class Logger:
         self.parser = framing.Parser()
         self.read_buf = bytearray(protocol.READ_CHUNK)
         self.streaming = False
-        self.live = None
+        self.live = bytearray(0)
         self.packer = None
         self.sampler = None
         self.cfg = None

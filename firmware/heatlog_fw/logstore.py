@@ -16,7 +16,7 @@ from .crc import crc16, crc32
 from .ticks import ticks_diff
 
 try:
-    from micropython import const
+    from micropython import const  # pyright: ignore[reportAssignmentType]
 except ImportError:
 
     def const(x):
@@ -54,7 +54,7 @@ class LogStore:
         self.file = None
         self.run_no = -1
         self.packer = None
-        self.batch = None
+        self.batch = bytearray(0)
         self.pending = 0
         self.last_flush = 0
         self.last_space = 0

@@ -7,7 +7,7 @@ codes and the RTD high/low thresholds are programmed so D7/D6 can fire.
 from .ticks import sleep_ms
 
 try:
-    from micropython import const
+    from micropython import const  # pyright: ignore[reportAssignmentType]
 except ImportError:
 
     def const(x):

@@ -11,7 +11,7 @@ from . import framing
 from .logstore import StoreError, StoreFull
 
 try:
-    from micropython import const
+    from micropython import const  # pyright: ignore[reportAssignmentType]
 except ImportError:
 
     def const(x):

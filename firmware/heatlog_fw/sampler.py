@@ -64,7 +64,7 @@ class Sampler:
         flags = self.flags
         if late >= iv:
             k = late // iv
-            self.next_due = ticks_add(self.next_due, k * iv)
+            self.next_due = ticks_add(self.next_due, k * iv)  # pyright: ignore[reportArgumentType]
             self.due_offset += k * iv
             self.skipped += k
             late -= k * iv
@@ -80,6 +80,6 @@ class Sampler:
         self.last_flags = flags
         self.seq += 1
         self.flags = 0
-        self.next_due = ticks_add(self.next_due, iv)
+        self.next_due = ticks_add(self.next_due, iv)  # pyright: ignore[reportArgumentType]
         self.due_offset += iv
         return True

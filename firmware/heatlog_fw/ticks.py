@@ -1,7 +1,7 @@
 """Wrap-safe millisecond ticks: the board's own, or an exact CPython model of them (period 2**30)."""
 
 try:
-    from time import ticks_add, ticks_diff, ticks_ms  # noqa: F401
+    from time import ticks_add, ticks_diff, ticks_ms  # noqa: F401  # pyright: ignore
 except ImportError:
     import time as _time
 
@@ -9,7 +9,7 @@ except ImportError:
     _HALF = 1 << 29
 
     def ticks_ms():
-        return int(_time.monotonic() * 1000) & (_PERIOD - 1)
+        return int(_time.monotonic() * 1000) & (_PERIOD - 1)  # pyright: ignore[reportAttributeAccessIssue]
 
     def ticks_add(t, delta):
         return (t + delta) & (_PERIOD - 1)
@@ -19,7 +19,7 @@ except ImportError:
 
 
 try:
-    from time import sleep_ms  # noqa: F401
+    from time import sleep_ms  # noqa: F401  # pyright: ignore
 except ImportError:
 
     def sleep_ms(ms):
