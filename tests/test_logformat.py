@@ -33,7 +33,7 @@ def test_header_matches_scenario():
     )
     assert h.clock_set
     assert [
-        (c.kind_code, c.wires, c.source, c.gain, round(c.ref_ohm * 1000), c.probe_id)
+        (c.kind_code, c.mode, c.source, c.gain, round(c.ref_ohm * 1000), c.probe_id)
         for c in h.channels
     ] == [tuple(c) for c in want["channels"]]
     assert [c.kind for c in h.channels] == ["adc_divider", "max31865"]
@@ -128,3 +128,28 @@ def test_garbage_after_header_is_counted_not_decoded(junk):
 def test_header_crc_is_zlib_crc32():
     hsize = lf.parse_header(DATA).header_size
     assert struct.unpack_from("<I", DATA, hsize - 4)[0] == zlib.crc32(DATA[: hsize - 4])
+
+
+def test_channel_faults_and_ratio():
+    log = lf.decode(DATA)
+    faults = log.channel_faults()
+    assert faults.shape == (log.n_records, 2)
+    # record 4 of the scenario has fault mask 0b10: channel 0 code 2 (short), channel 1 ok
+    assert faults[4].tolist() == [lf.FAULT_SHORT, lf.FAULT_NONE]
+    assert faults[[0, 1, 2, 3, 5]].sum() == 0
+    r = log.ratio()
+    # channel 0: sum of 4 ADC codes over 4*4096; channel 1: RTD code sum / (4*32768) = R/R_ref
+    np.testing.assert_allclose(
+        r[0], [4000 / (4 * 4096), (7620 * 4) / (4 * 32768)], rtol=0, atol=1e-12
+    )
+
+
+def test_decode_record_checks_crc():
+    log = lf.decode(DATA)
+    hsize = log.header.header_size
+    rec = DATA[hsize : hsize + 22]
+    assert lf.decode_record(rec, 2) == (0, 0, 0, 0, (4000, 30480))
+    with pytest.raises(lf.LogCorrupt, match="CRC"):
+        lf.decode_record(rec[:-1] + bytes([rec[-1] ^ 1]), 2)
+    with pytest.raises(lf.LogCorrupt, match="22 bytes"):
+        lf.decode_record(rec[:-1], 2)

@@ -59,15 +59,35 @@ def crc16_ccitt_false(data: bytes) -> int:
     return binascii.crc_hqx(data, 0xFFFF)
 
 
+FAULT_NONE = 0
+FAULT_OPEN = 1
+FAULT_SHORT = 2
+FAULT_RANGE = 3  # out of range, or another converter fault
+FAULT_NAMES = {0: "ok", 1: "open", 2: "short", 3: "out of range"}
+
+
 @dataclass(frozen=True)
 class Channel:
+    """One row of the header's channel table.
+
+    mode: wires (2/3/4) for max31865; for the dividers 0 = thermistor on the low side,
+    1 = on the high side. source: ADC pin, ADS1115 (signal mux << 4 | excitation mux), or the
+    MAX31865 chip-select pin. gain: ADS1115 PGA setting (0..5). ref_ohm: fixed divider resistor
+    or MAX31865 reference resistor.
+    """
+
     kind: str
     kind_code: int
-    wires: int
+    mode: int
     source: int
     gain: int
     ref_ohm: float
     probe_id: str
+
+    @property
+    def full_scale(self) -> int:
+        """Raw value that means ratio 1 for one reading (multiply by oversample for sums)."""
+        return {1: 4096, 2: 32768, 3: 32768}.get(self.kind_code, 0)
 
 
 @dataclass(frozen=True)
@@ -124,7 +144,7 @@ class RunLog:
     seq: np.ndarray  # uint32
     offset_ms: np.ndarray  # int64, from run start
     flags: np.ndarray  # uint8
-    fault_mask: np.ndarray  # uint16, bit i = channel i reported a probe fault
+    fault_mask: np.ndarray  # uint16, bits 2i..2i+1 = fault code of channel i (see channel_faults)
     raw: np.ndarray  # int32, shape (n_records, n_channels)
     segment: np.ndarray  # int32, index into `segments` (-1 = before any marker)
     segments: tuple[Segment, ...]
@@ -139,6 +159,21 @@ class RunLog:
     @property
     def damaged(self) -> bool:
         return bool(self.bad_blocks or self.trailing_bytes)
+
+    def channel_faults(self) -> np.ndarray:
+        """Fault code per record and channel (uint8, FAULT_NONE/OPEN/SHORT/RANGE)."""
+        shifts = 2 * np.arange(len(self.header.channels), dtype=np.uint16)
+        return ((self.fault_mask[:, None] >> shifts) & 3).astype(np.uint8)
+
+    def ratio(self) -> np.ndarray:
+        """Raw values as fractions of full scale (ADC divider: sum/(4096 n); ADS1115: Q15;
+        MAX31865: code sum/(32768 n), i.e. R/R_ref). float64, shape (n_records, n_channels)."""
+        h = self.header
+        scale = np.array(
+            [c.full_scale * (1 if c.kind_code == 2 else h.oversample) for c in h.channels],
+            dtype=float,
+        )
+        return self.raw / scale
 
     def epoch_ms(self) -> np.ndarray:
         """Wall-clock time (ms since 1970-01-01 UTC) per record; NaN where no clock was set."""
@@ -173,7 +208,7 @@ def parse_header(data: bytes) -> LogHeader:
             Channel(
                 kind=KIND_NAMES.get(kind, f"unknown-{kind}"),
                 kind_code=kind,
-                wires=wires,
+                mode=wires,
                 source=source,
                 gain=gain,
                 ref_ohm=ref_mohm / 1000.0,
@@ -263,10 +298,7 @@ def decode(data: bytes) -> RunLog:
             bad_blocks += 1
             bad_bytes += nxt - pos
         pos = nxt
-    dt = np.dtype(
-        [("tag", "u1"), ("flags", "u1"), ("fault", "<u2"), ("seq", "<u4"), ("off", "<u4"),
-         ("raw", "<i4", (nch,)), ("crc", "<u2")]
-    )  # fmt: skip
+    dt = record_dtype(nch)
     rec = np.frombuffer(b"".join(rows), dtype=dt) if rows else np.zeros(0, dtype=dt)
     return RunLog(
         header=hdr,
@@ -281,6 +313,28 @@ def decode(data: bytes) -> RunLog:
         bad_bytes=bad_bytes,
         trailing_bytes=trailing,
     )
+
+
+def record_dtype(n_channels: int) -> np.dtype:
+    """numpy dtype of one record (little-endian), also used for live-stream payloads."""
+    return np.dtype(
+        [("tag", "u1"), ("flags", "u1"), ("fault", "<u2"), ("seq", "<u4"), ("off", "<u4"),
+         ("raw", "<i4", (n_channels,)), ("crc", "<u2")]
+    )  # fmt: skip
+
+
+def decode_record(payload: bytes, n_channels: int) -> tuple[int, int, int, int, tuple[int, ...]]:
+    """(seq, offset_ms, flags, fault_mask, raw values) of one record, e.g. a live-stream frame's
+    payload; raises LogCorrupt if its tag, length or CRC is wrong."""
+    size = 14 + 4 * n_channels
+    if len(payload) != size or payload[0] != RECORD_TAG:
+        raise LogCorrupt(f"record must be {size} bytes starting with 0xA5, got {len(payload)}")
+    (stored,) = struct.unpack_from("<H", payload, size - 2)
+    if crc16_ccitt_false(payload[: size - 2]) != stored:
+        raise LogCorrupt("record CRC mismatch")
+    fault, seq, off = struct.unpack_from("<HII", payload, 2)
+    raw = struct.unpack_from(f"<{n_channels}i", payload, 12)
+    return seq, off, payload[1], fault, raw
 
 
 def read_log(path: str | Path) -> RunLog:
