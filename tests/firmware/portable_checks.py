@@ -691,7 +691,55 @@ def check_sampler_allocates_nothing(vectors):
     assert after - before == 0, after - before
 
 
+class _CountingChannel:
+    fault = 0
+
+    def read_raw(self, n):
+        return n
+
+
+def check_sampler_no_drift_across_wrap(vectors):
+    """Slots stay on start + k*interval across the 2**30 ms ticks wrap; late wake-ups do not
+    accumulate; a stall of several intervals skips those slots and flags the next record."""
+    from heatlog_fw.sampler import Sampler
+    from heatlog_fw.ticks import ticks_add, ticks_diff
+
+    class Sink:
+        def __init__(self):
+            self.rows = []
+
+        def add(self, seq, off, flags, fault, raw, now):
+            self.rows.append((seq, off, flags))
+            return True
+
+    start = ticks_add(0, -2500)  # 2.5 s before the ticks counter wraps
+    s = Sampler([_CountingChannel()], 100, 3)
+    s.start(start)
+    sink = Sink()
+    now = start
+    for k in range(300):
+        if k == 150:
+            now = ticks_add(now, 730)  # a stall of 7.3 intervals
+        lateness = (k * 37) % 23  # the loop wakes up 0..22 ms late
+        now2 = ticks_add(now, lateness)
+        while not s.due(now2):
+            now2 = ticks_add(now2, 1)
+        s.step(now2, sink, False)
+        now = ticks_add(s.next_due, 0)
+    offs = [r[1] for r in sink.rows]
+    assert ticks_diff(now, start) > 2500  # the run crossed the wrap
+    assert offs == sorted(offs)
+    skipped = [r for r in sink.rows if r[2] & lf.REC_SLOTS_SKIPPED]
+    assert len(skipped) == 1 and s.skipped == 7, (skipped, s.skipped)
+    assert skipped[0][:2] == (150, (150 + 7) * 100 + 30 + 7)  # slot 157 + 30 ms stall + 7 ms late
+    for seq, off, flags in sink.rows:
+        if not flags & lf.REC_SLOTS_SKIPPED:  # slot start + lateness: never drifting
+            assert off % 100 == (seq * 37) % 23 and off // 100 == seq + (7 if seq > 150 else 0)
+    assert sink.rows[-1][1] // 100 == 299 + 7
+
+
 CHECKS = [
+    check_sampler_no_drift_across_wrap,
     check_logger_commands,
     check_logger_bad_config_idles,
     check_logger_resumes_after_reset,
