@@ -49,7 +49,8 @@ def run():
     except OSError:
         pass
     out = _writer(sys.stdout.buffer)
-    lg = Logger(FlashFs(), ROOT, machine, out, cause, gc.mem_free)
+    rtc = (machine.RTC(), time.gmtime, time.mktime, time.gmtime(0)[0])
+    lg = Logger(FlashFs(), ROOT, machine, out, cause, gc.mem_free, rtc)
     lg.boot(time.ticks_ms())
     led = _led(lg.cfg.get("led_pin") if lg.cfg else None)
     wdt = None

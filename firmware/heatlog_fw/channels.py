@@ -1,5 +1,7 @@
 """Build the channel drivers a validated config describes (the only module that imports machine)."""
 
+import sys
+
 from . import logformat as lf
 from .adc_divider import AdcDivider
 from .ads1115 import Ads1115, Ads1115Ratio
@@ -75,7 +77,10 @@ def build(cfg, machine):
             dnl = None
             if ch.get("dnl"):
                 dnl = {int(k): int(v) for k, v in ch["dnl"].items()}
-            adc = machine.ADC(machine.Pin(ch["pin"]))
+            if sys.platform == "esp32":  # ADC1 pins only; always set the attenuation
+                adc = machine.ADC(machine.Pin(ch["pin"]), atten=machine.ADC.ATTN_11DB)
+            else:  # rp2: building from a Pin also turns the pad analog
+                adc = machine.ADC(machine.Pin(ch["pin"]))
             out.append(AdcDivider(adc, dnl, ch.get("ntc_side", "low") == "low"))
         elif kind == "ads1115":
             b = ch["i2c"]

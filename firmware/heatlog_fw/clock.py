@@ -32,3 +32,25 @@ class Clock:
             self.base_ticks = ticks_add(self.base_ticks, d)  # pyright: ignore[reportArgumentType]
             d = 0
         return self.base_ms + d
+
+
+_Y2000 = 946684800  # seconds from 1970-01-01 to 2000-01-01 (the esp32 epoch)
+_RTC_VALID_FROM = 2024  # rp2 restarts its RTC at 2021-01-01, esp32 at 2000-01-01 after power-up
+
+
+def rtc_write(rtc, epoch_ms, gmtime, epoch_year):
+    """Copy host time into the RTC (it survives soft and watchdog resets, not power loss).
+    gmtime: the port's time.gmtime; epoch_year: time.gmtime(0)[0] (1970, or 2000 on esp32)."""
+    secs = epoch_ms // 1000 - (_Y2000 if epoch_year == 2000 else 0)
+    t = gmtime(secs)
+    rtc.datetime((t[0], t[1], t[2], t[6], t[3], t[4], t[5], 0))
+
+
+def rtc_read(rtc, mktime, epoch_year):
+    """Epoch ms from the RTC if it still holds a host-set time (year >= 2024), else 0.
+    Sub-second time is not kept: the result is good to 1 s."""
+    y, mo, d, wd, h, mi, s, _ = rtc.datetime()
+    if y < _RTC_VALID_FROM:
+        return 0
+    secs = mktime((y, mo, d, h, mi, s, wd, 0))
+    return (secs + (_Y2000 if epoch_year == 2000 else 0)) * 1000

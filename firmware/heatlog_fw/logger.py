@@ -6,7 +6,7 @@ WebAssembly port with fakes. `poll(data, now)` is one turn of the main loop.
 
 from . import FIRMWARE_VERSION, channels, config, framing, protocol
 from . import logformat as lf
-from .clock import Clock
+from .clock import Clock, rtc_read, rtc_write
 from .logstore import LogStore, StoreError
 from .sampler import Sampler
 
@@ -14,13 +14,14 @@ CONFIG_FILE = "config.json"
 
 
 class Logger:
-    def __init__(self, fs, root, machine, write, reset_cause=0, mem_free=None):
+    def __init__(self, fs, root, machine, write, reset_cause=0, mem_free=None, rtc=None):
         self.fs = fs
         self.root = root
         self.machine = machine
         self.write = write
         self.reset_cause = reset_cause
         self.mem_free = mem_free
+        self.rtc = rtc  # None, or (machine.RTC(), time.gmtime, time.mktime, epoch year)
         self.clock = Clock()
         self.parser = framing.Parser()
         self.read_buf = bytearray(protocol.READ_CHUNK)
@@ -103,7 +104,15 @@ class Logger:
 
     # -- boot and runs -------------------------------------------------------------------
     def boot(self, now):
-        """Report the boot over serial and resume an interrupted run if the config allows."""
+        """Report the boot over serial and resume an interrupted run if the config allows.
+        A host-set time kept by the RTC through a soft or watchdog reset restores the clock."""
+        if self.rtc is not None:
+            try:
+                ms = rtc_read(self.rtc[0], self.rtc[2], self.rtc[3])
+            except (OSError, ValueError, OverflowError):
+                ms = 0
+            if ms:
+                self.clock.set(ms, now)
         if self.config_errors:
             self.report("config invalid, logging disabled: " + "; ".join(self.config_errors))
             return None
@@ -155,6 +164,11 @@ class Logger:
 
     def set_clock(self, ms, now):
         prev = self.clock.set(ms, now)
+        if self.rtc is not None:
+            try:
+                rtc_write(self.rtc[0], ms, self.rtc[1], self.rtc[3])
+            except (OSError, ValueError, OverflowError):
+                pass
         if self.store.active and self.sampler is not None:
             s = self.sampler
             # anchor = wall time at offset 0: now minus the offset of the current moment

@@ -166,6 +166,11 @@ def _scenario(fs, n_records=10, batch=3):
 
 def _records(data):
     """(seq, offset, raw0, raw1) of the CRC-valid records in a run file (independent walk)."""
+    return [struct.unpack_from("<IIii", b, 4) for b in _blocks(data, lf.RECORD_TAG)]
+
+
+def _blocks(data, want_tag):
+    """The CRC-valid blocks with tag want_tag in a run file, skipping anything else bytewise."""
     h = lf.unpack_header(data)
     r = h["record_size"]
     out = []
@@ -179,8 +184,8 @@ def _records(data):
             and crc16(data, 0xFFFF, pos, pos + size - 2)
             == struct.unpack_from("<H", data, pos + size - 2)[0]
         ):
-            if tag == lf.RECORD_TAG:
-                out.append(struct.unpack_from("<IIii", data, pos + 4))
+            if tag == want_tag:
+                out.append(data[pos : pos + size])
             pos += size
         else:
             pos += 1
@@ -738,7 +743,64 @@ def check_sampler_no_drift_across_wrap(vectors):
     assert sink.rows[-1][1] // 100 == 299 + 7
 
 
+def _timegm(t):
+    try:
+        import calendar
+
+        return calendar.timegm(tuple(t[:6]) + (0, 0, 0))
+    except ImportError:  # MicroPython (unix/wasm): mktime is UTC, epoch 1970
+        import time
+
+        return time.mktime(t)
+
+
+def check_rtc_keeps_clock_through_reset(vectors):
+    import time
+
+    import machine
+    from heatlog_fw.clock import rtc_read, rtc_write
+
+    rtc = machine.RTC()
+    rtc.datetime((2021, 1, 1, 4, 0, 0, 0, 0))  # rp2 after power-up: not a host-set time
+    assert rtc_read(rtc, _timegm, 1970) == 0
+    rtc_write(rtc, ANCHOR_MS + 999, time.gmtime, 1970)
+    assert rtc_read(rtc, _timegm, 1970) == ANCHOR_MS  # whole seconds kept
+    # esp32 counts from 2000: the same wall time must come back
+    rtc_write(rtc, ANCHOR_MS, lambda s: time.gmtime(s + 946684800), 2000)
+    assert rtc_read(rtc, lambda t: _timegm(t) - 946684800, 2000) == ANCHOR_MS
+    # a logger reset by the watchdog resumes with the time known, no gap flag
+    rtc_write(rtc, ANCHOR_MS, time.gmtime, 1970)
+    lg, link, fs = _logger(EXAMPLE_CONFIG)
+    lg.rtc = (rtc, time.gmtime, _timegm, 1970)
+    for d in lg.sampler.channels:
+        if hasattr(d, "wait_ms"):
+            d.wait_ms = 0
+    lg.boot(0)
+    lg.start_run(0)
+    for now in range(0, 4001, 500):
+        lg.poll(None, now)
+    rtc.datetime(rtc.datetime())  # RTC kept running: 10 s later at reboot
+    rtc_write(rtc, ANCHOR_MS + 10000, time.gmtime, 1970)
+    lg2, link2, _ = _logger(None, fs.crashed())
+    lg2.rtc = (rtc, time.gmtime, _timegm, 1970)
+    for d in lg2.sampler.channels:
+        if hasattr(d, "wait_ms"):
+            d.wait_ms = 0
+    assert lg2.boot(0) == 1
+    lg2.poll(None, 0)
+    lg2.stop_run(10)
+    with lg2.fs.open(ROOT + "/" + run_name(1), "rb") as f:
+        data = f.read()
+    segs = _blocks(data, lf.SEGMENT_TAG)
+    assert len(segs) == 1
+    cause = segs[0][1]
+    offset = struct.unpack_from("<I", segs[0], 12)[0]
+    assert cause & lf.SEG_REBOOT and cause & lf.SEG_CLOCK_VALID and not cause & lf.SEG_GAP_UNKNOWN
+    assert offset == 10000, offset
+
+
 CHECKS = [
+    check_rtc_keeps_clock_through_reset,
     check_sampler_no_drift_across_wrap,
     check_logger_commands,
     check_logger_bad_config_idles,
