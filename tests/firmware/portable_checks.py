@@ -484,6 +484,9 @@ def _logger(cfg, fs=None, machine_mod=None):
             f.write(json.dumps(cfg) if not isinstance(cfg, str) else cfg)
     holder = []
     lg = Logger(fs, ROOT, machine_mod or _FakeHw(machine), lambda d: holder[0].write(d), 1, None)
+    for d in lg.sampler.channels if lg.sampler else ():
+        if hasattr(d, "wait_ms"):
+            d.wait_ms = 0  # no real conversion time to wait for
     link = _Link(lg)
     holder.append(link)
     return lg, link, fs
@@ -515,9 +518,6 @@ def check_logger_commands(vectors):
     from heatlog_fw import protocol as pr
 
     lg, link, fs = _logger(EXAMPLE_CONFIG)
-    for d in lg.sampler.channels:
-        if hasattr(d, "wait_ms"):
-            d.wait_ms = 0
     assert lg.boot(0) is None and lg.config_errors == []
     t, p = link.ask(pr.IDENTIFY)
     ident = json.loads(p)
@@ -617,18 +617,12 @@ def check_logger_bad_config_idles(vectors):
 
 def check_logger_resumes_after_reset(vectors):
     lg, link, fs = _logger(EXAMPLE_CONFIG)
-    for d in lg.sampler.channels:
-        if hasattr(d, "wait_ms"):
-            d.wait_ms = 0
     lg.boot(0)
     lg.start_run(0)
     for now in range(0, 7001, 500):
         lg.poll(None, now)
     fs2 = fs.crashed()  # power cut: records after the last flush (3000 ms) are gone
     lg2, link2, _ = _logger(None, fs2)
-    for d in lg2.sampler.channels:
-        if hasattr(d, "wait_ms"):
-            d.wait_ms = 0
     assert lg2.boot(100) == 1 and lg2.watchdog_wanted
     for now in range(100, 2200, 500):
         lg2.poll(None, now)
@@ -772,9 +766,6 @@ def check_rtc_keeps_clock_through_reset(vectors):
     rtc_write(rtc, ANCHOR_MS, time.gmtime, 1970)
     lg, link, fs = _logger(EXAMPLE_CONFIG)
     lg.rtc = (rtc, time.gmtime, _timegm, 1970)
-    for d in lg.sampler.channels:
-        if hasattr(d, "wait_ms"):
-            d.wait_ms = 0
     lg.boot(0)
     lg.start_run(0)
     for now in range(0, 4001, 500):
@@ -783,9 +774,6 @@ def check_rtc_keeps_clock_through_reset(vectors):
     rtc_write(rtc, ANCHOR_MS + 10000, time.gmtime, 1970)
     lg2, link2, _ = _logger(None, fs.crashed())
     lg2.rtc = (rtc, time.gmtime, _timegm, 1970)
-    for d in lg2.sampler.channels:
-        if hasattr(d, "wait_ms"):
-            d.wait_ms = 0
     assert lg2.boot(0) == 1
     lg2.poll(None, 0)
     lg2.stop_run(10)
