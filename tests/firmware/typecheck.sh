@@ -11,7 +11,7 @@ declare -A STUBS=(
 )
 for board in rp2 esp32; do
   if [ ! -f "firmware/typings/$board/machine/__init__.pyi" ] && [ ! -f "firmware/typings/$board/machine.pyi" ]; then
-    python3 -m pip install --quiet --disable-pip-version-check --no-deps --target "firmware/typings/$board" \
+    "${PYTHON:-python3}" -m pip install --quiet --disable-pip-version-check --no-deps --target "firmware/typings/$board" \
       "${STUBS[$board]}" "micropython-stdlib-stubs==1.29.0.post2"
   fi
   echo "::: pyright, $board stubs"
