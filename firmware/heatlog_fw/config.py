@@ -20,6 +20,10 @@ def _is_int(v):
     return isinstance(v, int) and not isinstance(v, bool)
 
 
+def _dnl_pair(k, v):
+    return isinstance(k, str) and k.isdigit() and int(k) < 4096 and _is_int(v) and 0 <= v < 4096
+
+
 def _is_num(v):
     return (isinstance(v, (int, float))) and not isinstance(v, bool)
 
@@ -68,8 +72,14 @@ def _channel(errs, ch, i):
         if ch.get("ntc_side", "low") not in ("low", "high"):
             errs.append(where + "ntc_side must be low or high")
         dnl = ch.get("dnl", {})
-        if not isinstance(dnl, dict) or len(dnl) > 64:
-            errs.append(where + "dnl must be an object of at most 64 code: corrected-code pairs")
+        if (
+            not isinstance(dnl, dict)
+            or len(dnl) > 64
+            or not all(_dnl_pair(k, v) for k, v in dnl.items())
+        ):
+            errs.append(
+                where + 'dnl must map at most 64 codes to corrected codes, e.g. {"512": 511}'
+            )
     elif kind == "ads1115":
         _int_in(errs, ch, "address", 0x48, 0x4B, where)
         _int_in(errs, ch, "signal", 0, 7, where)
