@@ -49,11 +49,16 @@ def run():
     except OSError:
         pass
     out = _writer(sys.stdout.buffer)
+    wdt = None
+    if cause != machine.PWRON_RESET:
+        # a watchdog started before a soft reset keeps running: feed it through the boot scan
+        wdt = machine.WDT(timeout=8000)
     rtc = (machine.RTC(), time.gmtime, time.mktime, time.gmtime(0)[0])
     lg = Logger(FlashFs(), ROOT, machine, out, cause, gc.mem_free, rtc)
+    if wdt is not None:
+        lg.store.progress = wdt.feed
     lg.boot(time.ticks_ms())
     led = _led(lg.cfg.get("led_pin") if lg.cfg else None)
-    wdt = None
     inp = sys.stdin.buffer
     poller = select.poll()
     poller.register(sys.stdin, select.POLLIN)
@@ -72,6 +77,7 @@ def run():
             wait = lg.poll(memoryview(buf)[:n] if n else None, now)
             if lg.watchdog_wanted and wdt is None:
                 wdt = machine.WDT(timeout=lg.cfg["watchdog_ms"] if lg.cfg else 8000)
+                lg.store.progress = wdt.feed
             if wdt is not None:
                 wdt.feed()
             if led is not None:

@@ -41,10 +41,20 @@ def crc16(data, crc=0xFFFF, start=0, end=-1):
     return crc
 
 
-def crc32(data, crc=0):
+def crc32_table(data, crc=0):
     """CRC-32 as zlib.crc32(data, crc): pass the previous result to continue over chunks."""
     t = _T32
     c = crc ^ 0xFFFFFFFF
     for b in data:
         c = (c >> 8) ^ t[(c ^ b) & 0xFF]
     return c ^ 0xFFFFFFFF
+
+
+try:  # the port's C implementation is ~100x faster (a whole-file checksum must beat the watchdog)
+    from binascii import crc32 as _crc32_c
+
+    def crc32(data, crc=0):
+        return _crc32_c(data, crc)
+
+except ImportError:
+    crc32 = crc32_table

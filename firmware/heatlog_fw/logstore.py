@@ -62,6 +62,7 @@ class LogStore:
         self.segment_no = 0
         self.anchor_ms = 0
         self.seg_buf = bytearray(lf.SEGMENT_SIZE)
+        self.progress = None  # called during long walks (e.g. the app feeds the watchdog)
 
     # -- state file, rewritten via temp file + rename --------------------------------------
     def _path(self, name):
@@ -196,6 +197,8 @@ class LogStore:
             last_seq, last_off, anchor, damaged = -1, 0, hdr["anchor_ms"], False
             blk = bytearray(max(rsize, lf.SEGMENT_SIZE))
             while pos < size:
+                if self.progress is not None and pos & 0xFFF < rsize:
+                    self.progress()
                 f.seek(pos)
                 n = f.readinto(blk)
                 tag = blk[0]
@@ -352,6 +355,8 @@ class LogStore:
                     break
                 c = crc32(mv[:n], c)
                 done += n
+                if self.progress is not None:
+                    self.progress()
         return done, c
 
     def erase(self, run_no, size, crc):

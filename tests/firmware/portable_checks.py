@@ -37,6 +37,13 @@ def check_crc_check_values(vectors):
     assert crc32(b"123456789") == 0xCBF43926
     assert crc32(b"6789", crc32(b"12345")) == 0xCBF43926
     assert crc16(b"") == 0xFFFF and crc32(b"") == 0
+    from heatlog_fw.crc import crc32_table
+
+    data = bytes((i * 7 + 3) & 0xFF for i in range(1000))
+    assert crc32_table(b"123456789") == 0xCBF43926
+    assert crc32_table(data) == crc32(data) and crc32_table(
+        data[500:], crc32_table(data[:500])
+    ) == crc32(data)
 
 
 def check_frame_vectors(vectors):
@@ -300,6 +307,9 @@ def check_erase_needs_checksum(vectors):
     buf = bytearray(50)
     n, total = st.read(1, 40, buf)
     assert n == 50 and bytes(buf) == data[40:90] and total == size
+    ticks = []
+    st.progress = lambda: ticks.append(1)
+    assert st.checksum(1) == (size, crc) and len(ticks) >= 1  # the watchdog is fed meanwhile
     st.erase(1, size, crc)
     assert st.runs() == []
 
