@@ -36,6 +36,10 @@ class StoreFull(StoreError):
     """Free space is below the floor: logging stopped, earlier data kept."""
 
 
+def _idle():
+    pass
+
+
 def run_name(run_no):
     s = str(run_no)
     return "r" + "0" * (4 - len(s)) + s + ".hlg"
@@ -62,7 +66,7 @@ class LogStore:
         self.segment_no = 0
         self.anchor_ms = 0
         self.seg_buf = bytearray(lf.SEGMENT_SIZE)
-        self.progress = None  # called during long walks (e.g. the app feeds the watchdog)
+        self.progress = _idle  # called during long walks (the app feeds the watchdog)
 
     # -- state file, rewritten via temp file + rename --------------------------------------
     def _path(self, name):
@@ -197,7 +201,7 @@ class LogStore:
             last_seq, last_off, anchor, damaged = -1, 0, hdr["anchor_ms"], False
             blk = bytearray(max(rsize, lf.SEGMENT_SIZE))
             while pos < size:
-                if self.progress is not None and pos & 0xFFF < rsize:
+                if pos & 0xFFF < rsize:
                     self.progress()
                 f.seek(pos)
                 n = f.readinto(blk)
@@ -355,8 +359,7 @@ class LogStore:
                     break
                 c = crc32(mv[:n], c)
                 done += n
-                if self.progress is not None:
-                    self.progress()
+                self.progress()
         return done, c
 
     def erase(self, run_no, size, crc):
