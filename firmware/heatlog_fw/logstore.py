@@ -206,27 +206,28 @@ class LogStore:
                 f.seek(pos)
                 n = f.readinto(blk)
                 tag = blk[0]
-                if tag == lf.RECORD_TAG and n >= rsize:
-                    if (
-                        crc16(blk, 0xFFFF, 0, rsize - 2)
-                        == struct.unpack_from("<H", blk, rsize - 2)[0]
-                    ):
+                k = (
+                    rsize
+                    if tag == lf.RECORD_TAG
+                    else lf.SEGMENT_SIZE
+                    if tag == lf.SEGMENT_TAG
+                    else 0
+                )
+                if k and n >= k and crc16(blk, 0xFFFF, 0, k - 2) == blk[k - 2] | (blk[k - 1] << 8):
+                    if tag == lf.RECORD_TAG:
                         last_seq, last_off = struct.unpack_from("<II", blk, 4)
                     else:
-                        damaged = True
-                    pos += rsize
-                elif tag == lf.SEGMENT_TAG and n >= lf.SEGMENT_SIZE:
-                    if crc16(blk, 0xFFFF, 0, 30) == struct.unpack_from("<H", blk, 30)[0]:
                         s = struct.unpack_from("<BBBBIIIq", blk, 0)
                         last_seq, last_off = s[5] - 1, s[6]
+                        damaged = False  # damage before a marker is not the tail
                         if s[1] & lf.SEG_CLOCK_VALID:
                             anchor = s[7]
-                    else:
-                        damaged = True
-                    pos += lf.SEGMENT_SIZE
+                        elif s[1] & lf.SEG_REBOOT:
+                            anchor = 0
+                    pos += k
                 else:
-                    damaged = True  # torn or unknown tail: the host decoder resynchronises
-                    break
+                    damaged = True  # torn or bad block: step on bytewise to the next good one
+                    pos += 1
             return hdr, last_seq, last_off, anchor, damaged
         finally:
             f.close()

@@ -797,6 +797,60 @@ def check_rtc_keeps_clock_through_reset(vectors):
     assert offset == 10000, offset
 
 
+def check_power_cut_during_resume(vectors):
+    """A second power cut at every byte of the resume (marker, state file, new records): records
+    flushed before either cut survive, sequence numbers only grow, the file stays decodable."""
+    path = ROOT + "/" + run_name(1)
+    fs0 = FakeFs(total=1 << 20, budget=1 << 30)
+    st = _store(fs0, 3)
+    st.start("b", "0.1.0", 1000, 4, CHANNELS, 0, 0)
+    for i in range(7):
+        st.add(i, i * 1000, 0, 0, _raw(i), i * 100)  # batches of 3 flushed; record 6 waits
+    fs0.budget = 9  # cut 9 bytes into the next batch write
+    try:
+        st.flush(900)
+        raise AssertionError("no cut")
+    except PowerCut:
+        pass
+    first = fs0.crashed(torn=9)
+    first_recs = _records(first.open(path, "rb").read())
+    assert [r[0] for r in first_recs] == [0, 1, 2, 3, 4, 5]
+
+    def phase2(fs):
+        st2 = _store(fs, 2)
+        res = st2.resume(3, 0, 1000, 0)
+        for k in range(3):
+            st2.add(res[1] + k, res[2] + k * 1000, 0, 0, _raw(20 + k), k * 1000)
+        st2.stop(5000)
+
+    ref = first.crashed()
+    ref.budget = 1 << 30
+    phase2(ref)
+    total = (1 << 30) - ref.budget
+    for cut in range(total):
+        fs = first.crashed()
+        fs.budget = cut
+        try:
+            phase2(fs)
+            raise AssertionError("no cut")
+        except PowerCut:
+            pass
+        for torn in (0, 1000):
+            fs3 = fs.crashed(torn)
+            st3 = _store(fs3, 2)
+            res = st3.resume(3, 0, 1000, 0)
+            assert res is not None, cut  # the state still names the run
+            st3.add(res[1], res[2], 0, 0, _raw(99), 0)
+            st3.stop(10)
+            recs = _records(fs3.open(path, "rb").read())
+            for r in first_recs:
+                assert r in recs, (cut, torn, r)
+            seqs = [r[0] for r in recs]
+            assert seqs == sorted(seqs) and len(set(seqs)) == len(seqs), (cut, torn, seqs)
+            assert recs[-1][0] == res[1] and recs[-1][2] == _raw(99)[0]
+    assert total > 3 * 22 + 32
+
+
 CHECKS = [
     check_rtc_keeps_clock_through_reset,
     check_sampler_no_drift_across_wrap,
@@ -816,4 +870,5 @@ CHECKS = [
     check_erase_needs_checksum,
     check_state_survives_cut_in_rename,
     check_power_cut_every_byte,
+    check_power_cut_during_resume,
 ]
