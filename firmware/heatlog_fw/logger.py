@@ -35,6 +35,7 @@ class Logger:
         self.store = None
         self.run_clock_unset = True
         self.watchdog_wanted = False
+        self._turns = 0
         self._load_config()
 
     # -- configuration -----------------------------------------------------------------
@@ -210,6 +211,10 @@ class Logger:
     # -- main loop turn ---------------------------------------------------------------
     def poll(self, data, now):
         """Handle incoming bytes, then take a sample if one is due. Returns ms until next due."""
+        self._turns += 1
+        if self._turns >= 10000:  # every few minutes: keep the clock's ticks base fresh
+            self._turns = 0
+            self.clock.now_ms(now)
         if data:
             for ftype, rid, payload in self.parser.feed(data):
                 for reply in protocol.handle(self, ftype, rid, payload, now):

@@ -851,7 +851,25 @@ def check_power_cut_during_resume(vectors):
     assert total > 3 * 22 + 32
 
 
+def check_clock_survives_ticks_wrap(vectors):
+    """The host-set clock stays right over 20 days of ticks (ticks_diff alone fails after 6.2)."""
+    from heatlog_fw.clock import Clock
+    from heatlog_fw.ticks import ticks_add
+
+    c = Clock()
+    assert c.now_ms(0) == 0 and not c.is_set
+    t0 = ticks_add(0, -1000)
+    c.set(ANCHOR_MS, t0)
+    now = t0
+    for _ in range(20 * 24):  # read once an hour for 20 days
+        now = ticks_add(now, 3600000)
+        c.now_ms(now)
+    assert c.now_ms(now) == ANCHOR_MS + 20 * 24 * 3600000
+    assert c.set(ANCHOR_MS, now) == ANCHOR_MS + 20 * 24 * 3600000 and c.sets == 2
+
+
 CHECKS = [
+    check_clock_survives_ticks_wrap,
     check_rtc_keeps_clock_through_reset,
     check_sampler_no_drift_across_wrap,
     check_logger_commands,
