@@ -1,0 +1,104 @@
+"""Build the channel drivers a validated config describes (the only module that imports machine)."""
+
+import sys
+
+from . import logformat as lf
+from .adc_divider import AdcDivider
+from .ads1115 import Ads1115, Ads1115Ratio
+from .max31865 import Max31865
+
+ADS_RATES_SPS = (8, 16, 32, 64, 128, 250, 475, 860)
+
+
+def sample_time_ms(cfg):
+    """Worst-case time to read every channel once (conversion waits only), in ms."""
+    n = cfg.get("oversample", 16)
+    t = 0
+    for ch in cfg["channels"]:
+        if ch["kind"] == "ads1115":
+            t += 2 * n * (1100 // ADS_RATES_SPS[ch["rate"]] + 2)
+        elif ch["kind"] == "max31865":
+            t += n * (66 if ch.get("mains_hz", 50) == 50 else 55)
+        else:
+            t += 1 + n // 8
+    return t
+
+
+def table(cfg):
+    """Header channel table: (kind, mode, source, gain, ref in milliohm, probe id)."""
+    out = []
+    for ch in cfg["channels"]:
+        kind = ch["kind"]
+        high = 1 if ch.get("ntc_side", "low") == "high" else 0
+        if kind == "adc_divider":
+            out.append(
+                (
+                    lf.KIND_ADC_DIVIDER,
+                    high,
+                    ch["pin"],
+                    0,
+                    int(ch["r_fixed_ohm"] * 1000),
+                    ch["probe_id"],
+                )
+            )
+        elif kind == "ads1115":
+            src = (ch["signal"] << 4) | ch["excitation"]
+            out.append(
+                (
+                    lf.KIND_ADS1115,
+                    high,
+                    src,
+                    ch["gain"],
+                    int(ch["r_fixed_ohm"] * 1000),
+                    ch["probe_id"],
+                )
+            )
+        else:
+            out.append(
+                (
+                    lf.KIND_MAX31865,
+                    ch["wires"],
+                    ch["cs"],
+                    0,
+                    int(ch["r_ref_ohm"] * 1000),
+                    ch["probe_id"],
+                )
+            )
+    return out
+
+
+def build(cfg, machine):
+    """Driver objects for cfg's channels; buses are shared between channels on the same id."""
+    buses = {}
+    out = []
+    for ch in cfg["channels"]:
+        kind = ch["kind"]
+        if kind == "adc_divider":
+            dnl = None
+            if ch.get("dnl"):
+                dnl = {int(k): int(v) for k, v in ch["dnl"].items()}
+            if sys.platform == "esp32":  # ADC1 pins only; always set the attenuation
+                adc = machine.ADC(machine.Pin(ch["pin"]), atten=machine.ADC.ATTN_11DB)
+            else:  # rp2: building from a Pin also turns the pad analog
+                adc = machine.ADC(machine.Pin(ch["pin"]))
+            out.append(AdcDivider(adc, dnl, ch.get("ntc_side", "low") == "low"))
+        elif kind == "ads1115":
+            b = ch["i2c"]
+            key = ("i2c", b["id"])
+            if key not in buses:
+                buses[key] = machine.I2C(
+                    b["id"], scl=machine.Pin(b["scl"]), sda=machine.Pin(b["sda"]), freq=400000
+                )
+            ads = Ads1115(buses[key], ch["address"], ch["gain"], ch["rate"])
+            out.append(Ads1115Ratio(ads, ch["signal"], ch["excitation"]))
+        else:
+            b = ch["spi"]
+            key = ("spi", b["id"])
+            if key not in buses:
+                buses[key] = machine.SPI(
+                    b["id"], baudrate=1000000, polarity=0, phase=1,
+                    sck=machine.Pin(b["sck"]), mosi=machine.Pin(b["mosi"]), miso=machine.Pin(b["miso"]),
+                )  # fmt: skip
+            cs = machine.Pin(ch["cs"], machine.Pin.OUT, value=1)
+            out.append(Max31865(buses[key], cs, ch["wires"], ch.get("mains_hz", 50)))
+    return out

@@ -1,0 +1,152 @@
+"""Board configuration: a JSON file on the board, validated at boot and on every write.
+
+`validate(cfg)` returns a list of problems (empty when usable); nothing in a config is executed.
+See firmware/config.example.json.
+"""
+
+import json
+
+MAX_CONFIG_BYTES = 4096
+KINDS = ("adc_divider", "ads1115", "max31865")
+MODELS = {
+    "steinhart_hart": ("A", "B", "C"),
+    "beta": ("R25", "beta"),
+    "callendar_van_dusen": ("R0",),
+}
+DEFAULTS = {"oversample": 16, "flush_ms": 5000, "watchdog_ms": 8000, "led_pin": None}
+
+
+def _is_int(v):
+    return isinstance(v, int) and not isinstance(v, bool)
+
+
+def _dnl_pair(k, v):
+    return isinstance(k, str) and k.isdigit() and int(k) < 4096 and _is_int(v) and 0 <= v < 4096
+
+
+def _is_num(v):
+    return (isinstance(v, (int, float))) and not isinstance(v, bool)
+
+
+def _int_in(errs, d, key, lo, hi, where):
+    v = d.get(key)
+    if not _is_int(v) or v < lo or v > hi:
+        errs.append(where + key + " must be an integer in " + str(lo) + ".." + str(hi))
+        return False
+    return True
+
+
+def _text(errs, d, key, where, max_len=16):
+    v = d.get(key)
+    if not isinstance(v, str) or not 0 < len(v) <= max_len or not all(32 < ord(c) < 127 for c in v):
+        errs.append(where + key + " must be 1.." + str(max_len) + " printable ASCII characters")
+
+
+def _model(errs, ch, where):
+    m = ch.get("model")
+    if not isinstance(m, dict) or m.get("type") not in MODELS:
+        errs.append(where + "model.type must be one of " + ", ".join(MODELS))
+        return
+    for k in MODELS[m["type"]]:
+        if not _is_num(m.get(k)):
+            errs.append(where + "model." + k + " must be a number")
+    for k, v in m.items():
+        if k != "type" and not _is_num(v):
+            errs.append(where + "model." + k + " must be a number")
+
+
+def _channel(errs, ch, i):
+    where = "channels[" + str(i) + "]."
+    if not isinstance(ch, dict):
+        errs.append(where[:-1] + " must be an object")
+        return
+    kind = ch.get("kind")
+    if kind not in KINDS:
+        errs.append(where + "kind must be one of " + ", ".join(KINDS))
+        return
+    _text(errs, ch, "probe_id", where)
+    _model(errs, ch, where)
+    if kind == "adc_divider":
+        _int_in(errs, ch, "pin", 0, 48, where)
+        _int_in(errs, ch, "r_fixed_ohm", 1, 4000000, where)
+        if ch.get("ntc_side", "low") not in ("low", "high"):
+            errs.append(where + "ntc_side must be low or high")
+        dnl = ch.get("dnl", {})
+        if (
+            not isinstance(dnl, dict)
+            or len(dnl) > 64
+            or not all(_dnl_pair(k, v) for k, v in dnl.items())
+        ):
+            errs.append(
+                where + 'dnl must map at most 64 codes to corrected codes, e.g. {"512": 511}'
+            )
+    elif kind == "ads1115":
+        _int_in(errs, ch, "address", 0x48, 0x4B, where)
+        _int_in(errs, ch, "signal", 0, 7, where)
+        _int_in(errs, ch, "excitation", 0, 7, where)
+        _int_in(errs, ch, "gain", 0, 5, where)
+        _int_in(errs, ch, "rate", 0, 7, where)
+        _int_in(errs, ch, "r_fixed_ohm", 1, 4000000, where)
+        _bus(errs, ch, "i2c", ("id", "sda", "scl"), where)
+    else:
+        _int_in(errs, ch, "cs", 0, 48, where)
+        _int_in(errs, ch, "wires", 2, 4, where)
+        if not _is_num(ch.get("r_ref_ohm")) or not 10 <= ch["r_ref_ohm"] <= 10000:
+            errs.append(where + "r_ref_ohm must be a number in 10..10000")
+        if ch.get("mains_hz", 50) not in (50, 60):
+            errs.append(where + "mains_hz must be 50 or 60")
+        _bus(errs, ch, "spi", ("id", "sck", "mosi", "miso"), where)
+
+
+def _bus(errs, ch, key, fields, where):
+    b = ch.get(key)
+    if not isinstance(b, dict):
+        errs.append(where + key + " must be an object with " + ", ".join(fields))
+        return
+    for f in fields:
+        _int_in(errs, b, f, 0, 48, where + key + ".")
+
+
+def validate(cfg):
+    """Problems with a parsed config, each one line naming the key; [] if the config is usable."""
+    errs = []
+    if not isinstance(cfg, dict):
+        return ["config must be a JSON object"]
+    _text(errs, cfg, "board_id", "")
+    _int_in(errs, cfg, "interval_ms", 100, 3600000, "")
+    for key, lo, hi in (
+        ("oversample", 1, 256),
+        ("flush_ms", 100, 600000),
+        ("watchdog_ms", 1000, 8000),
+    ):
+        if key in cfg:
+            _int_in(errs, cfg, key, lo, hi, "")
+    led = cfg.get("led_pin")
+    if led is not None and not (_is_int(led) or led == "LED"):
+        errs.append('led_pin must be a pin number, "LED" or null')
+    chans = cfg.get("channels")
+    if not isinstance(chans, list) or not 1 <= len(chans) <= 8:
+        errs.append("channels must be a list of 1..8 channels")
+    else:
+        for i, ch in enumerate(chans):
+            _channel(errs, ch, i)
+    if cfg.get("flush_ms", 5000) < cfg.get("interval_ms", 0) and not errs:
+        pass  # a flush at every record: allowed, just more flash wear
+    return errs
+
+
+def parse(text):
+    """(config dict with defaults, []) or (None, problems) for JSON text from the file or host."""
+    if len(text) > MAX_CONFIG_BYTES:
+        return None, ["config longer than " + str(MAX_CONFIG_BYTES) + " bytes"]
+    try:
+        cfg = json.loads(text)
+    except ValueError:
+        return None, ["config is not valid JSON"]
+    errs = validate(cfg)
+    if errs:
+        return None, errs
+    for k, v in DEFAULTS.items():
+        if k not in cfg:
+            cfg[k] = v
+    return cfg, []

@@ -1,0 +1,108 @@
+"""MAX31865 RTD-to-digital converter on SPI (mode 1 or 3, <= 5 MHz, manual chip select).
+
+One-shot conversions with the bias kept on; the fault register is decoded into probe-fault
+codes and the RTD high/low thresholds are programmed so D7/D6 can fire.
+"""
+
+from .ticks import sleep_ms
+
+try:
+    from micropython import const  # pyright: ignore[reportAssignmentType]
+except ImportError:
+
+    def const(x):
+        return x
+
+
+_REG_CONFIG = const(0x00)
+_REG_RTD = const(0x01)
+_REG_HIGH = const(0x03)
+_REG_LOW = const(0x05)
+_REG_FAULT = const(0x07)
+_WRITE = const(0x80)
+_VBIAS = const(0x80)
+_ONE_SHOT = const(0x20)
+_THREE_WIRE = const(0x10)
+_FAULT_CLEAR = const(0x02)
+_FILTER_50HZ = const(0x01)
+
+FAULT_NONE = const(0)
+FAULT_OPEN = const(1)
+FAULT_SHORT = const(2)
+FAULT_RANGE = const(3)
+
+
+def fault_kind(reg):
+    """Fault register bits -> one probe-fault code (open, short, out of range)."""
+    if reg & 0x38:  # D5..D3: REFIN-/RTDIN- against VBIAS: open element or leads
+        return FAULT_OPEN
+    if reg & 0x40:  # D6: below the low threshold (a short, with the default threshold)
+        return FAULT_SHORT
+    if reg & 0x84:  # D7 high threshold (often open), D2 over/under voltage
+        return FAULT_RANGE
+    return FAULT_NONE
+
+
+class Max31865:
+    def __init__(self, spi, cs, wires=4, mains_hz=50, high_code=0x7FFF, low_code=0):
+        if wires not in (2, 3, 4):
+            raise ValueError("wires must be 2, 3 or 4")
+        self.spi = spi
+        self.cs = cs
+        self.base = (
+            _VBIAS | (_THREE_WIRE if wires == 3 else 0) | (_FILTER_50HZ if mains_hz == 50 else 0)
+        )
+        self.wait_ms = 66 if mains_hz == 50 else 55  # one-shot: 62.5 ms (50 Hz) / 52 ms (60 Hz)
+        self._w = bytearray(2)
+        self._r = bytearray(3)
+        mv = memoryview(self._r)
+        self._addr = mv[0:1]
+        self._data = (None, mv[1:2], mv[1:3])  # preallocated views: no allocation per read
+        self.fault = FAULT_NONE
+        self.fault_reg = 0
+        cs(1)
+        self._write(_REG_CONFIG, self.base)
+        self._write(_REG_HIGH, (high_code << 1) >> 8)
+        self._write(_REG_HIGH + 1, (high_code << 1) & 0xFF)
+        self._write(_REG_LOW, (low_code << 1) >> 8)
+        self._write(_REG_LOW + 1, (low_code << 1) & 0xFF)
+        self.clear_fault()
+
+    def _write(self, reg, value):
+        w = self._w
+        w[0] = _WRITE | reg
+        w[1] = value
+        self.cs(0)
+        self.spi.write(w)
+        self.cs(1)
+
+    def _read(self, reg, n):
+        r = self._r
+        r[0] = reg
+        self.cs(0)
+        self.spi.write(self._addr)
+        self.spi.readinto(self._data[n])
+        self.cs(1)
+        return r
+
+    def clear_fault(self):
+        self._write(_REG_CONFIG, self.base | _FAULT_CLEAR)
+
+    def read_code(self):
+        """One one-shot conversion: 15-bit code; bit 0 of the LSB flags a fault."""
+        self._write(_REG_CONFIG, self.base | _ONE_SHOT)
+        sleep_ms(self.wait_ms)
+        r = self._read(_REG_RTD, 2)
+        if r[2] & 1:
+            self.fault_reg = self._read(_REG_FAULT, 1)[1]
+            self.clear_fault()
+        return ((r[1] << 8) | r[2]) >> 1
+
+    def read_raw(self, n):
+        """Sum of n codes (R = raw * R_ref / (32768 n)); sets self.fault from the fault register."""
+        self.fault_reg = 0
+        total = 0
+        for _ in range(n):
+            total += self.read_code()
+        self.fault = fault_kind(self.fault_reg)
+        return total

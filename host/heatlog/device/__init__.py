@@ -1,0 +1,1 @@
+"""Talking to a board: framing, link, pull."""

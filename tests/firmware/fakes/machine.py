@@ -1,0 +1,173 @@
+"""A fake `machine` module for the firmware tests (CPython and the MicroPython WebAssembly port).
+
+Peripherals simulate the parts the drivers talk to: ADC codes from a list, an ADS1115 register
+map behind I2C, a MAX31865 register map behind SPI (its RTD code follows `resistance`).
+"""
+
+PWRON_RESET = 1
+WDT_RESET = 3
+SOFT_RESET = 5
+_reset_cause = PWRON_RESET
+
+
+def reset_cause():
+    return _reset_cause
+
+
+def reset():
+    raise SystemExit("machine.reset()")
+
+
+class Pin:
+    IN = 0
+    OUT = 1
+    PULL_UP = 2
+
+    def __init__(self, id, mode=-1, pull=-1, value=None):
+        self.id = id
+        self.mode = mode
+        self.v = 0 if value is None else value
+        self.history = []
+
+    def __call__(self, v=None):
+        if v is None:
+            return self.v
+        self.v = v
+        self.history.append(v)
+        return None
+
+    def value(self, v=None):
+        return self(v)
+
+    def on(self):
+        self(1)
+
+    def off(self):
+        self(0)
+
+    def toggle(self):
+        self(1 - self.v)
+
+
+class ADC:
+    ATTN_11DB = 3
+
+    def __init__(self, pin, atten=None):
+        self.pin = pin
+        self.codes = [2048]  # 12-bit codes returned in turn (read_u16 stretches them)
+        self.i = 0
+
+    def read_u16(self):
+        c = self.codes[self.i % len(self.codes)]
+        self.i += 1
+        return (c << 4) | (c >> 8)
+
+
+class I2C:
+    def __init__(self, id=0, scl=None, sda=None, freq=400000):
+        self.devices = {}
+
+    def writeto_mem(self, addr, reg, buf):
+        self.devices[addr].write(reg, bytes(buf))
+
+    def readfrom_mem_into(self, addr, reg, buf):
+        data = self.devices[addr].read(reg, len(buf))
+        for i in range(len(buf)):
+            buf[i] = data[i]
+
+
+class FakeAds1115:
+    """Register model: a config write with OS=1 converts volts[mux] at the configured PGA."""
+
+    FSR_UV = (6144000, 4096000, 2048000, 1024000, 512000, 256000)
+
+    def __init__(self):
+        self.volts_uv = {4: 1650000, 7: 3300000}
+        self.config = 0x8583
+        self.conv = 0
+        self.writes = []
+
+    def write(self, reg, data):
+        v = (data[0] << 8) | data[1]
+        self.writes.append((reg, v))
+        if reg == 1:
+            self.config = v
+            if v & 0x8000:
+                mux = (v >> 12) & 7
+                fsr = self.FSR_UV[(v >> 9) & 7]
+                code = self.volts_uv.get(mux, 0) * 32768 // fsr
+                self.conv = max(-32768, min(32767, code)) & 0xFFFF
+
+    def read(self, reg, n):
+        v = self.config | 0x8000 if reg == 1 else self.conv
+        return bytes([(v >> 8) & 0xFF, v & 0xFF])
+
+
+class SPI:
+    def __init__(self, id=0, baudrate=1000000, polarity=0, phase=0, sck=None, mosi=None, miso=None):
+        self.device = None
+
+    def write(self, buf):
+        self.device.transfer(bytes(buf))
+
+    def readinto(self, buf):
+        data = self.device.read(self.device.pending, len(buf))
+        for i in range(len(buf)):
+            buf[i] = data[i]
+
+
+class FakeMax31865:
+    """Register model: a one-shot write converts `resistance` against `r_ref`; `fault` sets
+    the fault register and the LSB fault flag."""
+
+    def __init__(self, resistance=100.0, r_ref=430.0):
+        self.regs = bytearray(8)
+        self.resistance = resistance
+        self.r_ref = r_ref
+        self.fault = 0
+        self.pending = 0
+        self.conversions = 0
+
+    def transfer(self, b):
+        if len(b) == 1:  # address for a read
+            self.pending = b[0] & 0x7F
+            return
+        reg = b[0] & 0x7F
+        if reg == 0:
+            if b[1] & 0x02:
+                self.regs[7] = 0
+                b = bytes([b[0], b[1] & ~0x02])
+            if b[1] & 0x20:
+                self.conversions += 1
+                code = int(self.resistance * 32768 / self.r_ref) & 0x7FFF
+                self.regs[7] = self.fault
+                word = (code << 1) | (1 if self.fault else 0)
+                self.regs[1] = word >> 8
+                self.regs[2] = word & 0xFF
+                b = bytes([b[0], b[1] & ~0x20])
+        self.regs[reg] = b[1]
+
+    def read(self, reg, n):
+        return bytes(self.regs[reg : reg + n])
+
+
+class RTC:
+    _dt = (2021, 1, 1, 4, 0, 0, 0, 0)
+
+    def datetime(self, dt=None):
+        if dt is None:
+            return RTC._dt
+        RTC._dt = tuple(dt)
+        return None
+
+
+class WDT:
+    instances = []
+
+    def __init__(self, id=0, timeout=5000):
+        self.timeout = timeout
+        self.feeds = 0
+        WDT.instances.append(self)
+
+    def feed(self):
+        self.feeds += 1
