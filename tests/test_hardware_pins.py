@@ -465,3 +465,31 @@ def test_malformed_tables_are_reported():
     assert "without a table" in parse_pin_tables(no_table, "t.md")[1][0]
     wrong_cols = GOOD.replace("| config key | value |", "| key | value |")
     assert "columns must be" in parse_pin_tables(wrong_cols, "t.md")[1][0]
+
+
+def test_esp32_divider_midpoint_stays_in_the_adc_linear_range():
+    """wiring.md: with 22 kΩ over the example NTC the ESP32 midpoint stays inside the 11 dB linear
+    range (about 150–2450 mV, ESP-IDF ADC documentation as summarised in the firmware notes,
+    approximate) from 0 to 80 °C, and the voltages the page quotes follow from the config."""
+    from heatlog_fw.conversions import steinhart_hart_c
+
+    ch = load_configs()["firmware/config.esp32.example.json"]["channels"][0]
+    m = ch["model"]
+
+    def ohms(t_c: float) -> float:  # invert the config's Steinhart–Hart curve by bisection in ln R
+        lo, hi = 10.0, 1e7
+        for _ in range(200):
+            mid = (lo * hi) ** 0.5
+            lo, hi = (mid, hi) if steinhart_hart_c(mid, m["A"], m["B"], m["C"]) > t_c else (lo, mid)
+        return (lo * hi) ** 0.5
+
+    def midpoint_v(t_c: float) -> float:
+        r = ohms(t_c)
+        return EXCITATION_MV / 1000 * r / (r + ch["r_fixed_ohm"])
+
+    assert ch["ntc_side"] == "low"
+    assert all(0.150 <= midpoint_v(t) <= 2.450 for t in range(0, 81))
+    text = " ".join((HARDWARE / "wiring.md").read_text(encoding="utf-8").split())
+    for t_c, quoted in ((0, 1.97), (60, 0.34), (80, 0.18)):
+        assert f"{quoted:.2f} V at {t_c} °C" in text
+        assert abs(midpoint_v(t_c) - quoted) <= 0.005, (t_c, midpoint_v(t_c))
