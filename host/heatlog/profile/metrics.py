@@ -51,8 +51,8 @@ class Thresholds:
 
 #: Defaults per kind. Rules of thumb for useful warmth and coolness, not limits of any standard.
 DEFAULT_THRESHOLDS: dict[str, Thresholds] = {
-    "warmer": Thresholds(40.0, (40.0, 50.0), "common practice, no source (warm to the touch)"),
-    "pack": Thresholds(10.0, (0.0, 15.0), "common practice, no source (cool, not freezing)"),
+    "warmer": Thresholds(40.0, (40.0, 50.0), "common practice, no source; warm to the touch"),
+    "pack": Thresholds(10.0, (0.0, 15.0), "common practice, no source; cool, not freezing"),
     "cement": Thresholds(None, None, "none by default"),
     "generic": Thresholds(None, None, "none by default"),
 }
