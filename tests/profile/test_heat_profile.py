@@ -78,7 +78,9 @@ def test_cement_heat_within_one_percent_every_hour(cement_run):
     """Synthetic truth (solve_ivp); 1 % at every hour once Q exceeds 1 % of the final heat."""
     run = cement_run
     r = analyse_profile(
-        run.time_s, run.temp_C, _settings(run, kind="cement", sample_g=Input(100.0, 0.1, "g")),
+        run.time_s,
+        run.temp_C,
+        _settings(run, kind="cement", sample_g=Input(100.0, 0.1, "g")),
         env_C=run.env_C,
     )
     idx = _hourly(run)
@@ -100,15 +102,18 @@ def test_warmer_heat_within_one_percent_every_hour_with_noise(warmer_run):
     idx = _hourly(run)
     np.testing.assert_allclose(r.heat.heat_J[idx], run.true_heat_J[idx], rtol=0.01)
     # The noise estimate from second differences finds σ ≈ 0.02 K (rounding adds 0.01/√12).
-    assert reading_noise(run.temp_C) == pytest.approx(math.hypot(0.02, 0.01 / math.sqrt(12)), rel=0.15)
+    assert reading_noise(run.temp_C) == pytest.approx(
+        math.hypot(0.02, 0.01 / math.sqrt(12)), rel=0.15
+    )
 
 
 def test_rate_follows_the_true_power(warmer_run):
     """P(t) over its window matches the true power on the plateau within 2 %."""
     run = warmer_run
     seg = check_log(run.time_s, run.temp_C, run.env_C).segments[0]
-    h = heat_profile(seg, Input(60.0, 0.0), given_loss(Input(0.06, 0.0)), u_env_K=0.0,
-                     rate_window_s=1800.0)  # fmt: skip
+    h = heat_profile(
+        seg, Input(60.0, 0.0), given_loss(Input(0.06, 0.0)), u_env_K=0.0, rate_window_s=1800.0
+    )
     plateau = (run.time_s > 1800.0) & (run.time_s < 4 * 3600.0)
     assert np.max(np.abs(h.rate_W[plateau] - 1.5)) < 0.02 * 1.5
 
@@ -131,8 +136,10 @@ def test_uncertainty_band_grows_with_the_integral_and_covers_a_biased_env(warmer
     # A real 0.3 K offset of the environment reading moves Q by about one u(T_env) contribution.
     biased = heat_profile(
         check_log(run.time_s, run.temp_C, run.env_C + 0.3).segments[0],
-        Input(60.0, 0.0), given_loss(Input(0.06, 0.0)), u_env_K=0.0,
-    )  # fmt: skip
+        Input(60.0, 0.0),
+        given_loss(Input(0.06, 0.0)),
+        u_env_K=0.0,
+    )
     shift = abs(biased.heat_J[-1] - h.heat_J[-1])
     assert math.isclose(shift, env_row.contribution, rel_tol=1e-6)
 
@@ -160,8 +167,14 @@ def test_gap_is_skipped_by_default_and_bridged_on_request(warmer_run):
 
 def test_pack_absorbs_heat(tmp_path):
     """An invented cold pack: −2 W for 10 min then decaying; Q < 0 and recovered within 1 %."""
-    run = long_run(PlateauDecay(-2.0, 600.0, 900.0), duration_s=3 * 3600.0, dt_s=2.0,
-                   heat_capacity_J_per_K=400.0, loss_W_per_K=0.15, env_C=22.0)  # fmt: skip
+    run = long_run(
+        PlateauDecay(-2.0, 600.0, 900.0),
+        duration_s=3 * 3600.0,
+        dt_s=2.0,
+        heat_capacity_J_per_K=400.0,
+        loss_W_per_K=0.15,
+        env_C=22.0,
+    )
     r = analyse_profile(run.time_s, run.temp_C, _settings(run, kind="pack"), env_C=run.env_C)
     assert r.budget.value < 0
     assert math.isclose(r.budget.value, run.true_heat_J[-1], rel_tol=0.01)

@@ -48,9 +48,16 @@ def test_cooling_fit_on_a_run_tail_with_a_swinging_environment():
     def env(t):
         return 15.0 + 3.0 * np.sin(2.0 * np.pi * np.asarray(t) / 86400.0)
 
-    run = long_run(PlateauDecay(1.0, 7200.0, 60.0), duration_s=5 * 3600.0, dt_s=5.0,
-                   heat_capacity_J_per_K=60.0, loss_W_per_K=0.06, env_C=env,
-                   noise_K=0.005, seed=2)  # fmt: skip
+    run = long_run(
+        PlateauDecay(1.0, 7200.0, 60.0),
+        duration_s=5 * 3600.0,
+        dt_s=5.0,
+        heat_capacity_J_per_K=60.0,
+        loss_W_per_K=0.06,
+        env_C=env,
+        noise_K=0.005,
+        seed=2,
+    )
     fit = cooling_fit(run.time_s, run.temp_C, run.env_C, start_s=3 * 3600.0, end_s=4 * 3600.0)
     assert math.isclose(fit.rate_per_s, 1e-3, rel_tol=0.01)
     loss = loss_from_cooling(fit, Input(60.0, 1.2, "J/K"))
@@ -70,10 +77,19 @@ def test_cooling_fit_refuses_a_warming_stretch():
 def test_heating_curve_fit_recovers_c_and_g():
     """Heater 2 W for 3 h then off (τ 1 s), solve_ivp truth C = 500 J/K, G = 0.1 W/K; within 1 %."""
     src = PlateauDecay(2.0, 3 * 3600.0, 1.0)
-    run = long_run(src, duration_s=8 * 3600.0, dt_s=10.0, heat_capacity_J_per_K=500.0,
-                   loss_W_per_K=0.1, env_C=21.0, noise_K=0.01, seed=5)  # fmt: skip
-    fit = heating_curve_fit(run.time_s, run.temp_C, run.env_C, src.power(run.time_s),
-                            u_power_rel=0.005)  # fmt: skip
+    run = long_run(
+        src,
+        duration_s=8 * 3600.0,
+        dt_s=10.0,
+        heat_capacity_J_per_K=500.0,
+        loss_W_per_K=0.1,
+        env_C=21.0,
+        noise_K=0.01,
+        seed=5,
+    )
+    fit = heating_curve_fit(
+        run.time_s, run.temp_C, run.env_C, src.power(run.time_s), u_power_rel=0.005
+    )
     assert math.isclose(fit.heat_capacity.value, 500.0, rel_tol=0.01)
     assert math.isclose(fit.loss.G_W_per_K, 0.1, rel_tol=0.01)
     assert fit.heat_capacity.u >= 0.005 * 500.0 * 0.999

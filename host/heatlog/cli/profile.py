@@ -100,48 +100,110 @@ def _quantity(value: float | None, u: float, unit: str) -> Input | None:
 @click.option("--temp-col", default="temp_C", show_default=True, help="Column with the sample °C.")
 @click.option("--env-col", default=None, help="Column with the environment temperature (°C).")
 @click.option("--env-temp", type=float, default=None, help="Constant environment temperature, °C.")
-@click.option("--u-env-temp", type=click.FloatRange(min=0.0), default=DEFAULT_U_ENV_K,
-              show_default=True,
-              help="Standard uncertainty of T_env relative to the sample probe, K "
-              "(default: common practice, no source).")  # fmt: skip
+@click.option(
+    "--u-env-temp",
+    type=click.FloatRange(min=0.0),
+    default=DEFAULT_U_ENV_K,
+    show_default=True,
+    help="Standard uncertainty of T_env relative to the sample probe, K "
+    "(default: common practice, no source).",
+)
 @click.option("--flags-col", default=None, help="Status column; non-zero marks a probe fault.")
-@click.option("--heat-capacity", type=float, default=None,
-              help="C of box + contents + sample, J/K (required for a CSV).")  # fmt: skip
+@click.option(
+    "--heat-capacity",
+    type=float,
+    default=None,
+    help="C of box + contents + sample, J/K (required for a CSV).",
+)
 @click.option("--u-heat-capacity", type=click.FloatRange(min=0.0), default=0.0, show_default=True)
 @click.option("--loss", type=float, default=None, help="Heat-loss coefficient G, W/K.")
 @click.option("--u-loss", type=click.FloatRange(min=0.0), default=0.0, show_default=True)
-@click.option("--cooling-fit", "cooling_after", type=float, default=None, metavar="SECONDS",
-              help="Fit G/C by Newton's law on the tail after this time (no heat released there).")  # fmt: skip
+@click.option(
+    "--cooling-fit",
+    "cooling_after",
+    type=float,
+    default=None,
+    metavar="SECONDS",
+    help="Fit G/C by Newton's law on the tail after this time (no heat released there).",
+)
 @click.option("--sample-g", type=float, default=None, help="Sample (binder) mass, g.")
 @click.option("--u-sample-g", type=click.FloatRange(min=0.0), default=0.0, show_default=True)
 @click.option("--kind", type=click.Choice(KINDS), default="generic", show_default=True)
-@click.option("--threshold", type=float, default=None,
-              help="Threshold °C (warmer: above; pack: below). Default per kind.")  # fmt: skip
-@click.option("--band", type=(float, float), default=None, metavar="LOW HIGH",
-              help="Band in °C for the time-within-band figure. Default per kind.")  # fmt: skip
-@click.option("--u-temp", type=click.FloatRange(min=0.0), default=DEFAULT_U_TEMP_K,
-              show_default=True,
-              help="Standard uncertainty of a reading (probe calibration), K "
-              "(default: uncalibrated thermistor, common practice, no source).")  # fmt: skip
-@click.option("--resolution", type=click.FloatRange(min=0.0), default=0.0, show_default=True,
-              help="Reading step in K.")  # fmt: skip
-@click.option("--rate-window", type=click.FloatRange(min=0.0, min_open=True), default=None,
-              help="Window for the rate P(t), s (default: max(10 steps, run/200)).")  # fmt: skip
-@click.option("--gap-factor", type=click.FloatRange(min=1.0, min_open=True),
-              default=DEFAULT_GAP_FACTOR, show_default=True,
-              help="A step longer than this many median steps is a gap.")  # fmt: skip
-@click.option("--interpolate-gaps", is_flag=True,
-              help="Bridge gaps with a straight line (default: skip them and flag the result).")  # fmt: skip
-@click.option("--segment", type=click.IntRange(min=0), default=0, show_default=True,
-              help="Which segment between clock resets to analyse (0 = first).")  # fmt: skip
-@click.option("--datum", type=float, default=DEFAULT_DATUM_C, show_default=True,
-              help="Datum temperature T₀ for the Nurse–Saul factor, °C (cement).")  # fmt: skip
-@click.option("--activation", type=click.FloatRange(min=0.0, min_open=True),
-              default=DEFAULT_ACTIVATION_K, show_default=True,
-              help="Activation-energy constant Q = E/R, K, for equivalent age (cement).")  # fmt: skip
+@click.option(
+    "--threshold",
+    type=float,
+    default=None,
+    help="Threshold °C (warmer: above; pack: below). Default per kind.",
+)
+@click.option(
+    "--band",
+    type=(float, float),
+    default=None,
+    metavar="LOW HIGH",
+    help="Band in °C for the time-within-band figure. Default per kind.",
+)
+@click.option(
+    "--u-temp",
+    type=click.FloatRange(min=0.0),
+    default=DEFAULT_U_TEMP_K,
+    show_default=True,
+    help="Standard uncertainty of a reading (probe calibration), K "
+    "(default: uncalibrated thermistor, common practice, no source).",
+)
+@click.option(
+    "--resolution",
+    type=click.FloatRange(min=0.0),
+    default=0.0,
+    show_default=True,
+    help="Reading step in K.",
+)
+@click.option(
+    "--rate-window",
+    type=click.FloatRange(min=0.0, min_open=True),
+    default=None,
+    help="Window for the rate P(t), s (default: max(10 steps, run/200)).",
+)
+@click.option(
+    "--gap-factor",
+    type=click.FloatRange(min=1.0, min_open=True),
+    default=DEFAULT_GAP_FACTOR,
+    show_default=True,
+    help="A step longer than this many median steps is a gap.",
+)
+@click.option(
+    "--interpolate-gaps",
+    is_flag=True,
+    help="Bridge gaps with a straight line (default: skip them and flag the result).",
+)
+@click.option(
+    "--segment",
+    type=click.IntRange(min=0),
+    default=0,
+    show_default=True,
+    help="Which segment between clock resets to analyse (0 = first).",
+)
+@click.option(
+    "--datum",
+    type=float,
+    default=DEFAULT_DATUM_C,
+    show_default=True,
+    help="Datum temperature T₀ for the Nurse–Saul factor, °C (cement).",
+)
+@click.option(
+    "--activation",
+    type=click.FloatRange(min=0.0, min_open=True),
+    default=DEFAULT_ACTIVATION_K,
+    show_default=True,
+    help="Activation-energy constant Q = E/R, K, for equivalent age (cement).",
+)
 @click.option("--u-activation", type=click.FloatRange(min=0.0), default=0.0, show_default=True)
-@click.option("--reference", type=float, default=DEFAULT_REFERENCE_C, show_default=True,
-              help="Reference temperature for equivalent age, °C (cement).")  # fmt: skip
+@click.option(
+    "--reference",
+    type=float,
+    default=DEFAULT_REFERENCE_C,
+    show_default=True,
+    help="Reference temperature for equivalent age, °C (cement).",
+)
 @json_option
 def profile(
     file: str,

@@ -333,12 +333,32 @@ def analyse_profile(
 # --- the [profile] table of a run file -------------------------------------------------------
 
 _TABLE_KEYS = {
-    "heat_capacity_J_per_K", "u_heat_capacity_J_per_K", "loss_W_per_K", "u_loss_W_per_K",
-    "cooling_fit_after_s", "env_col", "env_temp_C", "u_env_temp_K", "flags_col", "sample_mass_g",
-    "u_sample_mass_g", "kind", "threshold_C", "band_low_C", "band_high_C", "u_temp_K",
-    "resolution_K", "rate_window_s", "gap_factor", "interpolate_gaps", "segment", "datum_C",
-    "activation_K", "u_activation_K", "reference_C",
-}  # fmt: skip
+    "heat_capacity_J_per_K",
+    "u_heat_capacity_J_per_K",
+    "loss_W_per_K",
+    "u_loss_W_per_K",
+    "cooling_fit_after_s",
+    "env_col",
+    "env_temp_C",
+    "u_env_temp_K",
+    "flags_col",
+    "sample_mass_g",
+    "u_sample_mass_g",
+    "kind",
+    "threshold_C",
+    "band_low_C",
+    "band_high_C",
+    "u_temp_K",
+    "resolution_K",
+    "rate_window_s",
+    "gap_factor",
+    "interpolate_gaps",
+    "segment",
+    "datum_C",
+    "activation_K",
+    "u_activation_K",
+    "reference_C",
+}
 
 
 def _num(table: Mapping[str, Any], key: str, where: str) -> float | None:
