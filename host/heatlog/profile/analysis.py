@@ -156,7 +156,7 @@ class ProfileResult:
             "heat_J": h.heat_J[idx].tolist(),
             "u_heat_J": h.u_heat_J[idx].tolist(),
             "rate_W": h.rate_W[idx].tolist(),
-            "u_rate_W": h.u_rate_W[idx].tolist(),
+            "u_rate_W": h.u_rate_at(idx).tolist(),
         }
         if self.settings.sample_g is not None:
             out["heat_J_per_g"] = self.per_gram(h.heat_J[idx]).tolist()
@@ -172,7 +172,7 @@ class ProfileResult:
         rate = np.where(np.isfinite(h.rate_W), h.rate_W, 0.0)
         sign = -1.0 if self.settings.kind == "pack" else 1.0
         i = int(np.argmax(sign * rate))
-        return float(rate[i]), float(h.time_s[i] - h.time_s[0]), float(h.u_rate_W[i])
+        return float(rate[i]), float(h.time_s[i] - h.time_s[0]), float(h.u_rate_at(i)[0])
 
     def to_dict(self) -> dict[str, Any]:
         s = self.settings

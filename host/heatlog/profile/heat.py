@@ -236,20 +236,25 @@ class HeatProfile:
                 rate[(hi > t[i]) & (lo < t[i + 1])] = np.nan
         return rate
 
-    @cached_property
-    def u_rate_W(self) -> np.ndarray:
-        """Standard uncertainty of P(t) (W) from u(C), u(G), u(T_env) and the reading noise."""
+    def u_rate_at(self, index: np.ndarray | int) -> np.ndarray:
+        """Standard uncertainty of P (W) at the given samples, from u(C), u(G), u(T_env), noise."""
+        idx = np.atleast_1d(np.asarray(index))
         t, y, env = self.time_s, self.temp_C, self.env_C
+        ti = t[idx]
         half = 0.5 * self.rate_window_s
-        lo = np.maximum(t - half, t[0])
-        hi = np.minimum(t + half, t[-1])
+        lo = np.maximum(ti - half, t[0])
+        hi = np.minimum(ti + half, t[-1])
         slope = (np.interp(hi, t, y) - np.interp(lo, t, y)) / (hi - lo)
         c, g = self.heat_capacity, self.loss
-        var = (slope * c.u) ** 2 + ((y - env) * g.u_G_W_per_K) ** 2
-        var += (g.G_W_per_K * self.u_env_K) ** 2 + (
-            c.value * SQRT2 * self.u_reading_K / (hi - lo)
-        ) ** 2
+        var = (slope * c.u) ** 2 + ((y[idx] - env[idx]) * g.u_G_W_per_K) ** 2
+        var += (g.G_W_per_K * self.u_env_K) ** 2
+        var += (c.value * SQRT2 * self.u_reading_K / (hi - lo)) ** 2
         return np.sqrt(var)
+
+    @cached_property
+    def u_rate_W(self) -> np.ndarray:
+        """Standard uncertainty of P(t) at every sample (W)."""
+        return self.u_rate_at(np.arange(self.time_s.size))
 
     def to_dict(self) -> dict[str, object]:
         end = -1
