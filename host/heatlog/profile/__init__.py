@@ -19,6 +19,7 @@ from heatlog.profile.analysis import (
     ProfileResult,
     ProfileSettings,
     analyse_profile,
+    analyse_thermogram,
     settings_from_table,
 )
 from heatlog.profile.downsample import downsample_extrema
@@ -57,6 +58,7 @@ __all__ = [
     "Segment",
     "Thresholds",
     "analyse_profile",
+    "analyse_thermogram",
     "burn_exposure",
     "burn_time_h",
     "check_log",

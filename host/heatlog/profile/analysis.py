@@ -37,6 +37,7 @@ from heatlog.profile.maturity import (
 )
 from heatlog.profile.metrics import DEFAULT_THRESHOLDS, KINDS, Metrics, Thresholds, metrics
 from heatlog.profile.safety import SafetyFlag, safety_flags
+from heatlog.thermogram import Thermogram
 
 METHOD = (
     "semi-adiabatic heat balance Q(t) = C·(T(t) − T(0)) + G·∫(T − T_env)dt "
@@ -330,6 +331,32 @@ def analyse_profile(
     )
 
 
+def analyse_thermogram(
+    thermogram: Thermogram,
+    settings: ProfileSettings,
+    *,
+    env_channel: str | None = None,
+    flags_channel: str | None = None,
+) -> ProfileResult:
+    """:func:`analyse_profile` on a :class:`~heatlog.thermogram.Thermogram` and its channels.
+
+    A Thermogram already has strictly increasing time, so no clock resets are found here; logs
+    that may hold resets go through :func:`analyse_profile` on the raw arrays.
+    """
+    ch = thermogram.channels
+    for name in (env_channel, flags_channel):
+        if name is not None and name not in ch:
+            raise InputError(f"the thermogram has no channel {name!r}; it has {sorted(ch)}")
+    return analyse_profile(
+        thermogram.time_s,
+        thermogram.temp_C,
+        settings,
+        env_C=None if env_channel is None else ch[env_channel],
+        flags=None if flags_channel is None else ch[flags_channel],
+        where=str(thermogram.metadata.get("source", "thermogram")),
+    )
+
+
 # --- the [profile] table of a run file -------------------------------------------------------
 
 _TABLE_KEYS = {
@@ -404,6 +431,8 @@ def settings_from_table(
     env = num("env_temp_C")
     if env is None and "env" not in columns:
         raise InputError(f"{w}: needs env_temp_C or env_col")
+    if env is not None and "env" in columns:
+        raise InputError(f"{w}: give env_temp_C or env_col, not both")
     kind = str(table.get("kind", "generic"))
     th = None
     if any(k in table for k in ("threshold_C", "band_low_C", "band_high_C")):
@@ -450,5 +479,6 @@ __all__ = [
     "ProfileResult",
     "ProfileSettings",
     "analyse_profile",
+    "analyse_thermogram",
     "settings_from_table",
 ]

@@ -142,7 +142,7 @@ class CoolingFit:
     def time_constant_s(self) -> float:
         return 1.0 / self.rate_per_s
 
-    def to_dict(self) -> dict[str, float]:
+    def to_dict(self) -> dict[str, float | int | str]:
         return {
             "rate_G_over_C_per_s": self.rate_per_s,
             "u_rate_per_s": self.u_rate_per_s,

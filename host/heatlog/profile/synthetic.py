@@ -91,11 +91,14 @@ def long_run(
     ``start_C`` defaults to the environment at t = 0. Readings get Gaussian noise (``noise_K``)
     and are rounded to ``resolution_K``; the truth arrays are the exact values.
     """
-    env: Callable[[np.ndarray], np.ndarray] = (
-        env_C
-        if callable(env_C)
-        else (lambda t, c=float(env_C): np.full_like(np.asarray(t, float), c))
-    )
+    if callable(env_C):
+        env = env_C
+    else:
+        level = float(env_C)
+
+        def env(t: np.ndarray) -> np.ndarray:
+            return np.full_like(np.asarray(t, dtype=np.float64), level)
+
     c, g = heat_capacity_J_per_K, loss_W_per_K
     t = np.arange(0.0, duration_s + 0.5 * dt_s, dt_s)
     y0 = float(env(np.zeros(1))[0]) if start_C is None else start_C
