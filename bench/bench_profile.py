@@ -16,26 +16,18 @@ from __future__ import annotations
 
 import sys
 import tempfile
-import time
 from pathlib import Path
 
 import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "host"))
 
+from bench_reduce import best_of  # noqa: E402  (bench/ is the script's own folder)
+
 from heatlog.csvtable import read_columns  # noqa: E402
 from heatlog.gum import Input  # noqa: E402
 from heatlog.profile import ProfileSettings, analyse_profile, downsample_extrema  # noqa: E402
 from heatlog.profile.synthetic import HydrationCurve, long_run  # noqa: E402
-
-
-def best_of(func, repeats: int = 3) -> float:
-    times = []
-    for _ in range(repeats):
-        start = time.perf_counter()
-        func()
-        times.append(time.perf_counter() - start)
-    return min(times)
 
 
 def main() -> None:

@@ -55,8 +55,9 @@ def cement_csv(tmp_path_factory):
     return path, run
 
 
-def _json(args):
-    result = CliRunner().invoke(main, [*args, "--json"])
+def _json(path, options=""):
+    """Run ``heatlog profile PATH OPTIONS --json`` and parse the output."""
+    result = CliRunner().invoke(main, ["profile", str(path), *options.split(), "--json"])
     assert result.exit_code == 0, result.output
     return json.loads(result.output)
 
@@ -64,26 +65,8 @@ def _json(args):
 def test_warmer_json_keys_and_values(warmer_csv):
     path, run = warmer_csv
     d = _json(
-        [
-            "profile",
-            str(path),
-            "--heat-capacity",
-            "60",
-            "--u-heat-capacity",
-            "1",
-            "--loss",
-            "0.06",
-            "--u-loss",
-            "0.002",
-            "--env-col",
-            "room_C",
-            "--kind",
-            "warmer",
-            "--sample-g",
-            "40",
-            "--u-sample-g",
-            "0.05",
-        ]
+        path,
+        "--heat-capacity 60 --u-heat-capacity 1 --loss 0.06 --u-loss 0.002 --env-col room_C --kind warmer --sample-g 40 --u-sample-g 0.05",
     )
     for key in (
         "heat_J",
@@ -113,24 +96,8 @@ def test_warmer_json_keys_and_values(warmer_csv):
 def test_cement_with_faults_and_reset(cement_csv):
     path, run = cement_csv
     d = _json(
-        [
-            "profile",
-            str(path),
-            "--heat-capacity",
-            "2500",
-            "--loss",
-            "0.03",
-            "--env-temp",
-            "20",
-            "--u-env-temp",
-            "0.2",
-            "--kind",
-            "cement",
-            "--sample-g",
-            "100",
-            "--flags-col",
-            "status",
-        ]
+        path,
+        "--heat-capacity 2500 --loss 0.03 --env-temp 20 --u-env-temp 0.2 --kind cement --sample-g 100 --flags-col status",
     )
     assert d["log"]["faulted_samples_excluded"] == 1
     assert len(d["log"]["clock_resets"]) == 1 and len(d["log"]["segments"]) == 2
@@ -177,18 +144,7 @@ def test_cooling_fit_option(tmp_path):
     path = tmp_path / "off.csv"
     _write(path, {"time_s": run.time_s, "temp_C": run.temp_C})
     d = _json(
-        [
-            "profile",
-            str(path),
-            "--heat-capacity",
-            "60",
-            "--u-heat-capacity",
-            "1",
-            "--cooling-fit",
-            str(5 * 3600),
-            "--env-temp",
-            "20",
-        ]
+        path, f"--heat-capacity 60 --u-heat-capacity 1 --cooling-fit {5 * 3600} --env-temp 20"
     )
     assert d["cooling_fit"]["rate_G_over_C_per_s"] == pytest.approx(1e-3, rel=0.01)
     assert d["profile"]["loss"]["source"] == "cooling-curve fit"
@@ -205,7 +161,7 @@ def test_run_file_form(warmer_csv, tmp_path):
         '[profile]\nheat_capacity_J_per_K = 60.0\nloss_W_per_K = 0.06\nenv_col = "room_C"\n'
         'kind = "warmer"\nsample_mass_g = 40.0\nthreshold_C = 38.0\n'
     )
-    d = _json(["profile", str(toml)])
+    d = _json(toml)
     assert d["heat_J"] == pytest.approx(run.true_heat_J[-1], rel=0.01)
     assert d["metrics"]["threshold_C"] == 38.0
 
