@@ -52,7 +52,7 @@ def _text(result: ProfileResult, source: str) -> str:
     else:
         lines.append(f"  peak rate {d['peak_rate_W']:.3g} W at {_h(d['time_of_peak_rate_s'])}")
     lines.append(
-        f"  peak {m.peak_C:.2f} ± {m.u_peak_C:.2g} °C at {_h(m.time_to_peak_s, m.u_time_to_peak_s)}"
+        f"  {'lowest' if m.side == 'below' else 'peak'} {m.peak_C:.2f} ± {m.u_peak_C:.2g} °C at {_h(m.time_to_peak_s, m.u_time_to_peak_s)}"
     )
     th = m.thresholds
     if th.threshold_C is not None:

@@ -248,6 +248,10 @@ def _notes(
         )
     if settings.sample_g is None:
         notes.append("no sample mass given: per-gram figures omitted (--sample-g)")
+    if settings.heat_capacity.u == 0:
+        notes.append("u(C) not given and taken as 0: the budget is too small (--u-heat-capacity)")
+    if heat.loss.u_G_W_per_K == 0 and heat.loss.G_W_per_K > 0:
+        notes.append("u(G) not given and taken as 0: the budget is too small (--u-loss)")
     notes.append(
         "C must be the heat capacity of everything that warms: box, contents and the sample itself"
     )
