@@ -70,6 +70,11 @@ def test_repeated_time_is_a_break_too():
     t[10] = t[9]
     check = check_log(t, y, 20.0)
     assert len(check.resets) == 1 and len(check.segments) == 2
+    # Two resets one sample apart leave a 1-sample stretch: dropped and counted.
+    t[15] = t[14] - 1.0
+    t[16:] = t[16:] - 100.0
+    check = check_log(t, y, 20.0)
+    assert check.dropped == 1 and len(check.resets) == 3 and len(check.segments) == 3
 
 
 @pytest.mark.parametrize(

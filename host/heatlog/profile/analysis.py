@@ -228,6 +228,10 @@ def _notes(
             f"clock reset at data row {r.row}: time went from {r.time_before_s:g} s to "
             f"{r.time_after_s:g} s; the log was split there and not integrated across"
         )
+    if check.dropped:
+        notes.append(
+            f"{check.dropped} sample(s) between clock resets formed stretches too short to use"
+        )
     if len(check.segments) > 1:
         notes.append(
             f"{len(check.segments)} segments; analysed segment {seg_index} (choose with --segment)"

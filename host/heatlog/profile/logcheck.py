@@ -113,11 +113,13 @@ class LogCheck:
     faulted: int
     rows: int
     gap_factor: float
+    dropped: int = 0  # good samples in stretches too short to analyse (between close resets)
 
     def to_dict(self) -> dict[str, object]:
         return {
             "rows": self.rows,
             "faulted_samples_excluded": self.faulted,
+            "samples_in_too_short_segments": self.dropped,
             "clock_resets": [r.to_dict() for r in self.resets],
             "gap_factor": self.gap_factor,
             "segments": [s.to_dict() for s in self.segments],
@@ -194,4 +196,7 @@ def check_log(
             f"{where}: the clock resets leave no stretch of {MIN_SEGMENT_ROWS} or more samples "
             "with rising time; check the board's clock"
         )
-    return LogCheck(tuple(segments), resets, faulted, int(np.asarray(time_s).size), gap_factor)
+    dropped = int(t.size - sum(seg.time_s.size for seg in segments))
+    return LogCheck(
+        tuple(segments), resets, faulted, int(np.asarray(time_s).size), gap_factor, dropped
+    )
