@@ -26,6 +26,15 @@ RUN.toml`` evaluates it. The layout, with every key optional unless marked::
     name = "NH4NO3"  mass_g = 8.0  u_mass_g = 0.002
     molar_mass_g_per_mol = 80.043                  # or taken from the reaction's first reactant
     reaction = "NH4NO3(s) -> NH4+(aq) + NO3-(aq)"  # for the Hess's-law comparison
+    [profile]                    # a long run: heat-release profile (``heatlog profile RUN.toml``)
+    heat_capacity_J_per_K = 2500.0  u_heat_capacity_J_per_K = 50.0     # box + contents + sample
+    loss_W_per_K = 0.03  u_loss_W_per_K = 0.002    # or: cooling_fit_after_s = 200000.0
+    env_col = "env_C"            # or: env_temp_C = 20.0; u_env_temp_K = 0.5
+    flags_col = "status"         # optional; non-zero = probe fault
+    sample_mass_g = 100.0  u_sample_mass_g = 0.1  kind = "cement"   # warmer|pack|cement|generic
+    threshold_C = …  band_low_C = …  band_high_C = …  u_temp_K = …  resolution_K = …
+    rate_window_s = …  gap_factor = 5.0  interpolate_gaps = false  segment = 0
+    datum_C = 0.0  activation_K = 5000.0  u_activation_K = …  reference_C = 20.0
 
 Parsing (:func:`parse_run`) and evaluation (:func:`evaluate_run`) are pure; :func:`load_run` and
 :func:`read_run_log` do the file reading.
@@ -55,6 +64,7 @@ from heatlog.energetics.heat import (
 from heatlog.errors import InputError
 from heatlog.gum import Budget, Input
 from heatlog.probes import chain_from_spec, load_probe
+from heatlog.profile import ProfileSettings, settings_from_table
 from heatlog.reduce import Reduction, reduce_thermogram
 from heatlog.thermogram import Thermogram, read_thermogram_csv
 
@@ -104,6 +114,8 @@ class RunSpec:
     electrical: ElectricalSpec | None = None
     sample: SampleSpec | None = None
     notes: tuple[str, ...] = field(default_factory=tuple)
+    profile: ProfileSettings | None = None
+    profile_columns: Mapping[str, str] = field(default_factory=dict)  # "env", "flags"
 
 
 _REDUCE_KEYS = {"method", "event", "event_start_s", "after_start_s", "resolution_K"}
@@ -224,6 +236,11 @@ def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
         raise InputError(
             f"{where}: [calorimeter] needs heat_capacity_J_per_K or calibrations to turn ΔT into heat"
         )
+    profile, profile_columns = (
+        settings_from_table(_table(doc, "profile", where), where)
+        if "profile" in doc
+        else (None, {})
+    )
     return RunSpec(
         path=path,
         title=str(doc.get("title", path.stem)),
@@ -234,6 +251,8 @@ def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
         calibrations=calibrations,
         electrical=electrical,
         sample=sample,
+        profile=profile,
+        profile_columns=profile_columns,
     )
 
 
@@ -251,30 +270,38 @@ def load_run(path: str | Path) -> RunSpec:
     return parse_run(doc, p)
 
 
+def read_log_arrays(
+    log: LogSpec, extra: Sequence[str] = ()
+) -> tuple[np.ndarray, np.ndarray, dict[str, np.ndarray], dict[str, Any]]:
+    """Time, temperature (through the probe file for raw readings), ``extra`` columns and
+    metadata, in file order and unchecked for order (long runs handle clock resets themselves)."""
+    temp_col = log.temp_col if log.raw_col is None else log.raw_col
+    cols = read_columns(log.file, [log.time_col, temp_col, *extra], what="log")
+    lookup = {k.lower(): v for k, v in cols.items()}
+    time_s, reading = lookup[log.time_col.lower()], lookup[temp_col.lower()]
+    extras = {c: lookup[c.lower()] for c in extra}
+    meta: dict[str, Any] = {"source": str(log.file)}
+    if log.raw_col is None:
+        return time_s, reading, extras, meta
+    assert log.probe is not None  # parse_run requires it
+    probe = load_probe(log.probe)
+    if log.chain is None:
+        resistance = reading
+    else:
+        chain = chain_from_spec(log.chain)
+        resistance = chain.to_resistance(reading)
+        meta["count_step_K"] = float(np.median(chain.reading(probe.model, reading).step_K))
+    temp = probe.model.resistance_to_temperature(resistance)
+    meta.update(probe_id=probe.id, probe_u_K=probe.uncertainty_K)
+    return time_s, np.asarray(temp, dtype=np.float64), extras, meta
+
+
 def read_run_log(log: LogSpec) -> Thermogram:
     """The run's thermogram: a temperature column, or raw readings through the probe file."""
     if log.raw_col is None:
         return read_thermogram_csv(log.file, time_col=log.time_col, temp_col=log.temp_col)
-    assert log.probe is not None  # parse_run requires it
-    probe = load_probe(log.probe)
-    cols = read_columns(log.file, [log.time_col, log.raw_col], what="log")
-    raw = cols[log.time_col], cols[log.raw_col]
-    if log.chain is None:
-        resistance = raw[1]
-        step = None
-    else:
-        chain = chain_from_spec(log.chain)
-        resistance = chain.to_resistance(raw[1])
-        step = chain.reading(probe.model, raw[1]).step_K
-    temp = probe.model.resistance_to_temperature(resistance)
-    meta: dict[str, Any] = {
-        "source": str(log.file),
-        "probe_id": probe.id,
-        "probe_u_K": probe.uncertainty_K,
-    }
-    if step is not None:
-        meta["count_step_K"] = float(np.median(step))
-    return Thermogram(raw[0], np.asarray(temp, dtype=np.float64), metadata=meta)
+    time_s, temp, _, meta = read_log_arrays(log)
+    return Thermogram(time_s, temp, metadata=meta)
 
 
 @dataclass(frozen=True, eq=False)

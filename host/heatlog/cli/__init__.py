@@ -44,6 +44,7 @@ _COMMAND_MODULES: tuple[tuple[str, str], ...] = (
     ("energetics", "calibrate"),
     ("energetics", "hess"),
     ("demo", "demo"),
+    ("profile", "profile"),
 )
 
 
