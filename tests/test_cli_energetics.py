@@ -4,9 +4,10 @@ import json
 
 import pytest
 from click.testing import CliRunner
-from heatlog.cli import main
 from hypothesis import given, settings
 from hypothesis import strategies as st
+
+from heatlog.cli import main
 
 
 def run(*args):

@@ -4,6 +4,7 @@ import math
 
 import numpy as np
 import pytest
+
 from heatlog.energetics.calorimeter import (
     REFERENCE_PROCESSES,
     combine_calibrations,

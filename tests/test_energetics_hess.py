@@ -4,6 +4,9 @@ import math
 
 import pytest
 from chemicals import Hfg, Hfl, Hfs  # CRC Handbook values in the chemicals package
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
 from heatlog.energetics.formula import (
     Reaction,
     Species,
@@ -18,8 +21,6 @@ from heatlog.energetics.formula import (
 from heatlog.energetics.hess import compare, formation_table, reaction, reaction_enthalpy
 from heatlog.errors import InputError
 from heatlog.gum import Input
-from hypothesis import given, settings
-from hypothesis import strategies as st
 
 # CAS numbers for the table rows the chemicals package covers (solids, liquids, gases).
 CAS = {

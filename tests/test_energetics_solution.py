@@ -5,6 +5,7 @@ import math
 import CoolProp.CoolProp as coolprop  # test extra: independent Melinder correlations
 import pytest
 import thermo.electrochem as thermo_electrochem  # test extra: Laliberté data + implementation
+
 from heatlog.energetics.solution import (
     SOLUTES,
     given_cp,

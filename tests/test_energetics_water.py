@@ -2,6 +2,7 @@
 
 import numpy as np
 import pytest
+
 from heatlog.energetics.water import (
     iapws_cp,
     iapws_density,

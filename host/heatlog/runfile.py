@@ -62,7 +62,7 @@ from heatlog.energetics.heat import (
     specific_enthalpy,
 )
 from heatlog.errors import InputError
-from heatlog.gum import Budget, Input
+from heatlog.gum import Budget, Component, Input
 from heatlog.probes import chain_from_spec, load_probe
 from heatlog.profile import ProfileSettings, settings_from_table
 from heatlog.reduce import Reduction, reduce_thermogram
@@ -424,20 +424,25 @@ def evaluate_run(
             raise InputError(f"{spec.path}: calibration run files need a loader")
         constants: list[Budget] = []
         for p in spec.calibrations:
-            c = calibrate(p).c_cal
-            if c is None:
+            found = calibrate(p).c_cal
+            if found is None:
                 raise InputError(f"{p}: not a calibration run (it needs an [electrical] table)")
-            constants.append(c)
+            constants.append(found)
         c_cal = constants[0] if len(constants) == 1 else calorimeter.combine_calibrations(constants)
     if c_cal is None:
         return RunResult(spec, red, mean_temp, contents)
     c_budget = (
-        c_cal if isinstance(c_cal, Budget) else Budget("C_cal (given)", c_cal.value, "J/K", ())
+        c_cal
+        if isinstance(c_cal, Budget)
+        else Budget(
+            "C_cal (given in the run file)",
+            c_cal.value,
+            "J/K",
+            (Component("C_cal", c_cal.value, c_cal.u, 1.0, "J/K", note="given in the run file"),),
+        )
     )
     q = heat(dt, c_cal, list(contents))
-    result = RunResult(
-        spec, red, mean_temp, contents, c_cal=c_budget if c_budget.components else None, heat_J=q
-    )
+    result = RunResult(spec, red, mean_temp, contents, c_cal=c_budget, heat_J=q)
     sample = spec.sample
     if sample is None:
         return result

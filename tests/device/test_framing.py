@@ -4,9 +4,10 @@ import json
 from pathlib import Path
 
 import pytest
-from heatlog.device import framing as fr
 from hypothesis import given
 from hypothesis import strategies as st
+
+from heatlog.device import framing as fr
 
 VECTORS = json.loads((Path(__file__).resolve().parents[1] / "vectors" / "frames.json").read_text())
 

@@ -7,6 +7,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 from click.testing import CliRunner
+
 from heatlog.cli import main
 from heatlog.probes.chains import MAX31865Chain
 from heatlog.probes.probefile import load_probe

@@ -2,6 +2,7 @@
 
 import numpy as np
 import pytest
+
 from heatlog.errors import CalibrationError, RangeError
 from heatlog.probes.corrections import one_point_correction, two_point_correction
 from heatlog.probes.rtd import CallendarVanDusen, pt100

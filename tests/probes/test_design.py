@@ -2,6 +2,8 @@
 
 import numpy as np
 import pytest
+from scipy.optimize import minimize_scalar
+
 from heatlog.errors import RangeError
 from heatlog.probes.design import (
     design_divider,
@@ -11,7 +13,6 @@ from heatlog.probes.design import (
     series_resistor,
 )
 from heatlog.probes.thermistor import Beta, SteinhartHart
-from scipy.optimize import minimize_scalar
 
 SH10K = SteinhartHart(1.129148e-3, 2.34125e-4, 8.76741e-8)  # widely quoted set, from memory
 

@@ -2,13 +2,14 @@
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
 from heatlog.errors import CalibrationError, HeatlogError, RangeError
 from heatlog.probes.chains import MAX31865Chain, VoltageDivider
 from heatlog.probes.fitting import fit_counts, fit_resistance
 from heatlog.probes.rtd import IEC_C, CallendarVanDusen, pt100
 from heatlog.probes.thermistor import Beta, SteinhartHart, SteinhartHart4
-from hypothesis import given, settings
-from hypothesis import strategies as st
 
 SH10K = SteinhartHart(1.129148e-3, 2.34125e-4, 8.76741e-8)  # widely quoted set, from memory
 # An invented NTC that a three-term curve cannot follow exactly (D ≠ 0), R(25 °C) = 10 kΩ.

@@ -4,6 +4,9 @@ import datetime as dt
 
 import numpy as np
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+
 from heatlog.errors import CalibrationError
 from heatlog.probes.fitting import fit_resistance
 from heatlog.probes.probefile import (
@@ -16,8 +19,6 @@ from heatlog.probes.probefile import (
 )
 from heatlog.probes.rtd import pt100
 from heatlog.probes.thermistor import Beta, SteinhartHart
-from hypothesis import given
-from hypothesis import strategies as st
 
 SH10K = SteinhartHart(1.129148e-3, 2.34125e-4, 8.76741e-8, t_min_C=0.0, t_max_C=80.0)
 GOOD = """\

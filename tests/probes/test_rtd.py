@@ -4,11 +4,12 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+
 from heatlog.errors import CalibrationError, RangeError
 from heatlog.probes.rtd import CallendarVanDusen, pt100, pt1000, tolerance_class
 from heatlog.probes.validity import RANGE_MARGIN_K
-from hypothesis import given
-from hypothesis import strategies as st
 
 # IEC 60751 reference table, Pt100 (ohms) — REFERENCES.md [pub]; tolerance 1 mΩ.
 IEC_PT100 = [(0.0, 100.0000), (50.0, 119.3971), (100.0, 138.5055), (200.0, 175.8560)]

@@ -4,11 +4,12 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+
 from heatlog.errors import CalibrationError, RangeError
 from heatlog.probes.thermistor import Beta, SteinhartHart, SteinhartHart4
 from heatlog.probes.validity import RANGE_MARGIN_K
-from hypothesis import given
-from hypothesis import strategies as st
 
 # The widely quoted 10 kΩ NTC Steinhart–Hart set (common practice; values from memory).
 SH10K = SteinhartHart(1.129148e-3, 2.34125e-4, 8.76741e-8)

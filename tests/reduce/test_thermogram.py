@@ -4,10 +4,11 @@ from datetime import UTC, datetime, timedelta
 
 import numpy as np
 import pytest
-from heatlog.errors import InputError
-from heatlog.thermogram import Thermogram, read_thermogram_csv
 from hypothesis import given, settings
 from hypothesis import strategies as st
+
+from heatlog.errors import InputError
+from heatlog.thermogram import Thermogram, read_thermogram_csv
 
 
 def _write(tmp_path, text, name="run.csv"):
