@@ -35,3 +35,27 @@ def test_demo_text_output_carries_the_caution(tmp_path):
     assert r.exit_code == 0, r.output
     assert "invented" in r.output and "kJ/mol" in r.output
     assert "safety data sheets" in r.output
+
+
+def test_reduce_reads_the_demo_run_file(tmp_path):
+    out = tmp_path / "d"
+    assert CliRunner().invoke(main, ["demo", "--out", str(out)]).exit_code == 0
+    r = CliRunner().invoke(main, ["reduce", str(out / "dissolution.toml"), "--json"])
+    assert r.exit_code == 0, r.output
+    d = json.loads(r.output)
+    for key in (
+        "delta_t_K",
+        "u_delta_t_K",
+        "event_start_s",
+        "after_start_s",
+        "method",
+        "heat_J",
+        "u_heat_J",
+        "enthalpy_kJ_per_mol",
+        "u_enthalpy_kJ_per_mol",
+    ):
+        assert key in d, key
+    text = CliRunner().invoke(main, ["reduce", str(out / "dissolution.toml")])
+    assert "Hess's law" in text.output and "kJ/mol" in text.output
+    bad = CliRunner().invoke(main, ["reduce", str(tmp_path / "missing.toml")])
+    assert bad.exit_code != 0 and "no such run file" in bad.output

@@ -5,7 +5,9 @@ from __future__ import annotations
 import click
 
 from heatlog.cli.output import emit, json_option
+from heatlog.gum import Budget
 from heatlog.reduce import METHODS, Reduction, reduce_thermogram
+from heatlog.runfile import RunResult, run_file
 from heatlog.thermogram import read_thermogram_csv
 
 CAUTION = (
@@ -38,6 +40,32 @@ def _text(red: Reduction) -> str:
     ]
     lines += [f"note: {n}" for n in red.notes]
     lines.append(CAUTION)
+    return "\n".join(lines)
+
+
+def _budget_line(label: str, b: Budget) -> str:
+    return f"{label} = {b.value:+.6g} {b.unit}, u = {b.u:.2g}, U(k={b.k:g}) = {b.expanded:.2g} {b.unit}"
+
+
+def _run_text(result: RunResult) -> str:
+    lines = [result.spec.title, _text(result.reduction)]
+    if result.c_cal is not None:
+        what = "calorimeter constant" if result.spec.electrical else "calorimeter constant used"
+        lines.append(_budget_line(what, result.c_cal))
+    if result.heat_J is not None:
+        lines.append(_budget_line("heat taken up by calorimeter + contents, q", result.heat_J))
+    if result.specific is not None:
+        lines.append(
+            _budget_line("ΔH per gram of sample (system; exothermic < 0)", result.specific)
+        )
+    if result.molar is not None:
+        lines += ["", result.molar.table()]
+    if result.hess is not None:
+        h = result.hess
+        lines.append(
+            f"Hess's law: predicted {h.predicted:+.3f} ± {h.u_predicted:.3f} kJ/mol; measured − "
+            f"predicted = {h.difference:+.3f} ± {h.u_difference:.3f} kJ/mol (z = {h.z:.1f}): {h.verdict}"
+        )
     return "\n".join(lines)
 
 
@@ -82,7 +110,19 @@ def reduce(
     resolution: float | None,
     as_json: bool,
 ) -> None:
-    """Corrected temperature change (with uncertainty) of one event in FILE (CSV)."""
+    """Corrected temperature change (with uncertainty) of one event in FILE.
+
+    FILE is a CSV log, or a TOML run file (see DEVELOPERS.md), which adds the calorimeter
+    constant, heat, enthalpy and the Hess's-law comparison its inputs allow; the run file's own
+    settings then replace the options here.
+    """
+    if file.lower().endswith(".toml"):
+        result = run_file(file)
+        payload = result.to_dict()
+        payload["file"] = file
+        payload["caution"] = CAUTION
+        emit(as_json, payload, lambda: _run_text(result))
+        return
     thermogram = read_thermogram_csv(file, time_col=time_col, temp_col=temp_col, iso_time=iso_time)
     red = reduce_thermogram(
         thermogram,
