@@ -5,6 +5,7 @@ import sys
 from . import logformat as lf
 from .adc_divider import AdcDivider
 from .ads1115 import Ads1115, Ads1115Ratio
+from .conversions import rtd_fault_codes
 from .max31865 import Max31865
 
 ADS_RATES_SPS = (8, 16, 32, 64, 128, 250, 475, 860)
@@ -67,6 +68,16 @@ def table(cfg):
     return out
 
 
+def rtd_thresholds(ch):
+    """(low, high) MAX31865 threshold codes for a max31865 channel: the probe's valid range
+    (fault_low_C / fault_high_C, default -200..850 degC, IEC 60751) clipped to R_ref's codes."""
+    m = ch["model"]
+    r0 = m["R0"] if m["type"] == "callendar_van_dusen" else 100.0
+    return rtd_fault_codes(
+        r0, ch["r_ref_ohm"], ch.get("fault_low_C", -200.0), ch.get("fault_high_C", 850.0)
+    )
+
+
 def build(cfg, machine):
     """Driver objects for cfg's channels; buses are shared between channels on the same id."""
     buses = {}
@@ -100,5 +111,9 @@ def build(cfg, machine):
                     sck=machine.Pin(b["sck"]), mosi=machine.Pin(b["mosi"]), miso=machine.Pin(b["miso"]),
                 )  # fmt: skip
             cs = machine.Pin(ch["cs"], machine.Pin.OUT, value=1)
-            out.append(Max31865(buses[key], cs, ch["wires"], ch.get("mains_hz", 50)))
+            low, high = rtd_thresholds(ch)
+            every = max(1, cfg.get("fault_check_s", 300) * 1000 // cfg["interval_ms"])
+            out.append(
+                Max31865(buses[key], cs, ch["wires"], ch.get("mains_hz", 50), high, low, every)
+            )
     return out

@@ -95,6 +95,13 @@ def _channel(errs, ch, i):
             errs.append(where + "r_ref_ohm must be a number in 10..10000")
         if ch.get("mains_hz", 50) not in (50, 60):
             errs.append(where + "mains_hz must be 50 or 60")
+        m = ch.get("model")
+        if isinstance(m, dict) and m.get("type") in MODELS and m["type"] != "callendar_van_dusen":
+            errs.append(where + "model.type must be callendar_van_dusen for a max31865 RTD")
+        lo = ch.get("fault_low_C", -200)
+        hi = ch.get("fault_high_C", 850)
+        if not (_is_num(lo) and _is_num(hi) and -250 <= lo < hi <= 1000):
+            errs.append(where + "fault_low_C < fault_high_C must be numbers in -250..1000 degC")
         _bus(errs, ch, "spi", ("id", "sck", "mosi", "miso"), where)
 
 
@@ -118,6 +125,7 @@ def validate(cfg):
         ("oversample", 1, 256),
         ("flush_ms", 100, 600000),
         ("watchdog_ms", 1000, 8000),
+        ("fault_check_s", 10, 86400),
     ):
         if key in cfg:
             _int_in(errs, cfg, key, lo, hi, "")

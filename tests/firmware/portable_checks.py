@@ -414,9 +414,9 @@ def check_drivers(vectors):
     rtd.fault = 0x04 | 0x08  # RTDIN- open
     m.read_raw(1)
     assert m.fault == max31865.FAULT_OPEN and m.fault_reg == 0x0C and rtd.regs[7] == 0  # cleared
-    rtd.fault = 0x40
+    rtd.fault = 0x40  # below the low threshold at a mid-scale code: out of range, not a short
     m.read_raw(1)
-    assert m.fault == max31865.FAULT_SHORT
+    assert m.fault == max31865.FAULT_RANGE
     rtd.fault = 0x80
     m.read_raw(1)
     assert m.fault == max31865.FAULT_RANGE
@@ -428,6 +428,59 @@ def check_drivers(vectors):
         raise AssertionError("accepted 5 wires")
     except ValueError:
         pass
+
+
+def check_max31865_fault_detection(vectors):
+    """Thresholds come from the probe's valid range; open, shorted and out-of-range RTDs are
+    flagged in the record's fault mask; the fault-detection cycle runs at the start, when a code
+    faults, and every fault_check_s."""
+    import machine
+    from heatlog_fw import channels, max31865
+    from heatlog_fw.sampler import Sampler
+
+    cfg = dict(EXAMPLE_CONFIG)
+    cfg["fault_check_s"] = 10  # interval 1000 ms: a cycle every 10 samples
+    ch = cfg["channels"][1]  # Pt100 on R_ref 430 ohm
+    low, high = channels.rtd_thresholds(ch)
+    # IEC 60751 table: R(-200 degC) = 18.52 ohm, R(850 degC) = 390.48 ohm; code = R*32768/R_ref
+    assert abs(low - 18.52 * 32768 / 430) <= 1 and abs(high - 390.48 * 32768 / 430) <= 1.5
+    hw = _FakeHw(machine)
+    drivers = channels.build(cfg, hw)
+    rtd, m = hw.rtd, drivers[1]
+    m.wait_ms = 0
+    assert (rtd.regs[3] << 8 | rtd.regs[4]) >> 1 == high
+    assert (rtd.regs[5] << 8 | rtd.regs[6]) >> 1 == low
+    assert m.cycle_every == 10 and rtd.cycles == 0
+    s = Sampler(drivers, 1000, 2)
+    s.start(0)
+    assert rtd.cycles == 1  # at run start
+
+    def fault_after_step(k):
+        s.step(k * 1000, None, False)
+        code = (s.fault_mask >> 2) & 3
+        assert bool(s.last_flags & lf.REC_PROBE_FAULT) == (s.fault_mask != 0)
+        return code
+
+    assert fault_after_step(0) == max31865.FAULT_NONE  # 119.3971 ohm: about 50 degC
+    rtd.resistance = None  # open element: code at full scale, D7, and D5 from the cycle
+    assert fault_after_step(1) == max31865.FAULT_OPEN and rtd.cycles == 2
+    rtd.resistance = 0.4  # shorted element (leads only): far below the low threshold
+    assert fault_after_step(2) == max31865.FAULT_SHORT
+    rtd.resistance = 400.0  # about 880 degC: past the probe's range, not an open circuit
+    assert fault_after_step(3) == max31865.FAULT_RANGE
+    rtd.resistance = 15.0  # below -200 degC
+    assert fault_after_step(4) == max31865.FAULT_RANGE
+    rtd.resistance = 119.3971
+    assert fault_after_step(5) == max31865.FAULT_NONE  # last cycle was clean again
+    cycles = rtd.cycles
+    rtd.cycle_fault = 0x10  # an open force lead that only the fault-detection cycle sees
+    k = 6
+    while fault_after_step(k) == max31865.FAULT_NONE:
+        assert rtd.cycles == cycles  # clean until the next periodic cycle
+        k += 1
+    assert rtd.cycles == cycles + 1 and k - 6 < 10  # the periodic cycle came within 10 samples
+    assert (s.fault_mask >> 2) & 3 == max31865.FAULT_OPEN
+    assert fault_after_step(k + 1) == max31865.FAULT_OPEN  # held until the next cycle
 
 
 EXAMPLE_CONFIG = {
@@ -869,6 +922,7 @@ def check_clock_survives_ticks_wrap(vectors):
 
 
 CHECKS = [
+    check_max31865_fault_detection,
     check_clock_survives_ticks_wrap,
     check_rtc_keeps_clock_through_reset,
     check_sampler_no_drift_across_wrap,
