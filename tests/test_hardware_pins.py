@@ -356,10 +356,11 @@ def test_hardware_pin_tables_agree_with_both_configs():
 
 @pytest.mark.parametrize("name", CONFIGS)
 def test_example_config_passes_firmware_validation(name):
-    """The firmware's own checks: config.parse at boot and the logger's conversion-time limit."""
+    """The firmware's own checks: config.parse at boot (pins on the config's board and the
+    conversion-time limit included)."""
     cfg, errs = fw_config.parse((REPO / name).read_text(encoding="utf-8"))
     assert errs == []
-    # logger.Logger._apply_config refuses a config whose conversions outlast min(interval, 4 s)
+    # config.validate refuses a config whose conversions outlast min(interval, 4 s)
     assert fw_channels.sample_time_ms(cfg) <= min(cfg["interval_ms"], 4000)
 
 

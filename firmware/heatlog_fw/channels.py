@@ -2,27 +2,15 @@
 
 import sys
 
+from . import config
 from . import logformat as lf
 from .adc_divider import AdcDivider
 from .ads1115 import Ads1115, Ads1115Ratio
 from .conversions import rtd_fault_codes
 from .max31865 import Max31865
 
-ADS_RATES_SPS = (8, 16, 32, 64, 128, 250, 475, 860)
-
-
-def sample_time_ms(cfg):
-    """Worst-case time to read every channel once (conversion waits only), in ms."""
-    n = cfg.get("oversample", 16)
-    t = 0
-    for ch in cfg["channels"]:
-        if ch["kind"] == "ads1115":
-            t += 2 * n * (1100 // ADS_RATES_SPS[ch["rate"]] + 2)
-        elif ch["kind"] == "max31865":
-            t += n * (66 if ch.get("mains_hz", 50) == 50 else 55)
-        else:
-            t += 1 + n // 8
-    return t
+ADS_RATES_SPS = config.ADS_RATES_SPS
+sample_time_ms = config.sample_time_ms  # kept here for callers of the earlier name
 
 
 def table(cfg):

@@ -1,10 +1,14 @@
 """Board configuration: a JSON file on the board, validated at boot and on every write.
 
-`validate(cfg)` returns a list of problems (empty when usable); nothing in a config is executed.
+`validate(cfg)` returns a list of every problem (empty when usable); nothing in a config is
+executed. It covers the structure, each pin's capability on the target chip (`pins`) and the
+conversion time (`timing_problems`), so a config that passes is one the board can run.
 See firmware/config.example.json.
 """
 
 import json
+
+from . import pins
 
 MAX_CONFIG_BYTES = 4096
 KINDS = ("adc_divider", "ads1115", "max31865")
@@ -13,6 +17,8 @@ MODELS = {
     "beta": ("R25", "beta"),
     "callendar_van_dusen": ("R0",),
 }
+ADS_RATES_SPS = (8, 16, 32, 64, 128, 250, 475, 860)
+MAX_SAMPLE_MS = 4000  # all conversions of one sample must fit in min(interval_ms, this)
 DEFAULTS = {"oversample": 16, "flush_ms": 5000, "watchdog_ms": 8000, "led_pin": None}
 
 
@@ -114,11 +120,93 @@ def _bus(errs, ch, key, fields, where):
         _int_in(errs, b, f, 0, 48, where + key + ".")
 
 
-def validate(cfg):
-    """Problems with a parsed config, each one line naming the key; [] if the config is usable."""
+def sample_time_ms(cfg):
+    """Worst-case time to read every channel once (conversion waits only), in ms."""
+    n = cfg.get("oversample", 16)
+    t = 0
+    for ch in cfg["channels"]:
+        if ch["kind"] == "ads1115":
+            t += 2 * n * (1100 // ADS_RATES_SPS[ch["rate"]] + 2)
+        elif ch["kind"] == "max31865":
+            t += n * (66 if ch.get("mains_hz", 50) == 50 else 55)
+        else:
+            t += 1 + n // 8
+    return t
+
+
+def timing_problems(cfg):
+    """[] if one sample's conversions fit in min(interval_ms, 4 s); cfg must be well formed."""
+    if sample_time_ms(cfg) > min(cfg["interval_ms"], MAX_SAMPLE_MS):
+        return [
+            "oversample x conversion time ("
+            + str(sample_time_ms(cfg))
+            + " ms) exceeds min(interval_ms, 4000 ms); lower oversample or raise interval_ms"
+        ]
+    return []
+
+
+def _pin_problems(errs, cfg, board):
+    """Each pin's capability on `board` and pins claimed for two different jobs."""
+    roles = {}
+
+    def claim(pin, role, where):
+        prev = roles.get(pin)
+        if prev is None:
+            roles[pin] = role
+        elif prev != role:
+            errs.append(where + ": GPIO " + str(pin) + " is already used as " + prev)
+
+    for i, ch in enumerate(cfg["channels"]):
+        if not isinstance(ch, dict):
+            continue
+        where = "channels[" + str(i) + "]."
+        kind = ch.get("kind")
+        if kind == "adc_divider":
+            for key in ("pin", "excitation_pin"):
+                p = ch.get(key)
+                if _is_int(p):
+                    if not pins.adc_ok(board, p):
+                        errs.append(
+                            where + key + ": GPIO " + str(p) + " is not an ADC input on "
+                            + board + " (" + pins.ADC_TEXT[board] + ")"
+                        )  # fmt: skip
+                    claim(p, where + key, where + key)
+            continue
+        bus = "i2c" if kind == "ads1115" else "spi"
+        b = ch.get(bus) if kind in ("ads1115", "max31865") else None
+        if isinstance(b, dict):
+            bid = b.get("id")
+            if _is_int(bid) and bid not in pins.bus_ids(board, bus):
+                ids = " and ".join(str(x) for x in pins.bus_ids(board, bus))
+                errs.append(where + bus + ".id: " + board + " " + bus.upper() + " ids are " + ids)
+            for f in ("sda", "scl") if bus == "i2c" else ("sck", "mosi", "miso"):
+                p = b.get(f)
+                if _is_int(p) and _is_int(bid):
+                    why = pins.bus_pin_problem(board, bus, bid, f, p)
+                    if why:
+                        errs.append(where + bus + "." + f + ": " + why)
+                    claim(p, bus + str(bid) + "." + f, where + bus + "." + f)
+        cs = ch.get("cs")
+        if kind == "max31865" and _is_int(cs):
+            if not pins.output_ok(board, cs):
+                errs.append(where + "cs: GPIO " + str(cs) + " cannot be an output on " + board)
+            claim(cs, where + "cs", where + "cs")
+    led = cfg.get("led_pin")
+    if _is_int(led):
+        if not pins.output_ok(board, led):
+            errs.append("led_pin: GPIO " + str(led) + " cannot be an output on " + board)
+        claim(led, "led_pin", "led_pin")
+
+
+def validate(cfg, port=None):
+    """Every problem with a parsed config, each one line naming the key; [] if it is usable.
+    port: "rp2"/"esp32" (default: this board's, from sys.platform; None off a board)."""
     errs = []
     if not isinstance(cfg, dict):
         return ["config must be a JSON object"]
+    board, problem = pins.board_for(cfg.get("board"), port or pins.port())
+    if problem:
+        errs.append(problem)
     _text(errs, cfg, "board_id", "")
     _int_in(errs, cfg, "interval_ms", 100, 3600000, "")
     for key, lo, hi in (
@@ -138,12 +226,14 @@ def validate(cfg):
     else:
         for i, ch in enumerate(chans):
             _channel(errs, ch, i)
-    if cfg.get("flush_ms", 5000) < cfg.get("interval_ms", 0) and not errs:
-        pass  # a flush at every record: allowed, just more flash wear
+        if board is not None:
+            _pin_problems(errs, cfg, board)
+    if not errs:  # the timing needs well-formed numbers
+        errs += timing_problems(cfg)
     return errs
 
 
-def parse(text):
+def parse(text, port=None):
     """(config dict with defaults, []) or (None, problems) for JSON text from the file or host."""
     if len(text) > MAX_CONFIG_BYTES:
         return None, ["config longer than " + str(MAX_CONFIG_BYTES) + " bytes"]
@@ -151,7 +241,7 @@ def parse(text):
         cfg = json.loads(text)
     except ValueError:
         return None, ["config is not valid JSON"]
-    errs = validate(cfg)
+    errs = validate(cfg, port)
     if errs:
         return None, errs
     for k, v in DEFAULTS.items():

@@ -6,7 +6,7 @@ from pathlib import Path
 
 import pytest
 from heatlog_fw import channels, config
-from hypothesis import given
+from hypothesis import example, given
 from hypothesis import strategies as st
 
 EXAMPLE = Path(__file__).resolve().parents[2] / "firmware" / "config.example.json"
@@ -92,6 +92,7 @@ json_values = st.recursive(
 
 
 @given(json_values)
+@example({"flush_ms": None})  # once raised TypeError (a leftover flush_ms < interval_ms compare)
 def test_validate_never_raises_on_any_json(value):
     errs = config.validate(value)
     assert isinstance(errs, list)
@@ -106,3 +107,108 @@ def test_replacing_a_nested_part_never_raises(key, value):
     if key == "channels":
         cfg["channels"] = value
     config.validate(cfg)
+
+
+# --- checks that used to wait for boot, and pin capability per port -----------------------------
+
+ESP32_EXAMPLE = EXAMPLE.parent / "config.esp32.example.json"
+
+
+def test_conversion_time_is_refused_by_validation_not_only_at_boot():
+    """Before: a config passed validate() and was then refused by the logger at boot."""
+    cfg = _example()
+    cfg["oversample"] = 64  # 64 x 66 ms for the MAX31865 alone: 4.2 s > 1 s interval
+    errs = config.validate(cfg)
+    assert any("exceeds min(interval_ms, 4000 ms)" in e for e in errs), errs
+    assert config.timing_problems(cfg) == [e for e in errs if "exceeds" in e]
+    cfg["interval_ms"] = 60000  # still over the 4 s cap on one sample
+    assert any("exceeds" in e for e in config.validate(cfg))
+    cfg["oversample"] = 4
+    assert config.validate(cfg) == []
+
+
+def test_logger_refuses_the_same_config_with_the_same_words(tmp_path):
+    import machine
+    from fakefs import FakeFs
+    from heatlog_fw.logger import Logger
+
+    cfg = _example()
+    cfg["oversample"] = 64
+    fs = FakeFs()
+    fs.mkdir("/logs")
+    with fs.open("/logs/config.json", "w") as f:
+        f.write(json.dumps(cfg))
+    lg = Logger(fs, "/logs", machine, lambda d: None)
+    assert lg.cfg is None and lg.config_errors == config.validate(cfg)
+
+
+@pytest.mark.parametrize(
+    ("board", "path", "value", "message"),
+    [
+        ("rp2040", ("channels", 0, "pin"), 22, "channels[0].pin: GPIO 22 is not an ADC input on rp2040 (GPIO 26-29)"),
+        ("rp2350b", ("channels", 0, "pin"), 26, "is not an ADC input on rp2350b (GPIO 40-47)"),
+        ("rp2040", ("channels", 1, "i2c", "sda"), 6, "channels[1].i2c.sda: GPIO 6 is not I2C0 SDA"),
+        ("rp2040", ("channels", 1, "i2c", "scl"), 4, "channels[1].i2c.scl: GPIO 4 is not I2C0 SCL"),
+        ("rp2040", ("channels", 2, "spi", "sck"), 19, "channels[2].spi.sck: GPIO 19 is not SPI0 SCK"),
+        ("rp2040", ("channels", 2, "spi", "miso"), 30, "GPIO 30 is not a free GPIO on rp2040"),
+        ("rp2040", ("channels", 2, "spi", "id"), 2, "channels[2].spi.id: rp2040 SPI ids are 0 and 1"),
+        ("rp2040", ("channels", 2, "cs"), 26, "channels[2].cs: GPIO 26 is already used as channels[0].pin"),
+        ("rp2040", ("led_pin",), 4, "led_pin: GPIO 4 is already used as i2c0.sda"),
+    ],
+)  # fmt: skip
+def test_rp2_pins_are_checked(board, path, value, message):
+    cfg = _set(path, value)
+    cfg["board"] = board
+    errs = config.validate(cfg, port="rp2")
+    assert any(message in e for e in errs), errs
+
+
+def test_rp2350b_moves_the_adc_and_extends_the_gpios():
+    cfg = _example()
+    cfg["board"] = "rp2350b"
+    cfg["channels"][0]["pin"] = 40
+    cfg["channels"][2]["spi"].update({"id": 1, "sck": 42, "mosi": 43, "miso": 44})  # SPI1
+    cfg["channels"][2]["cs"] = 45
+    assert config.validate(cfg, port="rp2") == []
+
+
+def _esp32():
+    return json.loads(ESP32_EXAMPLE.read_text())
+
+
+def test_esp32_pins_are_checked_and_every_problem_is_listed_at_once():
+    cfg = _esp32()
+    assert config.validate(cfg, port="esp32") == []
+    cfg["channels"][0]["pin"] = 25  # ADC2
+    cfg["channels"][1]["i2c"]["sda"] = 7  # flash pin
+    cfg["channels"][2]["cs"] = 36  # input only
+    cfg["channels"][2]["spi"]["id"] = 0
+    cfg["channels"][2]["spi"]["mosi"] = 39  # input only
+    cfg["interval_ms"] = 50  # a structural error too
+    errs = config.validate(cfg, port="esp32")
+    for want in (
+        "channels[0].pin: GPIO 25 is not an ADC input on esp32 (ADC1, GPIO 32-39)",
+        "channels[1].i2c.sda: GPIO 7 is not a free GPIO on esp32",
+        "channels[2].cs: GPIO 36 cannot be an output on esp32",
+        "channels[2].spi.id: esp32 SPI ids are 1 and 2",
+        "channels[2].spi.mosi: GPIO 39 is input-only on esp32",
+        "interval_ms must be an integer in 100..3600000",
+    ):
+        assert want in errs, (want, errs)
+    assert config.parse(json.dumps(cfg), port="esp32") == (None, errs)
+
+
+def test_board_must_match_the_port_and_is_optional_off_a_board():
+    cfg = _example()  # board rp2040
+    assert "board rp2040 does not match this esp32 firmware" in config.validate(cfg, port="esp32")
+    cfg["board"] = "pico9"
+    assert any("board must be one of" in e for e in config.validate(cfg, port="rp2"))
+    del cfg["board"]
+    cfg["channels"][0]["pin"] = 22
+    assert config.validate(cfg) == []  # off a board, no board named: pins are not checked
+    assert any("not an ADC input on rp2040" in e for e in config.validate(cfg, port="rp2"))
+
+
+def test_the_shipped_examples_pass_on_their_own_port():
+    assert config.validate(_example(), port="rp2") == []
+    assert config.validate(_esp32(), port="esp32") == []
