@@ -4,7 +4,7 @@ import sys
 
 from . import config
 from . import logformat as lf
-from .adc_divider import AdcDivider
+from .adc_divider import AdcDivider, AdcDividerUv
 from .ads1115 import Ads1115, Ads1115Ratio
 from .conversions import rtd_fault_codes
 from .max31865 import Max31865
@@ -20,12 +20,16 @@ def table(cfg):
         kind = ch["kind"]
         high = 1 if ch.get("ntc_side", "low") == "high" else 0
         if kind == "adc_divider":
+            mode, exc = high, 0
+            if "excitation_pin" in ch:  # ESP32: Q15 ratio of read_uv() readings
+                mode |= lf.MODE_UV_RATIO | ((ch.get("excitation_divider", 1) - 1) << 2)
+                exc = ch["excitation_pin"]
             out.append(
                 (
                     lf.KIND_ADC_DIVIDER,
-                    high,
+                    mode,
                     ch["pin"],
-                    0,
+                    exc,
                     int(ch["r_fixed_ohm"] * 1000),
                     ch["probe_id"],
                 )
@@ -76,11 +80,16 @@ def build(cfg, machine):
             dnl = None
             if ch.get("dnl"):
                 dnl = {int(k): int(v) for k, v in ch["dnl"].items()}
-            if sys.platform == "esp32":  # ADC1 pins only; always set the attenuation
+            low = ch.get("ntc_side", "low") == "low"
+            if "excitation_pin" in ch:  # ESP32 (config.validate): ADC1 pins, 11 dB, read_uv()
                 adc = machine.ADC(machine.Pin(ch["pin"]), atten=machine.ADC.ATTN_11DB)
-            else:  # rp2: building from a Pin also turns the pad analog
+                exc = machine.ADC(machine.Pin(ch["excitation_pin"]), atten=machine.ADC.ATTN_11DB)
+                out.append(AdcDividerUv(adc, exc, ch.get("excitation_divider", 1), low))
+            elif sys.platform == "esp32":  # not reached with a validated config
+                raise ValueError("an ESP32 adc_divider needs an excitation_pin")
+            else:  # rp2: ratiometric; building from a Pin also turns the pad analog
                 adc = machine.ADC(machine.Pin(ch["pin"]))
-            out.append(AdcDivider(adc, dnl, ch.get("ntc_side", "low") == "low"))
+                out.append(AdcDivider(adc, dnl, low))
         elif kind == "ads1115":
             b = ch["i2c"]
             key = ("i2c", b["id"])

@@ -74,6 +74,10 @@ def _channel(errs, ch, i):
     _model(errs, ch, where)
     if kind == "adc_divider":
         _int_in(errs, ch, "pin", 0, 48, where)
+        if "excitation_pin" in ch:
+            _int_in(errs, ch, "excitation_pin", 0, 48, where)
+        if "excitation_divider" in ch:
+            _int_in(errs, ch, "excitation_divider", 1, 4, where)
         _int_in(errs, ch, "r_fixed_ohm", 1, 4000000, where)
         if ch.get("ntc_side", "low") not in ("low", "high"):
             errs.append(where + "ntc_side must be low or high")
@@ -162,6 +166,13 @@ def _pin_problems(errs, cfg, board):
         where = "channels[" + str(i) + "]."
         kind = ch.get("kind")
         if kind == "adc_divider":
+            if board == "esp32" and "excitation_pin" not in ch:
+                errs.append(
+                    where + "excitation_pin is needed on esp32: its ADC is not ratiometric, so "
+                    "the divider's excitation is read too (an ADC1 pin)"
+                )
+            elif board != "esp32" and "excitation_pin" in ch:
+                errs.append(where + "excitation_pin is for esp32; the rp2 ADC is ratiometric")
             for key in ("pin", "excitation_pin"):
                 p = ch.get(key)
                 if _is_int(p):

@@ -19,6 +19,10 @@ CHANNELS = [
     (lf.KIND_ADC_DIVIDER, 0, 26, 0, 10000000, "NTC-A1"),
     (lf.KIND_MAX31865, 4, 17, 0, 430000, "PT100-B7"),
 ]
+# the vector run adds an ESP32 divider: Q15 of read_uv() readings, 1:2 excitation tap on GPIO 35
+VECTOR_CHANNELS = CHANNELS + [
+    (lf.KIND_ADC_DIVIDER, lf.MODE_UV_RATIO | (1 << 2), 34, 35, 22000000, "NTC-E1")
+]
 ANCHOR_MS = 1780000000000  # invented data: 2026-05-27T...Z as the host-set clock
 
 
@@ -89,11 +93,15 @@ def _raw(i):
     return [1000 * 4 + i * 7, 7620 * 4 - i * 3]
 
 
+def _vraw(i):
+    return _raw(i) + [10922 + 5 * i]
+
+
 def build_vector_log():
     """The run in tests/vectors/run_log.bin (invented data). Returns (file bytes, facts)."""
     fs = FakeFs(total=1 << 20)
     st = _store(fs)
-    run = st.start("board-7", "0.1.0", 1000, 4, CHANNELS, ANCHOR_MS, 0)
+    run = st.start("board-7", "0.1.0", 1000, 4, VECTOR_CHANNELS, ANCHOR_MS, 0)
     facts = {"records": [], "segments": []}
     seq = 0
     for i in range(6):
@@ -102,19 +110,19 @@ def build_vector_log():
         if fault:
             flags |= lf.REC_PROBE_FAULT
         off = i * 1000 + (2000 if i >= 3 else 0) + (i % 2)
-        st.add(seq, off, flags, fault, _raw(i), off)
-        facts["records"].append([seq, off, flags, fault, _raw(i)])
+        st.add(seq, off, flags, fault, _vraw(i), off)
+        facts["records"].append([seq, off, flags, fault, _vraw(i)])
         seq += 1
     st.clock_set(ANCHOR_MS + 1500, seq, 7500, 7500)  # host clock set: 1.5 s later than ours
     facts["segments"].append({"cause": lf.SEG_CLOCK_SET | lf.SEG_CLOCK_VALID, "first_record": 6})
     for i in range(6, 9):
         off = i * 1000 + 2000
-        st.add(seq, off, 0, 0, _raw(i), off)
-        facts["records"].append([seq, off, 0, 0, _raw(i)])
+        st.add(seq, off, 0, 0, _vraw(i), off)
+        facts["records"].append([seq, off, 0, 0, _vraw(i)])
         seq += 1
     st.flush(11000)
     # a torn record on a FAT-like medium: 7 bytes of an unflushed record reach the medium
-    st.add(seq, 12000, 0, 0, _raw(9), 11001)
+    st.add(seq, 12000, 0, 0, _vraw(9), 11001)
     fs.budget = 7  # the power fails 7 bytes into writing the next batch
     try:
         st.flush(11002)
@@ -130,8 +138,8 @@ def build_vector_log():
     )
     for i in range(2):
         off = res[2] + i * 1000
-        st2.add(seq, off, lf.REC_SEGMENT_START if i == 0 else 0, 0, _raw(10 + i), i * 1000)
-        facts["records"].append([seq, off, lf.REC_SEGMENT_START if i == 0 else 0, 0, _raw(10 + i)])
+        st2.add(seq, off, lf.REC_SEGMENT_START if i == 0 else 0, 0, _vraw(10 + i), i * 1000)
+        facts["records"].append([seq, off, lf.REC_SEGMENT_START if i == 0 else 0, 0, _vraw(10 + i)])
         seq += 1
     st2.stop(5000)
     with fs2.open(ROOT + "/" + run_name(run), "rb") as f:
@@ -376,6 +384,36 @@ def check_drivers(vectors):
     adc.codes = [512]
     ch2 = adc_divider.AdcDivider(adc, dnl={512: 511})
     assert ch2.read_raw(3) == 3 * 511
+
+    # ESP32: midpoint and excitation in calibrated microvolts, stored as Q15 of V_mid / V_top
+    assert adc_divider.q15(1, 3) == 10922 and adc_divider.q15(5, 5) == 32768  # floor(32768/3)
+    assert adc_divider.q15(0, 7) == 0 and adc_divider.q15(2**28, 2**29 - 1) == 16384
+    mid = machine.ADC(machine.Pin(34), atten=machine.ADC.ATTN_11DB)
+    top = machine.ADC(machine.Pin(35), atten=machine.ADC.ATTN_11DB)
+    uv = adc_divider.AdcDividerUv(mid, top, k=2)
+    mid.uv = [1100000]
+    top.uv = [1650000]  # a 1:2 divider on the 3.3 V top: ratio 1.1 / 3.3 = 1/3
+    assert uv.read_raw(16) == 10922 and uv.fault == 0
+    mid.uv = [999000, 1001000]  # noise averages out in the sums
+    assert uv.read_raw(2) == 9929 and uv.fault == 0  # 2.0 V / (2 x 3.3 V) x 32768 = 9929.7
+    mid.uv = [5000]
+    uv.read_raw(4)
+    assert uv.fault == adc_divider.FAULT_SHORT  # midpoint at ground: NTC (low side) shorted
+    mid.uv = [3100000]  # 3.3 V top: the midpoint of an open NTC saturates the ADC
+    uv.read_raw(4)
+    assert uv.fault == adc_divider.FAULT_RANGE
+    top.uv = [2000000]  # a divider fed from a 2.0 V reference, read directly (k = 1)
+    uv1 = adc_divider.AdcDividerUv(mid, top, k=1)
+    mid.uv = [1995000]
+    uv1.read_raw(4)
+    assert uv1.fault == adc_divider.FAULT_OPEN  # midpoint at the top: NTC open
+    top.uv = [1650000]
+    mid.uv = [120000]  # 3.6 % of the top, but below the ADC's linear range
+    uv.read_raw(4)
+    assert uv.fault == adc_divider.FAULT_RANGE
+    mid.uv = [1100000]
+    top.uv = [0]  # excitation lead off
+    assert uv.read_raw(4) == 0 and uv.fault == adc_divider.FAULT_RANGE
 
     i2c = machine.I2C(0)
     dev = machine.FakeAds1115()
@@ -705,6 +743,9 @@ class _QuietAdc:
     def read_u16(self):
         return 0x8008
 
+    def read_uv(self):
+        return 1650000
+
 
 class _QuietSpi:
     """Allocation-free SPI answering like a MAX31865 at code 7620 with no fault."""
@@ -728,7 +769,7 @@ def check_sampler_allocates_nothing(vectors):
     """Under MicroPython: no heap allocation per sample (CPython has no gc.mem_alloc: skip)."""
     import gc
 
-    from heatlog_fw.adc_divider import AdcDivider
+    from heatlog_fw.adc_divider import AdcDivider, AdcDividerUv
     from heatlog_fw.max31865 import Max31865
     from heatlog_fw.sampler import Sampler
 
@@ -736,10 +777,11 @@ def check_sampler_allocates_nothing(vectors):
         return
     fs = FakeFs()
     store = LogStore(ROOT, fs, batch_records=400, flush_ms=10**8, space_ms=10**8)
-    store.start("b", "0.1.0", 1000, 4, CHANNELS, 0, 0)
+    store.start("b", "0.1.0", 1000, 4, VECTOR_CHANNELS, 0, 0)
     rtd = Max31865(_QuietSpi(), _quiet_pin)
     rtd.wait_ms = 0
-    s = Sampler([AdcDivider(_QuietAdc()), rtd], 1000, 4)
+    esp = AdcDividerUv(_QuietAdc(), _QuietAdc(), 2)
+    s = Sampler([AdcDivider(_QuietAdc()), rtd, esp], 1000, 4)
     s.start(0)
     s.step(0, store, False)
     gc.collect()

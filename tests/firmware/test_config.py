@@ -212,3 +212,46 @@ def test_board_must_match_the_port_and_is_optional_off_a_board():
 def test_the_shipped_examples_pass_on_their_own_port():
     assert config.validate(_example(), port="rp2") == []
     assert config.validate(_esp32(), port="esp32") == []
+
+
+def test_esp32_divider_needs_an_adc1_excitation_pin_and_rp2_refuses_one():
+    cfg = _esp32()
+    del cfg["channels"][0]["excitation_pin"]
+    errs = config.validate(cfg, port="esp32")
+    assert any("channels[0].excitation_pin is needed on esp32" in e for e in errs), errs
+    cfg["channels"][0]["excitation_pin"] = 25  # ADC2
+    assert (
+        "channels[0].excitation_pin: GPIO 25 is not an ADC input on esp32 (ADC1, GPIO 32-39)"
+        in (config.validate(cfg, port="esp32"))
+    )
+    cfg["channels"][0]["excitation_pin"] = 34  # the midpoint's own pin
+    assert any("already used as channels[0].pin" in e for e in config.validate(cfg, port="esp32"))
+    cfg["channels"][0]["excitation_divider"] = 5
+    assert any("excitation_divider must be an integer in 1..4" in e for e in config.validate(cfg))
+    rp = _example()
+    rp["channels"][0]["excitation_pin"] = 27
+    assert any("excitation_pin is for esp32" in e for e in config.validate(rp, port="rp2"))
+
+
+def test_channel_table_records_the_esp32_microvolt_ratio_mode():
+    from heatlog_fw import logformat as lf
+
+    cfg = config.parse(ESP32_EXAMPLE.read_text(), port="esp32")[0]
+    kind, mode, source, gain, ref, pid = channels.table(cfg)[0]
+    assert (kind, source, gain, ref, pid) == (lf.KIND_ADC_DIVIDER, 34, 35, 22000000, "NTC-E1")
+    assert mode == lf.MODE_UV_RATIO | (2 - 1) << 2  # low side, Q15 of read_uv, k = 2
+    assert channels.table(_example())[0][1] == 0  # rp2: a sum of codes, low side
+
+
+def test_esp32_build_reads_microvolts_and_stores_q15():
+    import machine
+    from heatlog_fw.adc_divider import AdcDividerUv
+
+    cfg = config.parse(ESP32_EXAMPLE.read_text(), port="esp32")[0]
+    cfg["channels"] = cfg["channels"][:1]
+    (drv,) = channels.build(cfg, machine)
+    assert isinstance(drv, AdcDividerUv) and drv.k == 2
+    assert drv.adc.atten == machine.ADC.ATTN_11DB and drv.exc.atten == machine.ADC.ATTN_11DB
+    drv.adc.uv = [1100000]
+    drv.exc.uv = [1650000]
+    assert drv.read_raw(16) == 32768 // 3 and drv.fault == 0  # 1.1 V of a 3.3 V top

@@ -54,8 +54,16 @@ class ADC:
 
     def __init__(self, pin, atten=None):
         self.pin = pin
+        self.atten = atten
         self.codes = [2048]  # 12-bit codes returned in turn (read_u16 stretches them)
         self.i = 0
+        self.uv = [1650000]  # calibrated microvolts returned in turn by read_uv (ESP32)
+        self.j = 0
+
+    def read_uv(self):
+        v = self.uv[self.j % len(self.uv)]
+        self.j += 1
+        return v
 
     def read_u16(self):
         c = self.codes[self.i % len(self.codes)]
