@@ -100,6 +100,19 @@ class Channel:
         """Divider channels: which side of the divider the thermistor sits on."""
         return "high" if self.mode & MODE_NTC_HIGH else "low"
 
+    def chain_spec(self, oversample: int, lead_ohm: float = 0.0) -> str:
+        """The reading-chain spec (``heatlog.probes.chain_from_spec``) that turns this channel's
+        logged raw values into probe resistance; oversample is the header's. lead_ohm: loop
+        resistance of a 2-wire RTD's leads (the log does not know it)."""
+        ref = f"{self.ref_ohm:g}"
+        if self.kind_code == 3:
+            return f"max31865:rref={ref},lead={lead_ohm:g},n={oversample}"
+        if self.kind_code not in (1, 2):
+            raise LogCorrupt(f"channel kind {self.kind_code} has no reading chain; update heatlog")
+        if self.q15_ratio:
+            return f"ratio:rs={ref},side={self.ntc_side}"
+        return f"divider:rs={ref},side={self.ntc_side},bits=12,oversample={oversample}"
+
     @property
     def full_scale(self) -> int:
         """Raw value that means ratio 1 for one reading (multiply by oversample for sums)."""
