@@ -110,7 +110,10 @@ def build(cfg, machine):
             cs = machine.Pin(ch["cs"], machine.Pin.OUT, value=1)
             low, high = rtd_thresholds(ch)
             every = max(1, cfg.get("fault_check_s", 300) * 1000 // cfg["interval_ms"])
+            settle = config.bias_settle_ms(ch)
             out.append(
-                Max31865(buses[key], cs, ch["wires"], ch.get("mains_hz", 50), high, low, every)
+                Max31865(
+                    buses[key], cs, ch["wires"], ch.get("mains_hz", 50), high, low, every, settle
+                )
             )
     return out

@@ -112,6 +112,10 @@ def _channel(errs, ch, i):
         hi = ch.get("fault_high_C", 850)
         if not (_is_num(lo) and _is_num(hi) and -250 <= lo < hi <= 1000):
             errs.append(where + "fault_low_C < fault_high_C must be numbers in -250..1000 degC")
+        if ch.get("bias", "always") not in ("always", "conversion"):
+            errs.append(where + "bias must be always or conversion")
+        if "bias_settle_ms" in ch:
+            _int_in(errs, ch, "bias_settle_ms", 1, 100, where)
         _bus(errs, ch, "spi", ("id", "sck", "mosi", "miso"), where)
 
 
@@ -132,21 +136,36 @@ def sample_time_ms(cfg):
         if ch["kind"] == "ads1115":
             t += 2 * n * (1100 // ADS_RATES_SPS[ch["rate"]] + 2)
         elif ch["kind"] == "max31865":
-            t += n * (66 if ch.get("mains_hz", 50) == 50 else 55)
+            t += n * ((66 if ch.get("mains_hz", 50) == 50 else 55) + (bias_settle_ms(ch) or 0))
         else:
             t += 1 + n // 8
     return t
 
 
+def bias_settle_ms(ch):
+    """MAX31865 channel: ms the bias settles before each conversion, or None if always on."""
+    if ch.get("bias", "always") == "conversion":
+        return ch.get("bias_settle_ms", 10)
+    return None
+
+
 def timing_problems(cfg):
-    """[] if one sample's conversions fit in min(interval_ms, 4 s); cfg must be well formed."""
-    if sample_time_ms(cfg) > min(cfg["interval_ms"], MAX_SAMPLE_MS):
-        return [
-            "oversample x conversion time ("
-            + str(sample_time_ms(cfg))
-            + " ms) exceeds min(interval_ms, 4000 ms); lower oversample or raise interval_ms"
-        ]
-    return []
+    """[] if one sample's conversions fit in min(interval_ms, 4 s) and leave the watchdog a
+    second to spare (a flash flush can take ~0.4 s); cfg must be well formed."""
+    t = sample_time_ms(cfg)
+    out = []
+    if t > min(cfg["interval_ms"], MAX_SAMPLE_MS):
+        out.append(
+            "oversample x conversion time (" + str(t) + " ms) exceeds min(interval_ms, 4000 ms);"
+            " lower oversample or raise interval_ms"
+        )
+    wd = cfg.get("watchdog_ms", DEFAULTS["watchdog_ms"])
+    if t + 1000 > wd:
+        out.append(
+            "watchdog_ms " + str(wd) + " is shorter than one sample (" + str(t) + " ms) + 1000 ms;"
+            " raise watchdog_ms or lower oversample"
+        )
+    return out
 
 
 def _pin_problems(errs, cfg, board):
@@ -223,7 +242,7 @@ def validate(cfg, port=None):
     for key, lo, hi in (
         ("oversample", 1, 256),
         ("flush_ms", 100, 600000),
-        ("watchdog_ms", 1000, 8000),
+        ("watchdog_ms", 1000, pins.watchdog_max_ms(board)),
         ("fault_check_s", 10, 86400),
     ):
         if key in cfg:

@@ -1,6 +1,10 @@
 """MAX31865 RTD-to-digital converter on SPI (mode 1 or 3, <= 5 MHz, manual chip select).
 
-One-shot conversions with the bias kept on; the fault register is decoded into probe-fault
+One-shot conversions, with the bias kept on (default) or, with `bias_settle_ms`, switched on only
+for each conversion and fault cycle (less self-heating of the RTD and the reference): the bias
+is turned on, left to settle for bias_settle_ms (MAX31865 datasheet, from memory: VBIAS on for
+at least 10.5 time constants of the input RC filter, plus about 1 ms, before a one-shot), then
+the conversion starts and the bias goes off again; the fault register is decoded into probe-fault
 codes and the RTD high/low thresholds are programmed so D7/D6 can fire (channels.build derives
 them from the probe's valid range, conversions.rtd_fault_codes).
 
@@ -61,14 +65,25 @@ def fault_kind(reg, code=-1, low_code=0):
 
 
 class Max31865:
-    def __init__(self, spi, cs, wires=4, mains_hz=50, high_code=0x7FFF, low_code=0, cycle_every=0):
+    def __init__(
+        self,
+        spi,
+        cs,
+        wires=4,
+        mains_hz=50,
+        high_code=0x7FFF,
+        low_code=0,
+        cycle_every=0,
+        bias_settle_ms=None,
+    ):
         if wires not in (2, 3, 4):
             raise ValueError("wires must be 2, 3 or 4")
         self.spi = spi
         self.cs = cs
-        self.base = (
-            _VBIAS | (_THREE_WIRE if wires == 3 else 0) | (_FILTER_50HZ if mains_hz == 50 else 0)
-        )
+        self.settle_ms = bias_settle_ms  # None: bias always on
+        self.base = (_THREE_WIRE if wires == 3 else 0) | (_FILTER_50HZ if mains_hz == 50 else 0)
+        if bias_settle_ms is None:
+            self.base |= _VBIAS
         self.wait_ms = 66 if mains_hz == 50 else 55  # one-shot: 62.5 ms (50 Hz) / 52 ms (60 Hz)
         self._w = bytearray(2)
         self._r = bytearray(3)
@@ -116,17 +131,23 @@ class Max31865:
         the config register, the cycle takes about 0.6 ms, done when D3:D2 read 00); keeps and
         returns the fault register's D5..D2."""
         self.clear_fault()
-        self._write(_REG_CONFIG, self.base | _FAULT_AUTO)
+        self._bias_on()
+        self._write(_REG_CONFIG, self.base | _VBIAS | _FAULT_AUTO)
         for _ in range(10):
             sleep_ms(1)
             if not self._read(_REG_CONFIG, 1)[1] & _FAULT_CYCLE:
                 break
         reg = self._read(_REG_FAULT, 1)[1] & _CYCLE_BITS
-        self.clear_fault()
+        self.clear_fault()  # writes the base config: the bias goes off again if switched
         self.cycle_reg = reg
         self.cycles += 1
         self._since = 0
         return reg
+
+    def _bias_on(self):
+        if self.settle_ms is not None:
+            self._write(_REG_CONFIG, self.base | _VBIAS)
+            sleep_ms(self.settle_ms)
 
     def run_start(self):
         """At the start of a run or live stream: one fault-detection cycle."""
@@ -134,8 +155,11 @@ class Max31865:
 
     def read_code(self):
         """One one-shot conversion: 15-bit code; bit 0 of the LSB flags a fault."""
-        self._write(_REG_CONFIG, self.base | _ONE_SHOT)
+        self._bias_on()
+        self._write(_REG_CONFIG, self.base | _VBIAS | _ONE_SHOT)
         sleep_ms(self.wait_ms)
+        if self.settle_ms is not None:
+            self._write(_REG_CONFIG, self.base)  # conversion done: bias off
         r = self._read(_REG_RTD, 2)
         code = ((r[1] << 8) | r[2]) >> 1
         if r[2] & 1:

@@ -26,6 +26,12 @@ ADC_TEXT = {
     "rp2350b": "GPIO 40-47",
     "esp32": "ADC1, GPIO 32-39",
 }
+# Longest watchdog timeout, ms. RP2040 8388 (MicroPython machine.WDT docs); RP2350 16777
+# (project firmware notes, checked there against MicroPython's rp2 source). ESP32: the ESP-IDF
+# task watchdog has no small hardware cap (MicroPython ports/esp32/machine_wdt.c); older ports
+# round the timeout down to whole seconds. 60 s is our own ceiling (common practice, no
+# source). Off a board, with no board named, the smallest (RP2040) applies.
+WATCHDOG_MAX_MS = {"rp2040": 8388, "rp2350": 16777, "rp2350b": 16777, "esp32": 60000}
 _SPI_SLOT = {"miso": 0, "cs": 1, "sck": 2, "mosi": 3}  # rp2: n % 4
 _ESP32_GPIOS = tuple(range(0, 20)) + (21, 22, 23, 25, 26, 27) + tuple(range(32, 40))
 
@@ -45,6 +51,10 @@ def board_for(cfg_board, this_port):
     if this_port is not None and BOARDS[cfg_board] != this_port:
         return None, "board " + cfg_board + " does not match this " + this_port + " firmware"
     return cfg_board, None
+
+
+def watchdog_max_ms(board):
+    return WATCHDOG_MAX_MS.get(board, 8388)
 
 
 def gpio_ok(board, pin):

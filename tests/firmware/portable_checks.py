@@ -521,6 +521,39 @@ def check_max31865_fault_detection(vectors):
     assert fault_after_step(k + 1) == max31865.FAULT_OPEN  # held until the next cycle
 
 
+def check_max31865_bias_only_during_conversion(vectors):
+    """bias "conversion": VBIAS goes on, settles, the one-shot starts with it on, then it goes
+    off; with the default the bias stays on and every one-shot finds it already on."""
+    import machine
+    from heatlog_fw import channels
+
+    cfg = dict(EXAMPLE_CONFIG)
+    ch = dict(cfg["channels"][1])
+    ch["bias"] = "conversion"
+    ch["bias_settle_ms"] = 1
+    cfg["channels"] = [ch]
+    hw = _FakeHw(machine)
+    (m,) = channels.build(cfg, hw)
+    m.wait_ms = 0
+    rtd = hw.rtd
+    assert not rtd.regs[0] & 0x80  # idle: bias off
+    rtd.config_writes = []
+    assert m.read_raw(2) == 2 * int(119.3971 * 32768 / 430.0) and m.fault == 0
+    w = rtd.config_writes
+    assert [x & 0xA0 for x in w] == [0x80, 0xA0, 0x00] * 2, w  # on, on + one-shot, off
+    assert rtd.unsettled == 0 and not rtd.regs[0] & 0x80
+    rtd.config_writes = []
+    m.fault_cycle()
+    assert [x & 0x8C for x in rtd.config_writes][-3:] == [0x80, 0x84, 0x00]  # cycle with bias
+    always = dict(EXAMPLE_CONFIG)  # default: bias always on
+    hw2 = _FakeHw(machine)
+    (m2,) = channels.build(always, hw2)[1:]
+    m2.wait_ms = 0
+    m2.read_raw(2)
+    assert hw2.rtd.regs[0] & 0x80 and hw2.rtd.unsettled == 0
+    assert all(x & 0x80 for x in hw2.rtd.config_writes)
+
+
 EXAMPLE_CONFIG = {
     "board_id": "bench-1",
     "interval_ms": 1000,
@@ -964,6 +997,7 @@ def check_clock_survives_ticks_wrap(vectors):
 
 
 CHECKS = [
+    check_max31865_bias_only_during_conversion,
     check_max31865_fault_detection,
     check_clock_survives_ticks_wrap,
     check_rtc_keeps_clock_through_reset,

@@ -255,3 +255,57 @@ def test_esp32_build_reads_microvolts_and_stores_q15():
     drv.adc.uv = [1100000]
     drv.exc.uv = [1650000]
     assert drv.read_raw(16) == 32768 // 3 and drv.fault == 0  # 1.1 V of a 3.3 V top
+
+
+@pytest.mark.parametrize(
+    ("board", "port", "ms", "ok"),
+    [
+        ("rp2040", "rp2", 8388, True),
+        ("rp2040", "rp2", 8389, False),  # RP2040 maximum 8388 ms (MicroPython machine.WDT docs)
+        ("rp2350", "rp2", 16777, True),  # RP2350 maximum 16777 ms (project firmware notes)
+        ("rp2350", "rp2", 16778, False),
+        ("esp32", "esp32", 30000, True),  # task watchdog: no small cap; our ceiling 60 s
+        ("esp32", "esp32", 60001, False),
+        (None, None, 8389, False),  # unknown board: the smallest cap
+    ],
+)
+def test_watchdog_cap_per_board(board, port, ms, ok):
+    cfg = _example() if board != "esp32" else _esp32()
+    if board is None:
+        del cfg["board"]
+    else:
+        cfg["board"] = board
+    cfg["watchdog_ms"] = ms
+    errs = config.validate(cfg, port=port)
+    assert (errs == []) == ok, errs
+    if not ok:
+        assert any(e.startswith("watchdog_ms must be an integer in 1000..") for e in errs), errs
+
+
+def test_watchdog_must_outlast_one_sample():
+    cfg = _example()
+    cfg["interval_ms"] = 5000
+    cfg["oversample"] = 12  # 12 x 66 ms (MAX31865) + ADS1115 + divider: about 1 s per sample
+    cfg["watchdog_ms"] = 1500
+    t = config.sample_time_ms(cfg)
+    assert 500 < t < 3600
+    errs = config.validate(cfg)
+    assert errs == ["watchdog_ms 1500 is shorter than one sample (" + str(t) + " ms) + 1000 ms;"
+                    " raise watchdog_ms or lower oversample"]  # fmt: skip
+    cfg["watchdog_ms"] = t + 1000
+    assert config.validate(cfg) == []
+
+
+def test_bias_during_conversion_adds_its_settle_time():
+    cfg = _example()
+    before = config.sample_time_ms(cfg)
+    cfg["channels"][2]["bias"] = "conversion"
+    assert config.sample_time_ms(cfg) == before + cfg["oversample"] * 10  # default 10 ms settle
+    cfg["channels"][2]["bias_settle_ms"] = 25
+    assert config.sample_time_ms(cfg) == before + cfg["oversample"] * 25
+    assert config.validate(cfg) == []
+    cfg["channels"][2]["bias"] = "sometimes"
+    cfg["channels"][2]["bias_settle_ms"] = 0
+    errs = config.validate(cfg)
+    assert "channels[2].bias must be always or conversion" in errs
+    assert "channels[2].bias_settle_ms must be an integer in 1..100" in errs

@@ -140,6 +140,8 @@ class FakeMax31865:
         self.pending = 0
         self.conversions = 0
         self.cycles = 0
+        self.config_writes = []
+        self.unsettled = 0
 
     def _threshold(self, reg):
         return ((self.regs[reg] << 8) | self.regs[reg + 1]) >> 1
@@ -150,6 +152,9 @@ class FakeMax31865:
             return
         reg = b[0] & 0x7F
         if reg == 0:
+            self.config_writes.append(b[1])
+            if b[1] & 0x20 and not (self.regs[0] & 0x80 and b[1] & 0x80):
+                self.unsettled += 1  # one-shot without the bias already on
             if b[1] & 0x02:
                 self.regs[7] = 0
                 b = bytes([b[0], b[1] & ~0x02])
