@@ -17,8 +17,9 @@ ROOT = Path(__file__).resolve().parents[1]
 sys.path[:0] = [str(ROOT / "host"), str(ROOT / "firmware")]
 
 import numpy as np  # noqa: E402
-from heatlog import logformat as host  # noqa: E402
 from heatlog_fw import logformat as fw  # noqa: E402
+
+from heatlog import logformat as host  # noqa: E402
 
 
 def best(fn, repeat=3):

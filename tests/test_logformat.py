@@ -7,10 +7,11 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from heatlog import logformat as lf
-from heatlog.errors import HeatlogError
 from hypothesis import given, settings
 from hypothesis import strategies as st
+
+from heatlog import logformat as lf
+from heatlog.errors import HeatlogError
 
 VECTORS = Path(__file__).resolve().parent / "vectors"
 DATA = (VECTORS / "run_log.bin").read_bytes()

@@ -4,11 +4,12 @@ and the firmware parser against the independent host parser on the same byte str
 import json
 
 import portable_checks as pc
-from heatlog.device import framing as host
 from heatlog_fw import framing as fw
 from heatlog_fw import protocol as pr
 from hypothesis import given, settings
 from hypothesis import strategies as st
+
+from heatlog.device import framing as host
 
 
 def _fw_items(chunks):

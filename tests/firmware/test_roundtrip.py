@@ -1,10 +1,11 @@
 """Firmware writer -> host decoder round trip on random runs (hypothesis)."""
 
 import numpy as np
-from heatlog import logformat as host
 from heatlog_fw import logformat as fw
 from hypothesis import given, settings
 from hypothesis import strategies as st
+
+from heatlog import logformat as host
 
 u32 = st.integers(0, 2**32 - 1)
 i32 = st.integers(-(2**31), 2**31 - 1)

@@ -4,6 +4,9 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+
 from heatlog.errors import InputError, RangeError
 from heatlog.probes.chains import (
     ADS1115_FSR_V,
@@ -14,8 +17,6 @@ from heatlog.probes.chains import (
 )
 from heatlog.probes.rtd import pt100, pt1000
 from heatlog.probes.thermistor import SteinhartHart
-from hypothesis import given
-from hypothesis import strategies as st
 
 SH10K = SteinhartHart(1.129148e-3, 2.34125e-4, 8.76741e-8)  # widely quoted set, from memory
 
