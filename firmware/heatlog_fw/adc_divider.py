@@ -107,7 +107,8 @@ class AdcDividerUv:
         no excitation."""
         adc = self.adc
         exc = self.exc
-        adc.read_uv()  # discard the first read after switching channel
+        adc.read_uv()  # discard the first reads after switching channel; the 100 nF at each
+        exc.read_uv()  # pin (hardware/wiring.md) holds the inputs while the two alternate
         sig = 0
         top = 0
         for _ in range(n):

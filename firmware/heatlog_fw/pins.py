@@ -46,7 +46,7 @@ def board_for(cfg_board, this_port):
     """(board table name or None, problem or None) for a config's `board` key on this port."""
     if cfg_board is None:
         return DEFAULT_BOARD.get(this_port), None
-    if cfg_board not in BOARDS:
+    if not isinstance(cfg_board, str) or cfg_board not in BOARDS:
         return None, "board must be one of " + ", ".join(BOARDS)
     if this_port is not None and BOARDS[cfg_board] != this_port:
         return None, "board " + cfg_board + " does not match this " + this_port + " firmware"

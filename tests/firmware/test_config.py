@@ -309,3 +309,15 @@ def test_bias_during_conversion_adds_its_settle_time():
     errs = config.validate(cfg)
     assert "channels[2].bias must be always or conversion" in errs
     assert "channels[2].bias_settle_ms must be an integer in 1..100" in errs
+
+
+@given(
+    st.sampled_from(["pin", "excitation_pin", "excitation_divider", "spi", "i2c", "cs", "board"]),
+    json_values,
+)
+def test_pin_checks_never_raise_on_junk(key, value):
+    for cfg, port in ((_esp32(), "esp32"), (_example(), "rp2")):
+        for ch in cfg["channels"]:
+            ch[key] = value
+        cfg["board"] = value if key == "board" else cfg["board"]
+        assert isinstance(config.validate(cfg, port=port), list)
