@@ -49,7 +49,7 @@ EXCITATION_MV = 3300  # every divider in hardware/wiring.md is fed from the 3.3 
 
 # Wiring-relevant keys of each channel kind (the rest — models, rates, filters — is not wiring).
 WIRING_KEYS = {
-    "adc_divider": ("pin", "r_fixed_ohm", "ntc_side"),
+    "adc_divider": ("pin", "excitation_pin", "excitation_divider", "r_fixed_ohm", "ntc_side"),
     "ads1115": (
         "i2c.id",
         "i2c.sda",
@@ -63,7 +63,7 @@ WIRING_KEYS = {
     ),
     "max31865": ("spi.id", "spi.sck", "spi.mosi", "spi.miso", "cs", "r_ref_ohm", "wires"),
 }
-GPIO_FIELDS = ("pin", "sda", "scl", "sck", "mosi", "miso", "cs")
+GPIO_FIELDS = ("pin", "excitation_pin", "sda", "scl", "sck", "mosi", "miso", "cs")
 ADS1115_ADDR = {0x48: "GND", 0x49: "VDD", 0x4A: "SDA", 0x4B: "SCL"}  # ADS1115 datasheet
 
 # Raspberry Pi Pico header, physical pin -> name (Pico datasheet pinout, from memory).
@@ -169,7 +169,7 @@ def gpio_roles(cfg: dict) -> dict[int, set[tuple]]:
                 for field, pin in ch[bus].items():
                     if field != "id":
                         roles.setdefault(pin, set()).add((bus, ch[bus]["id"], field))
-        for field in ("pin", "cs"):
+        for field in ("pin", "excitation_pin", "cs"):
             if field in ch:
                 roles.setdefault(ch[field], set()).add((f"channels[{i}]", field))
     return roles
@@ -225,8 +225,13 @@ def _esp32(ch: dict, where: str) -> list[str]:
     for pin in _gpios(ch):
         if pin not in ESP32_GPIOS or 6 <= pin <= 11:
             out.append(f"{where}: GPIO{pin} is not a free ESP32 GPIO (6-11 belong to the flash)")
-    if ch["kind"] == "adc_divider" and not 32 <= ch["pin"] <= 39:
-        out.append(f"{where}.pin {ch['pin']}: use an ADC1 pin (GPIO 32-39); ADC2 fails with WiFi")
+    for field in ("pin", "excitation_pin"):
+        if ch["kind"] == "adc_divider" and not 32 <= ch.get(field, 32) <= 39:
+            out.append(
+                f"{where}.{field} {ch[field]}: use an ADC1 pin (GPIO 32-39); ADC2 fails with WiFi"
+            )
+    if ch["kind"] == "adc_divider" and "excitation_pin" not in ch:
+        out.append(f"{where}: an ESP32 divider needs excitation_pin (its ADC is not ratiometric)")
     outputs = [("i2c.sda", ch.get("i2c", {}).get("sda")), ("i2c.scl", ch.get("i2c", {}).get("scl"))]
     outputs += [
         ("spi.sck", ch.get("spi", {}).get("sck")),
@@ -244,7 +249,7 @@ def _esp32(ch: dict, where: str) -> list[str]:
 
 
 def _gpios(ch: dict) -> list[int]:
-    pins = [ch[f] for f in ("pin", "cs") if f in ch]
+    pins = [ch[f] for f in ("pin", "excitation_pin", "cs") if f in ch]
     for bus in ("i2c", "spi"):
         pins += [v for k, v in ch.get(bus, {}).items() if k != "id"]
     return pins
@@ -356,10 +361,11 @@ def test_hardware_pin_tables_agree_with_both_configs():
 
 @pytest.mark.parametrize("name", CONFIGS)
 def test_example_config_passes_firmware_validation(name):
-    """The firmware's own checks: config.parse at boot and the logger's conversion-time limit."""
+    """The firmware's own checks: config.parse at boot (pins on the config's board and the
+    conversion-time limit included)."""
     cfg, errs = fw_config.parse((REPO / name).read_text(encoding="utf-8"))
     assert errs == []
-    # logger.Logger._apply_config refuses a config whose conversions outlast min(interval, 4 s)
+    # config.validate refuses a config whose conversions outlast min(interval, 4 s)
     assert fw_channels.sample_time_ms(cfg) <= min(cfg["interval_ms"], 4000)
 
 
@@ -454,8 +460,12 @@ def test_esp32_rules_reject_adc2_and_input_only_outputs():
     bad["channels"][0]["pin"] = 25  # an ADC2 pin
     bad["channels"][2]["cs"] = 36  # input only
     bad["channels"][2]["spi"]["id"] = 0
+    bad["channels"][0]["excitation_pin"] = 26  # an ADC2 pin
     problems = board_problems(bad, "esp32", "e")
-    assert any("use an ADC1 pin" in p for p in problems), problems
+    assert any("pin 25: use an ADC1 pin" in p for p in problems), problems
+    assert any("excitation_pin 26: use an ADC1 pin" in p for p in problems), problems
+    del bad["channels"][0]["excitation_pin"]
+    assert any("needs excitation_pin" in p for p in board_problems(bad, "esp32", "e"))
     assert any("cs: GPIO36 is input-only" in p for p in problems), problems
     assert any("hardware SPI ids are 1 and 2" in p for p in problems), problems
 
@@ -493,3 +503,17 @@ def test_esp32_divider_midpoint_stays_in_the_adc_linear_range():
     for t_c, quoted in ((0, 1.97), (60, 0.34), (80, 0.18)):
         assert f"{quoted:.2f} V at {t_c} °C" in text
         assert abs(midpoint_v(t_c) - quoted) <= 0.005, (t_c, midpoint_v(t_c))
+
+
+def test_esp32_table_names_the_excitation_tap_and_it_sits_in_the_linear_range():
+    """The ESP32 divider reads its excitation on a second ADC1 pin through a 1:k tap; the table must
+    carry both keys, and 3.3 V / k must lie in the 11 dB linear range (about 150–2450 mV, ESP-IDF
+    ADC documentation as summarised in the firmware notes, approximate)."""
+    cfg = load_configs()["firmware/config.esp32.example.json"]
+    ch = cfg["channels"][0]
+    assert 0.150 <= EXCITATION_MV / 1000 / ch["excitation_divider"] <= 2.450
+    text = (HARDWARE / "wiring.md").read_text(encoding="utf-8")
+    row = next(ln for ln in text.splitlines() if ln.startswith("| `channels[0].excitation_pin`"))
+    rows, _ = parse_pin_tables(text.replace(row + "\n", ""), "wiring.md")
+    problems = check_pin_tables(rows, load_configs())
+    assert any("no pin-table row for channels[0].excitation_pin" in p for p in problems), problems

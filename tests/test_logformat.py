@@ -37,7 +37,9 @@ def test_header_matches_scenario():
         (c.kind_code, c.mode, c.source, c.gain, round(c.ref_ohm * 1000), c.probe_id)
         for c in h.channels
     ] == [tuple(c) for c in want["channels"]]
-    assert [c.kind for c in h.channels] == ["adc_divider", "max31865"]
+    assert [c.kind for c in h.channels] == ["adc_divider", "max31865", "adc_divider"]
+    assert [c.q15_ratio for c in h.channels] == [False, False, True]  # ESP32 microvolt divider
+    assert h.channels[2].ntc_side == "low" and h.channels[2].gain == 35  # excitation pin
 
 
 def test_records_match_scenario():
@@ -49,7 +51,7 @@ def test_records_match_scenario():
     assert log.flags.tolist() == [r[2] for r in recs]
     assert log.fault_mask.tolist() == [r[3] for r in recs]
     assert log.raw.tolist() == [r[4] for r in recs]
-    assert log.raw.dtype == np.int32 and log.raw.shape == (len(recs), 2)
+    assert log.raw.dtype == np.int32 and log.raw.shape == (len(recs), 3)
 
 
 def test_segments_and_torn_tail_reported():
@@ -69,7 +71,8 @@ def test_segments_and_torn_tail_reported():
 
 def test_torn_end_counted_as_trailing():
     log = lf.decode(DATA[:-5])
-    assert log.n_records == len(FACTS["records"]) - 1 and log.trailing_bytes == 22 - 5
+    # a record is R = 14 + 4 * 3 = 26 bytes
+    assert log.n_records == len(FACTS["records"]) - 1 and log.trailing_bytes == 26 - 5
 
 
 @pytest.mark.parametrize(
@@ -121,7 +124,7 @@ def test_corruption_never_yields_a_wrong_record(data):
 def test_garbage_after_header_is_counted_not_decoded(junk):
     hsize = lf.parse_header(DATA).header_size
     log = lf.decode(DATA[:hsize] + junk)
-    assert log.bad_bytes + log.trailing_bytes + log.n_records * 22 + 32 * len(log.segments) == len(
+    assert log.bad_bytes + log.trailing_bytes + log.n_records * 26 + 32 * len(log.segments) == len(
         junk
     )
 
@@ -134,23 +137,24 @@ def test_header_crc_is_zlib_crc32():
 def test_channel_faults_and_ratio():
     log = lf.decode(DATA)
     faults = log.channel_faults()
-    assert faults.shape == (log.n_records, 2)
+    assert faults.shape == (log.n_records, 3)
     # record 4 of the scenario has fault mask 0b10: channel 0 code 2 (short), channel 1 ok
-    assert faults[4].tolist() == [lf.FAULT_SHORT, lf.FAULT_NONE]
+    assert faults[4].tolist() == [lf.FAULT_SHORT, lf.FAULT_NONE, lf.FAULT_NONE]
     assert faults[[0, 1, 2, 3, 5]].sum() == 0
     r = log.ratio()
-    # channel 0: sum of 4 ADC codes over 4*4096; channel 1: RTD code sum / (4*32768) = R/R_ref
+    # channel 0: sum of 4 ADC codes over 4*4096; channel 1: RTD code sum / (4*32768) = R/R_ref;
+    # channel 2 (ESP32 microvolt divider): Q15, raw / 32768 whatever the oversampling
     np.testing.assert_allclose(
-        r[0], [4000 / (4 * 4096), (7620 * 4) / (4 * 32768)], rtol=0, atol=1e-12
+        r[0], [4000 / (4 * 4096), (7620 * 4) / (4 * 32768), 10922 / 32768], rtol=0, atol=1e-12
     )
 
 
 def test_decode_record_checks_crc():
     log = lf.decode(DATA)
     hsize = log.header.header_size
-    rec = DATA[hsize : hsize + 22]
-    assert lf.decode_record(rec, 2) == (0, 0, 0, 0, (4000, 30480))
+    rec = DATA[hsize : hsize + 26]
+    assert lf.decode_record(rec, 3) == (0, 0, 0, 0, (4000, 30480, 10922))
     with pytest.raises(lf.LogCorrupt, match="CRC"):
-        lf.decode_record(rec[:-1] + bytes([rec[-1] ^ 1]), 2)
-    with pytest.raises(lf.LogCorrupt, match="22 bytes"):
-        lf.decode_record(rec[:-1], 2)
+        lf.decode_record(rec[:-1] + bytes([rec[-1] ^ 1]), 3)
+    with pytest.raises(lf.LogCorrupt, match="26 bytes"):
+        lf.decode_record(rec[:-1], 3)

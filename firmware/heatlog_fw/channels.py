@@ -2,26 +2,15 @@
 
 import sys
 
+from . import config
 from . import logformat as lf
-from .adc_divider import AdcDivider
+from .adc_divider import AdcDivider, AdcDividerUv
 from .ads1115 import Ads1115, Ads1115Ratio
+from .conversions import rtd_fault_codes
 from .max31865 import Max31865
 
-ADS_RATES_SPS = (8, 16, 32, 64, 128, 250, 475, 860)
-
-
-def sample_time_ms(cfg):
-    """Worst-case time to read every channel once (conversion waits only), in ms."""
-    n = cfg.get("oversample", 16)
-    t = 0
-    for ch in cfg["channels"]:
-        if ch["kind"] == "ads1115":
-            t += 2 * n * (1100 // ADS_RATES_SPS[ch["rate"]] + 2)
-        elif ch["kind"] == "max31865":
-            t += n * (66 if ch.get("mains_hz", 50) == 50 else 55)
-        else:
-            t += 1 + n // 8
-    return t
+ADS_RATES_SPS = config.ADS_RATES_SPS
+sample_time_ms = config.sample_time_ms  # kept here for callers of the earlier name
 
 
 def table(cfg):
@@ -31,12 +20,16 @@ def table(cfg):
         kind = ch["kind"]
         high = 1 if ch.get("ntc_side", "low") == "high" else 0
         if kind == "adc_divider":
+            mode, exc = high, 0
+            if "excitation_pin" in ch:  # ESP32: Q15 ratio of read_uv() readings
+                mode |= lf.MODE_UV_RATIO | ((ch.get("excitation_divider", 1) - 1) << 2)
+                exc = ch["excitation_pin"]
             out.append(
                 (
                     lf.KIND_ADC_DIVIDER,
-                    high,
+                    mode,
                     ch["pin"],
-                    0,
+                    exc,
                     int(ch["r_fixed_ohm"] * 1000),
                     ch["probe_id"],
                 )
@@ -67,6 +60,16 @@ def table(cfg):
     return out
 
 
+def rtd_thresholds(ch):
+    """(low, high) MAX31865 threshold codes for a max31865 channel: the probe's valid range
+    (fault_low_C / fault_high_C, default -200..850 degC, IEC 60751) clipped to R_ref's codes."""
+    m = ch["model"]
+    r0 = m["R0"] if m["type"] == "callendar_van_dusen" else 100.0
+    return rtd_fault_codes(
+        r0, ch["r_ref_ohm"], ch.get("fault_low_C", -200.0), ch.get("fault_high_C", 850.0)
+    )
+
+
 def build(cfg, machine):
     """Driver objects for cfg's channels; buses are shared between channels on the same id."""
     buses = {}
@@ -77,11 +80,16 @@ def build(cfg, machine):
             dnl = None
             if ch.get("dnl"):
                 dnl = {int(k): int(v) for k, v in ch["dnl"].items()}
-            if sys.platform == "esp32":  # ADC1 pins only; always set the attenuation
+            low = ch.get("ntc_side", "low") == "low"
+            if "excitation_pin" in ch:  # ESP32 (config.validate): ADC1 pins, 11 dB, read_uv()
                 adc = machine.ADC(machine.Pin(ch["pin"]), atten=machine.ADC.ATTN_11DB)
-            else:  # rp2: building from a Pin also turns the pad analog
+                exc = machine.ADC(machine.Pin(ch["excitation_pin"]), atten=machine.ADC.ATTN_11DB)
+                out.append(AdcDividerUv(adc, exc, ch.get("excitation_divider", 1), low))
+            elif sys.platform == "esp32":  # not reached with a validated config
+                raise ValueError("an ESP32 adc_divider needs an excitation_pin")
+            else:  # rp2: ratiometric; building from a Pin also turns the pad analog
                 adc = machine.ADC(machine.Pin(ch["pin"]))
-            out.append(AdcDivider(adc, dnl, ch.get("ntc_side", "low") == "low"))
+                out.append(AdcDivider(adc, dnl, low))
         elif kind == "ads1115":
             b = ch["i2c"]
             key = ("i2c", b["id"])
@@ -100,5 +108,12 @@ def build(cfg, machine):
                     sck=machine.Pin(b["sck"]), mosi=machine.Pin(b["mosi"]), miso=machine.Pin(b["miso"]),
                 )  # fmt: skip
             cs = machine.Pin(ch["cs"], machine.Pin.OUT, value=1)
-            out.append(Max31865(buses[key], cs, ch["wires"], ch.get("mains_hz", 50)))
+            low, high = rtd_thresholds(ch)
+            every = max(1, cfg.get("fault_check_s", 300) * 1000 // cfg["interval_ms"])
+            settle = config.bias_settle_ms(ch)
+            out.append(
+                Max31865(
+                    buses[key], cs, ch["wires"], ch.get("mains_hz", 50), high, low, every, settle
+                )
+            )
     return out

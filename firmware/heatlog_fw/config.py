@@ -1,10 +1,14 @@
 """Board configuration: a JSON file on the board, validated at boot and on every write.
 
-`validate(cfg)` returns a list of problems (empty when usable); nothing in a config is executed.
+`validate(cfg)` returns a list of every problem (empty when usable); nothing in a config is
+executed. It covers the structure, each pin's capability on the target chip (`pins`) and the
+conversion time (`timing_problems`), so a config that passes is one the board can run.
 See firmware/config.example.json.
 """
 
 import json
+
+from . import pins
 
 MAX_CONFIG_BYTES = 4096
 KINDS = ("adc_divider", "ads1115", "max31865")
@@ -13,6 +17,8 @@ MODELS = {
     "beta": ("R25", "beta"),
     "callendar_van_dusen": ("R0",),
 }
+ADS_RATES_SPS = (8, 16, 32, 64, 128, 250, 475, 860)
+MAX_SAMPLE_MS = 4000  # all conversions of one sample must fit in min(interval_ms, this)
 DEFAULTS = {"oversample": 16, "flush_ms": 5000, "watchdog_ms": 8000, "led_pin": None}
 
 
@@ -68,6 +74,10 @@ def _channel(errs, ch, i):
     _model(errs, ch, where)
     if kind == "adc_divider":
         _int_in(errs, ch, "pin", 0, 48, where)
+        if "excitation_pin" in ch:
+            _int_in(errs, ch, "excitation_pin", 0, 48, where)
+        if "excitation_divider" in ch:
+            _int_in(errs, ch, "excitation_divider", 1, 4, where)
         _int_in(errs, ch, "r_fixed_ohm", 1, 4000000, where)
         if ch.get("ntc_side", "low") not in ("low", "high"):
             errs.append(where + "ntc_side must be low or high")
@@ -95,6 +105,17 @@ def _channel(errs, ch, i):
             errs.append(where + "r_ref_ohm must be a number in 10..10000")
         if ch.get("mains_hz", 50) not in (50, 60):
             errs.append(where + "mains_hz must be 50 or 60")
+        m = ch.get("model")
+        if isinstance(m, dict) and m.get("type") in MODELS and m["type"] != "callendar_van_dusen":
+            errs.append(where + "model.type must be callendar_van_dusen for a max31865 RTD")
+        lo = ch.get("fault_low_C", -200)
+        hi = ch.get("fault_high_C", 850)
+        if not (_is_num(lo) and _is_num(hi) and -250 <= lo < hi <= 1000):
+            errs.append(where + "fault_low_C < fault_high_C must be numbers in -250..1000 degC")
+        if ch.get("bias", "always") not in ("always", "conversion"):
+            errs.append(where + "bias must be always or conversion")
+        if "bias_settle_ms" in ch:
+            _int_in(errs, ch, "bias_settle_ms", 1, 100, where)
         _bus(errs, ch, "spi", ("id", "sck", "mosi", "miso"), where)
 
 
@@ -107,17 +128,122 @@ def _bus(errs, ch, key, fields, where):
         _int_in(errs, b, f, 0, 48, where + key + ".")
 
 
-def validate(cfg):
-    """Problems with a parsed config, each one line naming the key; [] if the config is usable."""
+def sample_time_ms(cfg):
+    """Worst-case time to read every channel once (conversion waits only), in ms."""
+    n = cfg.get("oversample", 16)
+    t = 0
+    for ch in cfg["channels"]:
+        if ch["kind"] == "ads1115":
+            t += 2 * n * (1100 // ADS_RATES_SPS[ch["rate"]] + 2)
+        elif ch["kind"] == "max31865":
+            t += n * ((66 if ch.get("mains_hz", 50) == 50 else 55) + (bias_settle_ms(ch) or 0))
+        else:
+            t += 1 + n // 8
+    return t
+
+
+def bias_settle_ms(ch):
+    """MAX31865 channel: ms the bias settles before each conversion, or None if always on."""
+    if ch.get("bias", "always") == "conversion":
+        return ch.get("bias_settle_ms", 10)
+    return None
+
+
+def timing_problems(cfg):
+    """[] if one sample's conversions fit in min(interval_ms, 4 s) and leave the watchdog a
+    second to spare (a flash flush can take ~0.4 s); cfg must be well formed."""
+    t = sample_time_ms(cfg)
+    out = []
+    if t > min(cfg["interval_ms"], MAX_SAMPLE_MS):
+        out.append(
+            "oversample x conversion time (" + str(t) + " ms) exceeds min(interval_ms, 4000 ms);"
+            " lower oversample or raise interval_ms"
+        )
+    wd = cfg.get("watchdog_ms", DEFAULTS["watchdog_ms"])
+    if t + 1000 > wd:
+        out.append(
+            "watchdog_ms " + str(wd) + " is shorter than one sample (" + str(t) + " ms) + 1000 ms;"
+            " raise watchdog_ms or lower oversample"
+        )
+    return out
+
+
+def _pin_problems(errs, cfg, board):
+    """Each pin's capability on `board` and pins claimed for two different jobs."""
+    roles = {}
+
+    def claim(pin, role, where):
+        prev = roles.get(pin)
+        if prev is None:
+            roles[pin] = role
+        elif prev != role:
+            errs.append(where + ": GPIO " + str(pin) + " is already used as " + prev)
+
+    for i, ch in enumerate(cfg["channels"]):
+        if not isinstance(ch, dict):
+            continue
+        where = "channels[" + str(i) + "]."
+        kind = ch.get("kind")
+        if kind == "adc_divider":
+            if board == "esp32" and "excitation_pin" not in ch:
+                errs.append(
+                    where + "excitation_pin is needed on esp32: its ADC is not ratiometric, so "
+                    "the divider's excitation is read too (an ADC1 pin)"
+                )
+            elif board != "esp32" and "excitation_pin" in ch:
+                errs.append(where + "excitation_pin is for esp32; the rp2 ADC is ratiometric")
+            for key in ("pin", "excitation_pin"):
+                p = ch.get(key)
+                if _is_int(p):
+                    if not pins.adc_ok(board, p):
+                        errs.append(
+                            where + key + ": GPIO " + str(p) + " is not an ADC input on "
+                            + board + " (" + pins.ADC_TEXT[board] + ")"
+                        )  # fmt: skip
+                    claim(p, where + key, where + key)
+            continue
+        bus = "i2c" if kind == "ads1115" else "spi"
+        b = ch.get(bus) if kind in ("ads1115", "max31865") else None
+        if isinstance(b, dict):
+            bid = b.get("id")
+            if _is_int(bid) and bid not in pins.bus_ids(board, bus):
+                ids = " and ".join(str(x) for x in pins.bus_ids(board, bus))
+                errs.append(where + bus + ".id: " + board + " " + bus.upper() + " ids are " + ids)
+            for f in ("sda", "scl") if bus == "i2c" else ("sck", "mosi", "miso"):
+                p = b.get(f)
+                if _is_int(p) and _is_int(bid):
+                    why = pins.bus_pin_problem(board, bus, bid, f, p)
+                    if why:
+                        errs.append(where + bus + "." + f + ": " + why)
+                    claim(p, bus + str(bid) + "." + f, where + bus + "." + f)
+        cs = ch.get("cs")
+        if kind == "max31865" and _is_int(cs):
+            if not pins.output_ok(board, cs):
+                errs.append(where + "cs: GPIO " + str(cs) + " cannot be an output on " + board)
+            claim(cs, where + "cs", where + "cs")
+    led = cfg.get("led_pin")
+    if _is_int(led):
+        if not pins.output_ok(board, led):
+            errs.append("led_pin: GPIO " + str(led) + " cannot be an output on " + board)
+        claim(led, "led_pin", "led_pin")
+
+
+def validate(cfg, port=None):
+    """Every problem with a parsed config, each one line naming the key; [] if it is usable.
+    port: "rp2"/"esp32" (default: this board's, from sys.platform; None off a board)."""
     errs = []
     if not isinstance(cfg, dict):
         return ["config must be a JSON object"]
+    board, problem = pins.board_for(cfg.get("board"), port or pins.port())
+    if problem:
+        errs.append(problem)
     _text(errs, cfg, "board_id", "")
     _int_in(errs, cfg, "interval_ms", 100, 3600000, "")
     for key, lo, hi in (
         ("oversample", 1, 256),
         ("flush_ms", 100, 600000),
-        ("watchdog_ms", 1000, 8000),
+        ("watchdog_ms", 1000, pins.watchdog_max_ms(board)),
+        ("fault_check_s", 10, 86400),
     ):
         if key in cfg:
             _int_in(errs, cfg, key, lo, hi, "")
@@ -130,12 +256,14 @@ def validate(cfg):
     else:
         for i, ch in enumerate(chans):
             _channel(errs, ch, i)
-    if cfg.get("flush_ms", 5000) < cfg.get("interval_ms", 0) and not errs:
-        pass  # a flush at every record: allowed, just more flash wear
+        if board is not None:
+            _pin_problems(errs, cfg, board)
+    if not errs:  # the timing needs well-formed numbers
+        errs += timing_problems(cfg)
     return errs
 
 
-def parse(text):
+def parse(text, port=None):
     """(config dict with defaults, []) or (None, problems) for JSON text from the file or host."""
     if len(text) > MAX_CONFIG_BYTES:
         return None, ["config longer than " + str(MAX_CONFIG_BYTES) + " bytes"]
@@ -143,7 +271,7 @@ def parse(text):
         cfg = json.loads(text)
     except ValueError:
         return None, ["config is not valid JSON"]
-    errs = validate(cfg)
+    errs = validate(cfg, port)
     if errs:
         return None, errs
     for k, v in DEFAULTS.items():

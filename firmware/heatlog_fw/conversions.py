@@ -31,6 +31,15 @@ def rtd_ohms(code_sum, n, r_ref):
     return code_sum * r_ref / (32768.0 * n)
 
 
+def rtd_fault_codes(r0, r_ref, low_c=-200.0, high_c=850.0):
+    """MAX31865 (low, high) threshold codes for a platinum RTD of R0 ohms valid from low_c to
+    high_c degC (default: the IEC 60751 range -200..850 degC), code = R*32768/R_ref, clipped to
+    1..0x7FFE so a reading at full scale (open element) always passes the high threshold."""
+    lo = int(cvd_ohms(low_c, r0) * 32768 / r_ref)
+    hi = int(cvd_ohms(high_c, r0) * 32768 / r_ref) + 1
+    return max(1, min(lo, 0x7FFE)), max(1, min(hi, 0x7FFE))
+
+
 def steinhart_hart_c(r, a, b, c, d=0.0):
     """1/T = A + B ln R + D (ln R)^2 + C (ln R)^3, T in kelvin; returns degC."""
     x = math.log(r)

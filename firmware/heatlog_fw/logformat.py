@@ -46,6 +46,10 @@ KIND_ADC_DIVIDER = const(1)
 KIND_ADS1115 = const(2)
 KIND_MAX31865 = const(3)
 KIND_NAMES = {1: "adc_divider", 2: "ads1115", 3: "max31865"}
+# channel-entry mode bits of an on-chip ADC divider (kind 1)
+MODE_NTC_HIGH = const(0x01)  # thermistor on the high side
+MODE_UV_RATIO = const(0x02)  # raw is a Q15 ratio of read_uv() readings (ESP32), not a code sum
+# bits 2..3: excitation divider k - 1 (with MODE_UV_RATIO); the entry's gain byte: excitation pin
 
 _HDR = "<4sHHHBBIHHqI16s16s"  # 64 bytes
 _CHAN = "<BBBBI16s"  # 24 bytes

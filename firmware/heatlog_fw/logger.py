@@ -57,14 +57,7 @@ class Logger:
             self.cfg, self.config_errors = None, ["no " + CONFIG_FILE + " on the board"]
         else:
             self.cfg, self.config_errors = config.parse(text)
-        cfg = self.cfg
-        if cfg is not None:
-            limit = min(cfg["interval_ms"], 4000)
-            if channels.sample_time_ms(cfg) > limit:
-                self.config_errors = [
-                    "oversample x conversion time exceeds min(interval_ms, 4000 ms); lower oversample"
-                ]
-                self.cfg = cfg = None
+        cfg = self.cfg  # config.parse checked pins and conversion time too (config.validate)
         if cfg is not None:
             try:
                 drivers = channels.build(cfg, self.machine)

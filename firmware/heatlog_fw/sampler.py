@@ -29,7 +29,12 @@ class Sampler:
         self.last_flags = 0
 
     def start(self, now, seq=0, offset_ms=0, flags=0):
-        """Begin (or resume) with the first slot due now at offset_ms from the run start."""
+        """Begin (or resume) with the first slot due now at offset_ms from the run start.
+        Channels with a start-of-run check (MAX31865 fault-detection cycle) run it here."""
+        for ch in self.channels:
+            check = getattr(ch, "run_start", None)
+            if check is not None:
+                check()
         self.seq = seq
         self.next_due = now
         self.due_offset = offset_ms

@@ -44,6 +44,9 @@ SEG_CLOCK_VALID = 0x10
 
 HDR_CLOCK_VALID = 0x01
 KIND_NAMES = {1: "adc_divider", 2: "ads1115", 3: "max31865"}
+# mode bits of an on-chip ADC divider channel (kind 1)
+MODE_NTC_HIGH = 0x01  # thermistor on the high side
+MODE_UV_RATIO = 0x02  # raw is a Q15 ratio of calibrated read_uv() readings (ESP32)
 
 _HDR = struct.Struct("<4sHHHBBIHHqI16s16s")
 _CHAN = struct.Struct("<BBBBI16s")
@@ -70,10 +73,13 @@ FAULT_NAMES = {0: "ok", 1: "open", 2: "short", 3: "out of range"}
 class Channel:
     """One row of the header's channel table.
 
-    mode: wires (2/3/4) for max31865; for the dividers 0 = thermistor on the low side,
-    1 = on the high side. source: ADC pin, ADS1115 (signal mux << 4 | excitation mux), or the
-    MAX31865 chip-select pin. gain: ADS1115 PGA setting (0..5). ref_ohm: fixed divider resistor
-    or MAX31865 reference resistor.
+    mode: wires (2/3/4) for max31865; for the dividers bit 0: 0 = thermistor on the low side,
+    1 = on the high side; on-chip ADC divider bit 1 (``MODE_UV_RATIO``): raw is a Q15 ratio of
+    calibrated microvolt readings (ESP32) rather than a sum of codes, bits 2..3 = excitation
+    divider k − 1. source: ADC pin, ADS1115 (signal mux << 4 | excitation mux), or the
+    MAX31865 chip-select pin. gain: ADS1115 PGA setting (0..5); the excitation ADC pin of a
+    ``MODE_UV_RATIO`` divider; else 0. ref_ohm: fixed divider resistor or MAX31865 reference
+    resistor.
     """
 
     kind: str
@@ -85,9 +91,34 @@ class Channel:
     probe_id: str
 
     @property
+    def q15_ratio(self) -> bool:
+        """Raw is a Q15 ratio (ADS1115, ESP32 microvolt divider), not a sum of n readings."""
+        return self.kind_code == 2 or (self.kind_code == 1 and bool(self.mode & MODE_UV_RATIO))
+
+    @property
+    def ntc_side(self) -> str:
+        """Divider channels: which side of the divider the thermistor sits on."""
+        return "high" if self.mode & MODE_NTC_HIGH else "low"
+
+    def chain_spec(self, oversample: int, lead_ohm: float = 0.0) -> str:
+        """The reading-chain spec (``heatlog.probes.chain_from_spec``) that turns this channel's
+        logged raw values into probe resistance; oversample is the header's. lead_ohm: loop
+        resistance of a 2-wire RTD's leads (the log does not know it)."""
+        ref = f"{self.ref_ohm:g}"
+        if self.kind_code == 3:
+            return f"max31865:rref={ref},lead={lead_ohm:g},n={oversample}"
+        if self.kind_code not in (1, 2):
+            raise LogCorrupt(f"channel kind {self.kind_code} has no reading chain; update heatlog")
+        if self.q15_ratio:
+            return f"ratio:rs={ref},side={self.ntc_side}"
+        return f"divider:rs={ref},side={self.ntc_side},bits=12,oversample={oversample}"
+
+    @property
     def full_scale(self) -> int:
         """Raw value that means ratio 1 for one reading (multiply by oversample for sums)."""
-        return {1: 4096, 2: 32768, 3: 32768}.get(self.kind_code, 0)
+        if self.q15_ratio:
+            return 32768
+        return {1: 4096, 3: 32768}.get(self.kind_code, 0)
 
 
 @dataclass(frozen=True)
@@ -166,11 +197,12 @@ class RunLog:
         return ((self.fault_mask[:, None] >> shifts) & 3).astype(np.uint8)
 
     def ratio(self) -> np.ndarray:
-        """Raw values as fractions of full scale (ADC divider: sum/(4096 n); ADS1115: Q15;
-        MAX31865: code sum/(32768 n), i.e. R/R_ref). float64, shape (n_records, n_channels)."""
+        """Raw values as fractions of full scale (rp2 ADC divider: sum/(4096 n); ADS1115 and
+        ESP32 microvolt divider: Q15, raw/32768; MAX31865: code sum/(32768 n), i.e. R/R_ref).
+        float64, shape (n_records, n_channels)."""
         h = self.header
         scale = np.array(
-            [c.full_scale * (1 if c.kind_code == 2 else h.oversample) for c in h.channels],
+            [c.full_scale * (1 if c.q15_ratio else h.oversample) for c in h.channels],
             dtype=float,
         )
         return self.raw / scale

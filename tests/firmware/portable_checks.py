@@ -19,6 +19,10 @@ CHANNELS = [
     (lf.KIND_ADC_DIVIDER, 0, 26, 0, 10000000, "NTC-A1"),
     (lf.KIND_MAX31865, 4, 17, 0, 430000, "PT100-B7"),
 ]
+# the vector run adds an ESP32 divider: Q15 of read_uv() readings, 1:2 excitation tap on GPIO 35
+VECTOR_CHANNELS = CHANNELS + [
+    (lf.KIND_ADC_DIVIDER, lf.MODE_UV_RATIO | (1 << 2), 34, 35, 22000000, "NTC-E1")
+]
 ANCHOR_MS = 1780000000000  # invented data: 2026-05-27T...Z as the host-set clock
 
 
@@ -89,11 +93,15 @@ def _raw(i):
     return [1000 * 4 + i * 7, 7620 * 4 - i * 3]
 
 
+def _vraw(i):
+    return _raw(i) + [10922 + 5 * i]
+
+
 def build_vector_log():
     """The run in tests/vectors/run_log.bin (invented data). Returns (file bytes, facts)."""
     fs = FakeFs(total=1 << 20)
     st = _store(fs)
-    run = st.start("board-7", "0.1.0", 1000, 4, CHANNELS, ANCHOR_MS, 0)
+    run = st.start("board-7", "0.1.0", 1000, 4, VECTOR_CHANNELS, ANCHOR_MS, 0)
     facts = {"records": [], "segments": []}
     seq = 0
     for i in range(6):
@@ -102,19 +110,19 @@ def build_vector_log():
         if fault:
             flags |= lf.REC_PROBE_FAULT
         off = i * 1000 + (2000 if i >= 3 else 0) + (i % 2)
-        st.add(seq, off, flags, fault, _raw(i), off)
-        facts["records"].append([seq, off, flags, fault, _raw(i)])
+        st.add(seq, off, flags, fault, _vraw(i), off)
+        facts["records"].append([seq, off, flags, fault, _vraw(i)])
         seq += 1
     st.clock_set(ANCHOR_MS + 1500, seq, 7500, 7500)  # host clock set: 1.5 s later than ours
     facts["segments"].append({"cause": lf.SEG_CLOCK_SET | lf.SEG_CLOCK_VALID, "first_record": 6})
     for i in range(6, 9):
         off = i * 1000 + 2000
-        st.add(seq, off, 0, 0, _raw(i), off)
-        facts["records"].append([seq, off, 0, 0, _raw(i)])
+        st.add(seq, off, 0, 0, _vraw(i), off)
+        facts["records"].append([seq, off, 0, 0, _vraw(i)])
         seq += 1
     st.flush(11000)
     # a torn record on a FAT-like medium: 7 bytes of an unflushed record reach the medium
-    st.add(seq, 12000, 0, 0, _raw(9), 11001)
+    st.add(seq, 12000, 0, 0, _vraw(9), 11001)
     fs.budget = 7  # the power fails 7 bytes into writing the next batch
     try:
         st.flush(11002)
@@ -130,8 +138,8 @@ def build_vector_log():
     )
     for i in range(2):
         off = res[2] + i * 1000
-        st2.add(seq, off, lf.REC_SEGMENT_START if i == 0 else 0, 0, _raw(10 + i), i * 1000)
-        facts["records"].append([seq, off, lf.REC_SEGMENT_START if i == 0 else 0, 0, _raw(10 + i)])
+        st2.add(seq, off, lf.REC_SEGMENT_START if i == 0 else 0, 0, _vraw(10 + i), i * 1000)
+        facts["records"].append([seq, off, lf.REC_SEGMENT_START if i == 0 else 0, 0, _vraw(10 + i)])
         seq += 1
     st2.stop(5000)
     with fs2.open(ROOT + "/" + run_name(run), "rb") as f:
@@ -377,6 +385,36 @@ def check_drivers(vectors):
     ch2 = adc_divider.AdcDivider(adc, dnl={512: 511})
     assert ch2.read_raw(3) == 3 * 511
 
+    # ESP32: midpoint and excitation in calibrated microvolts, stored as Q15 of V_mid / V_top
+    assert adc_divider.q15(1, 3) == 10922 and adc_divider.q15(5, 5) == 32768  # floor(32768/3)
+    assert adc_divider.q15(0, 7) == 0 and adc_divider.q15(2**28, 2**29 - 1) == 16384
+    mid = machine.ADC(machine.Pin(34), atten=machine.ADC.ATTN_11DB)
+    top = machine.ADC(machine.Pin(35), atten=machine.ADC.ATTN_11DB)
+    uv = adc_divider.AdcDividerUv(mid, top, k=2)
+    mid.uv = [1100000]
+    top.uv = [1650000]  # a 1:2 divider on the 3.3 V top: ratio 1.1 / 3.3 = 1/3
+    assert uv.read_raw(16) == 10922 and uv.fault == 0
+    mid.uv = [999000, 1001000]  # noise averages out in the sums
+    assert uv.read_raw(2) == 9929 and uv.fault == 0  # 2.0 V / (2 x 3.3 V) x 32768 = 9929.7
+    mid.uv = [5000]
+    uv.read_raw(4)
+    assert uv.fault == adc_divider.FAULT_SHORT  # midpoint at ground: NTC (low side) shorted
+    mid.uv = [3100000]  # 3.3 V top: the midpoint of an open NTC saturates the ADC
+    uv.read_raw(4)
+    assert uv.fault == adc_divider.FAULT_RANGE
+    top.uv = [2000000]  # a divider fed from a 2.0 V reference, read directly (k = 1)
+    uv1 = adc_divider.AdcDividerUv(mid, top, k=1)
+    mid.uv = [1995000]
+    uv1.read_raw(4)
+    assert uv1.fault == adc_divider.FAULT_OPEN  # midpoint at the top: NTC open
+    top.uv = [1650000]
+    mid.uv = [120000]  # 3.6 % of the top, but below the ADC's linear range
+    uv.read_raw(4)
+    assert uv.fault == adc_divider.FAULT_RANGE
+    mid.uv = [1100000]
+    top.uv = [0]  # excitation lead off
+    assert uv.read_raw(4) == 0 and uv.fault == adc_divider.FAULT_RANGE
+
     i2c = machine.I2C(0)
     dev = machine.FakeAds1115()
     i2c.devices[0x48] = dev
@@ -414,9 +452,9 @@ def check_drivers(vectors):
     rtd.fault = 0x04 | 0x08  # RTDIN- open
     m.read_raw(1)
     assert m.fault == max31865.FAULT_OPEN and m.fault_reg == 0x0C and rtd.regs[7] == 0  # cleared
-    rtd.fault = 0x40
+    rtd.fault = 0x40  # below the low threshold at a mid-scale code: out of range, not a short
     m.read_raw(1)
-    assert m.fault == max31865.FAULT_SHORT
+    assert m.fault == max31865.FAULT_RANGE
     rtd.fault = 0x80
     m.read_raw(1)
     assert m.fault == max31865.FAULT_RANGE
@@ -428,6 +466,92 @@ def check_drivers(vectors):
         raise AssertionError("accepted 5 wires")
     except ValueError:
         pass
+
+
+def check_max31865_fault_detection(vectors):
+    """Thresholds come from the probe's valid range; open, shorted and out-of-range RTDs are
+    flagged in the record's fault mask; the fault-detection cycle runs at the start, when a code
+    faults, and every fault_check_s."""
+    import machine
+    from heatlog_fw import channels, max31865
+    from heatlog_fw.sampler import Sampler
+
+    cfg = dict(EXAMPLE_CONFIG)
+    cfg["fault_check_s"] = 10  # interval 1000 ms: a cycle every 10 samples
+    ch = cfg["channels"][1]  # Pt100 on R_ref 430 ohm
+    low, high = channels.rtd_thresholds(ch)
+    # IEC 60751 table: R(-200 degC) = 18.52 ohm, R(850 degC) = 390.48 ohm; code = R*32768/R_ref
+    assert abs(low - 18.52 * 32768 / 430) <= 1 and abs(high - 390.48 * 32768 / 430) <= 1.5
+    hw = _FakeHw(machine)
+    drivers = channels.build(cfg, hw)
+    rtd, m = hw.rtd, drivers[1]
+    m.wait_ms = 0
+    assert (rtd.regs[3] << 8 | rtd.regs[4]) >> 1 == high
+    assert (rtd.regs[5] << 8 | rtd.regs[6]) >> 1 == low
+    assert m.cycle_every == 10 and rtd.cycles == 0
+    s = Sampler(drivers, 1000, 2)
+    s.start(0)
+    assert rtd.cycles == 1  # at run start
+
+    def fault_after_step(k):
+        s.step(k * 1000, None, False)
+        code = (s.fault_mask >> 2) & 3
+        assert bool(s.last_flags & lf.REC_PROBE_FAULT) == (s.fault_mask != 0)
+        return code
+
+    assert fault_after_step(0) == max31865.FAULT_NONE  # 119.3971 ohm: about 50 degC
+    rtd.resistance = None  # open element: code at full scale, D7, and D5 from the cycle
+    assert fault_after_step(1) == max31865.FAULT_OPEN and rtd.cycles == 2
+    rtd.resistance = 0.4  # shorted element (leads only): far below the low threshold
+    assert fault_after_step(2) == max31865.FAULT_SHORT
+    rtd.resistance = 400.0  # about 880 degC: past the probe's range, not an open circuit
+    assert fault_after_step(3) == max31865.FAULT_RANGE
+    rtd.resistance = 15.0  # below -200 degC
+    assert fault_after_step(4) == max31865.FAULT_RANGE
+    rtd.resistance = 119.3971
+    assert fault_after_step(5) == max31865.FAULT_NONE  # last cycle was clean again
+    cycles = rtd.cycles
+    rtd.cycle_fault = 0x10  # an open force lead that only the fault-detection cycle sees
+    k = 6
+    while fault_after_step(k) == max31865.FAULT_NONE:
+        assert rtd.cycles == cycles  # clean until the next periodic cycle
+        k += 1
+    assert rtd.cycles == cycles + 1 and k - 6 < 10  # the periodic cycle came within 10 samples
+    assert (s.fault_mask >> 2) & 3 == max31865.FAULT_OPEN
+    assert fault_after_step(k + 1) == max31865.FAULT_OPEN  # held until the next cycle
+
+
+def check_max31865_bias_only_during_conversion(vectors):
+    """bias "conversion": VBIAS goes on, settles, the one-shot starts with it on, then it goes
+    off; with the default the bias stays on and every one-shot finds it already on."""
+    import machine
+    from heatlog_fw import channels
+
+    cfg = dict(EXAMPLE_CONFIG)
+    ch = dict(cfg["channels"][1])
+    ch["bias"] = "conversion"
+    ch["bias_settle_ms"] = 1
+    cfg["channels"] = [ch]
+    hw = _FakeHw(machine)
+    (m,) = channels.build(cfg, hw)
+    m.wait_ms = 0
+    rtd = hw.rtd
+    assert not rtd.regs[0] & 0x80  # idle: bias off
+    rtd.config_writes = []
+    assert m.read_raw(2) == 2 * int(119.3971 * 32768 / 430.0) and m.fault == 0
+    w = rtd.config_writes
+    assert [x & 0xA0 for x in w] == [0x80, 0xA0, 0x00] * 2, w  # on, on + one-shot, off
+    assert rtd.unsettled == 0 and not rtd.regs[0] & 0x80
+    rtd.config_writes = []
+    m.fault_cycle()
+    assert [x & 0x8C for x in rtd.config_writes][-3:] == [0x80, 0x84, 0x00]  # cycle with bias
+    always = dict(EXAMPLE_CONFIG)  # default: bias always on
+    hw2 = _FakeHw(machine)
+    (m2,) = channels.build(always, hw2)[1:]
+    m2.wait_ms = 0
+    m2.read_raw(2)
+    assert hw2.rtd.regs[0] & 0x80 and hw2.rtd.unsettled == 0
+    assert all(x & 0x80 for x in hw2.rtd.config_writes)
 
 
 EXAMPLE_CONFIG = {
@@ -652,6 +776,9 @@ class _QuietAdc:
     def read_u16(self):
         return 0x8008
 
+    def read_uv(self):
+        return 1650000
+
 
 class _QuietSpi:
     """Allocation-free SPI answering like a MAX31865 at code 7620 with no fault."""
@@ -675,7 +802,7 @@ def check_sampler_allocates_nothing(vectors):
     """Under MicroPython: no heap allocation per sample (CPython has no gc.mem_alloc: skip)."""
     import gc
 
-    from heatlog_fw.adc_divider import AdcDivider
+    from heatlog_fw.adc_divider import AdcDivider, AdcDividerUv
     from heatlog_fw.max31865 import Max31865
     from heatlog_fw.sampler import Sampler
 
@@ -683,10 +810,11 @@ def check_sampler_allocates_nothing(vectors):
         return
     fs = FakeFs()
     store = LogStore(ROOT, fs, batch_records=400, flush_ms=10**8, space_ms=10**8)
-    store.start("b", "0.1.0", 1000, 4, CHANNELS, 0, 0)
+    store.start("b", "0.1.0", 1000, 4, VECTOR_CHANNELS, 0, 0)
     rtd = Max31865(_QuietSpi(), _quiet_pin)
     rtd.wait_ms = 0
-    s = Sampler([AdcDivider(_QuietAdc()), rtd], 1000, 4)
+    esp = AdcDividerUv(_QuietAdc(), _QuietAdc(), 2)
+    s = Sampler([AdcDivider(_QuietAdc()), rtd, esp], 1000, 4)
     s.start(0)
     s.step(0, store, False)
     gc.collect()
@@ -869,6 +997,8 @@ def check_clock_survives_ticks_wrap(vectors):
 
 
 CHECKS = [
+    check_max31865_bias_only_during_conversion,
+    check_max31865_fault_detection,
     check_clock_survives_ticks_wrap,
     check_rtc_keeps_clock_through_reset,
     check_sampler_no_drift_across_wrap,

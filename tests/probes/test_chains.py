@@ -159,3 +159,32 @@ def test_chain_spec_parser():
     for bad in ("bridge:rs=1", "divider", "divider:rs=abc", "divider:rs=1e4,x=2", "divider:rs"):
         with pytest.raises(InputError):
             chain_from_spec(bad)
+
+
+def test_ratio_spec_is_the_q15_divider():
+    """ratio: reads the Q15 ratio the board logs (ADS1115 and ESP32 divider channels):
+    R = R_s·x/(32768 − x) on the low side (divider relation, converter datasheets)."""
+    chain = chain_from_spec("ratio:rs=10000,side=high")
+    assert chain == VoltageDivider(1e4, "high", bits=15, oversample=1)
+    assert chain == chain_from_spec("divider:rs=10000,side=high,bits=15")
+    low = chain_from_spec("ratio:rs=10000")
+    assert low.to_resistance(16384) == pytest.approx(10_000.0, rel=1e-12)
+    assert low.to_resistance(8192) == pytest.approx(10_000.0 / 3, rel=1e-12)
+    with pytest.raises(InputError):
+        chain_from_spec("ratio:rs=10000,bits=12")  # the ratio is always Q15
+
+
+def test_max31865_sum_of_n_codes():
+    """n summed codes: R = sum·R_ref/(32768 n) (MAX31865 datasheet relation, per code)."""
+    one = MAX31865Chain(430.0)
+    four = chain_from_spec("max31865:rref=430,lead=0,n=4")
+    assert four == MAX31865Chain(430.0, 0.0, 4)
+    assert four.to_resistance(4 * 7620) == pytest.approx(one.to_resistance(7620), rel=1e-12)
+    assert four.to_counts(100.0) == pytest.approx(4 * one.to_counts(100.0), rel=1e-12)
+    assert four.dresistance_dcounts(30_000) == pytest.approx(430.0 / (4 * 32768), rel=1e-12)
+    step4 = four.reading(pt100(), 4 * 10555).step_K
+    assert step4 == pytest.approx(one.reading(pt100(), 10555).step_K / 4, rel=1e-9)
+    with pytest.raises(RangeError):
+        four.to_resistance(4 * 32768)
+    with pytest.raises(RangeError):
+        MAX31865Chain(430.0, oversample=0)

@@ -90,7 +90,7 @@ def main():
     facts["header"] = {
         "board_id": "board-7", "firmware": "0.1.0", "run": 1, "interval_ms": 1000,
         "oversample": 4, "anchor_ms": portable_checks.ANCHOR_MS,
-        "channels": [list(c) for c in portable_checks.CHANNELS],
+        "channels": [list(c) for c in portable_checks.VECTOR_CHANNELS],
     }  # fmt: skip
     (HERE / "run_log.json").write_text(json.dumps(facts, indent=1) + "\n")
 

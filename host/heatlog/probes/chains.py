@@ -8,11 +8,15 @@ the temperature step of one count there (the resolution, from dT/dR · dR/dcount
   (ratiometric); counts are the sum of ``oversample`` raw codes of ``bits`` bits. Thermistor on
   the low side: R = R_s·c/(F − c), F = oversample·2^bits (the firmware's
   ``R_fixed·raw/(4096 − raw)``); high side: R = R_s·(F − c)/c.
+  ``bits=15`` (spec ``ratio:rs=..,side=..``) reads a Q15 ratio: the value the board logs for an
+  ADS1115 channel and an ESP32 microvolt divider (firmware/LOGFORMAT.md), R = R_s·x/(32768 − x).
 * :class:`ADS1115Divider` — the same divider read by an ADS1115 at a PGA full scale of ±6.144 ..
   ±0.256 V (LSB = FSR/32768, ADS1115 datasheet) with a measured excitation voltage; not
-  ratiometric, so the excitation must be measured.
+  ratiometric, so the excitation must be measured. Counts here are single midpoint codes (a
+  bench reading); a board log holds the Q15 ratio instead: use ``ratio:``.
 * :class:`MAX31865Chain` — the MAX31865 15-bit RTD ratio: R = code·R_ref/32768 (MAX31865
-  datasheet), less the loop resistance of the leads for a 2-wire RTD.
+  datasheet), less the loop resistance of the leads for a 2-wire RTD; ``oversample`` (spec key
+  ``n``) for the sum of n codes the board logs: R = sum·R_ref/(32768 n).
 
 ``to_counts`` returns the ideal, unrounded count; round it to simulate a converter.
 """
@@ -117,8 +121,10 @@ class VoltageDivider(_Chain):
         _check_side(self.thermistor_side, self.name)
         if not self.r_series_ohm > 0:
             raise RangeError(f"divider: series resistor must be positive, got {self.r_series_ohm}")
-        if self.bits not in (10, 12, 14, 16):
-            raise RangeError(f"divider: bits must be 10, 12, 14 or 16, got {self.bits}")
+        if self.bits not in (10, 12, 14, 15, 16):
+            raise RangeError(
+                f"divider: bits must be 10, 12, 14, 15 (a Q15 ratio) or 16, got {self.bits}"
+            )
         if not (isinstance(self.oversample, int) and 1 <= self.oversample <= 65536):
             raise RangeError(
                 f"divider: oversample must be a whole number of reads 1..65536, got {self.oversample}"
@@ -221,6 +227,7 @@ class MAX31865Chain(_Chain):
 
     r_ref_ohm: float = 430.0
     lead_ohm: float = 0.0
+    oversample: int = 1
 
     name: ClassVar[str] = "max31865"
 
@@ -229,22 +236,31 @@ class MAX31865Chain(_Chain):
             raise RangeError(f"max31865: reference resistor must be positive, got {self.r_ref_ohm}")
         if not self.lead_ohm >= 0:
             raise RangeError(f"max31865: lead resistance cannot be negative, got {self.lead_ohm}")
+        if not (isinstance(self.oversample, int) and 1 <= self.oversample <= 65536):
+            raise RangeError(
+                f"max31865: n must be a whole number of summed codes 1..65536, got {self.oversample}"
+            )
+
+    @property
+    def full_scale(self) -> float:
+        """The summed count that would mean R = R_ref: 32768·n."""
+        return float(MAX31865_CODES * self.oversample)
 
     def to_resistance(self, counts: Any) -> Any:
-        c, scalar = _ratio_counts(counts, MAX31865_CODES, self.name)
-        r = c * self.r_ref_ohm / MAX31865_CODES - self.lead_ohm
+        c, scalar = _ratio_counts(counts, self.full_scale, self.name)
+        r = c * self.r_ref_ohm / self.full_scale - self.lead_ohm
         check_positive_resistance(r)
         return restore(r, scalar)
 
     def dresistance_dcounts(self, counts: Any) -> Any:
-        c, scalar = _ratio_counts(counts, MAX31865_CODES, self.name)
-        return restore(np.full_like(c, self.r_ref_ohm / MAX31865_CODES), scalar)
+        c, scalar = _ratio_counts(counts, self.full_scale, self.name)
+        return restore(np.full_like(c, self.r_ref_ohm / self.full_scale), scalar)
 
     def to_counts(self, resistance: Any) -> Any:
         r, scalar = as_array(resistance, "resistance", "ohms")
         check_positive_resistance(r)
-        c = (r + self.lead_ohm) * MAX31865_CODES / self.r_ref_ohm
-        if np.any(c >= MAX31865_CODES):
+        c = (r + self.lead_ohm) * self.full_scale / self.r_ref_ohm
+        if np.any(c >= self.full_scale):
             raise RangeError(
                 f"max31865: resistance plus leads reaches the reference {self.r_ref_ohm:g} Ω; "
                 "use a larger reference resistor"
@@ -269,27 +285,39 @@ _SPEC_KEYS: dict[str, dict[str, tuple[str, type]]] = {
         "fsr": ("fsr_V", float),
         "side": ("thermistor_side", str),
     },
-    "max31865": {"rref": ("r_ref_ohm", float), "lead": ("lead_ohm", float)},
+    "ratio": {"rs": ("r_series_ohm", float), "side": ("thermistor_side", str)},
+    "max31865": {
+        "rref": ("r_ref_ohm", float),
+        "lead": ("lead_ohm", float),
+        "n": ("oversample", int),
+    },
 }
 _CHAIN_CLASSES: dict[str, type] = {
     "divider": VoltageDivider,
     "ads1115": ADS1115Divider,
+    "ratio": VoltageDivider,
     "max31865": MAX31865Chain,
 }
+# Fixed fields of a spec kind: ``ratio:`` is the divider read as a Q15 ratio (one value, not a sum).
+_SPEC_FIXED: dict[str, dict[str, Any]] = {"ratio": {"bits": 15, "oversample": 1}}
 CHAIN_SPEC_HELP = (
-    "divider:rs=10000,side=low,bits=12,oversample=16 | "
-    "ads1115:rs=10000,vexc=3.3,fsr=4.096,side=low | max31865:rref=430,lead=0"
+    "divider:rs=10000,side=low,bits=12,oversample=16 | ratio:rs=10000,side=low | "
+    "ads1115:rs=10000,vexc=3.3,fsr=4.096,side=low | max31865:rref=430,lead=0,n=4"
 )
 
 
 def chain_from_spec(spec: str) -> Chain:
-    """Build a chain from a short text such as ``divider:rs=10000,bits=12,oversample=16``."""
+    """Build a chain from a short text such as ``divider:rs=10000,bits=12,oversample=16``.
+
+    ``ratio:rs=R,side=S`` is ``divider:rs=R,side=S,bits=15,oversample=1`` (a Q15 ratio as the
+    board logs it for ADS1115 and ESP32 divider channels); ``max31865:...,n=N`` reads the sum of
+    N codes the board logs with oversampling N."""
     kind, _, rest = spec.strip().partition(":")
     kind = kind.strip().lower()
     if kind not in _SPEC_KEYS:
         raise InputError(f"unknown chain {kind!r}; write it as {CHAIN_SPEC_HELP}")
     keys = _SPEC_KEYS[kind]
-    kwargs: dict[str, Any] = {}
+    kwargs: dict[str, Any] = dict(_SPEC_FIXED.get(kind, {}))
     for item in filter(None, (part.strip() for part in rest.split(","))):
         key, eq, value = item.partition("=")
         key = key.strip().lower()

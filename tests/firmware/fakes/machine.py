@@ -54,8 +54,16 @@ class ADC:
 
     def __init__(self, pin, atten=None):
         self.pin = pin
+        self.atten = atten
         self.codes = [2048]  # 12-bit codes returned in turn (read_u16 stretches them)
         self.i = 0
+        self.uv = [1650000]  # calibrated microvolts returned in turn by read_uv (ESP32)
+        self.j = 0
+
+    def read_uv(self):
+        v = self.uv[self.j % len(self.uv)]
+        self.j += 1
+        return v
 
     def read_u16(self):
         c = self.codes[self.i % len(self.codes)]
@@ -117,16 +125,26 @@ class SPI:
 
 
 class FakeMax31865:
-    """Register model: a one-shot write converts `resistance` against `r_ref`; `fault` sets
-    the fault register and the LSB fault flag."""
+    """Register model: a one-shot write converts `resistance` against `r_ref` (code clipped at
+    full scale; `resistance=None` is an open element: full scale) and compares the code with the
+    programmed thresholds (D7: code >= high, D6: code < low); `fault` adds fault-register bits.
+    A fault-detection cycle (config D3:D2 = 01) sets D5 for an open element (plus
+    `cycle_fault`) and completes at once."""
 
     def __init__(self, resistance=100.0, r_ref=430.0):
         self.regs = bytearray(8)
         self.resistance = resistance
         self.r_ref = r_ref
         self.fault = 0
+        self.cycle_fault = 0
         self.pending = 0
         self.conversions = 0
+        self.cycles = 0
+        self.config_writes = []
+        self.unsettled = 0
+
+    def _threshold(self, reg):
+        return ((self.regs[reg] << 8) | self.regs[reg + 1]) >> 1
 
     def transfer(self, b):
         if len(b) == 1:  # address for a read
@@ -134,17 +152,32 @@ class FakeMax31865:
             return
         reg = b[0] & 0x7F
         if reg == 0:
+            self.config_writes.append(b[1])
+            if b[1] & 0x20 and not (self.regs[0] & 0x80 and b[1] & 0x80):
+                self.unsettled += 1  # one-shot without the bias already on
             if b[1] & 0x02:
                 self.regs[7] = 0
                 b = bytes([b[0], b[1] & ~0x02])
             if b[1] & 0x20:
                 self.conversions += 1
-                code = int(self.resistance * 32768 / self.r_ref) & 0x7FFF
-                self.regs[7] = self.fault
-                word = (code << 1) | (1 if self.fault else 0)
+                if self.resistance is None:
+                    code = 0x7FFF
+                else:
+                    code = min(0x7FFF, max(0, int(self.resistance * 32768 / self.r_ref)))
+                fault = self.fault
+                if code >= self._threshold(3):
+                    fault |= 0x80
+                if code < self._threshold(5):
+                    fault |= 0x40
+                self.regs[7] |= fault
+                word = (code << 1) | (1 if fault else 0)
                 self.regs[1] = word >> 8
                 self.regs[2] = word & 0xFF
                 b = bytes([b[0], b[1] & ~0x20])
+            if b[1] & 0x0C == 0x04:
+                self.cycles += 1
+                self.regs[7] |= (0x20 if self.resistance is None else 0) | self.cycle_fault
+                b = bytes([b[0], b[1] & ~0x0C])
         self.regs[reg] = b[1]
 
     def read(self, reg, n):
