@@ -54,7 +54,9 @@ class Thermogram:
             raise InputError(f"{where}: time and temperature must be 1-D arrays of equal length")
         for name, ch in self.channels.items():
             if ch.shape != t.shape:
-                raise InputError(f"{where}: channel {name!r} has {ch.size} values, time has {t.size}")
+                raise InputError(
+                    f"{where}: channel {name!r} has {ch.size} values, time has {t.size}"
+                )
         check_thermogram_arrays(t, y, where)
 
     def __len__(self) -> int:

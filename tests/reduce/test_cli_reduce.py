@@ -11,7 +11,10 @@ from heatlog.reduce.synthetic import Release, synthetic_run
 
 def _csv(tmp_path, run, name="run.csv"):
     p = tmp_path / name
-    rows = "\n".join(f"{t:.3f},{y:.6f}" for t, y in zip(run.thermogram.time_s, run.thermogram.temp_C))
+    rows = "\n".join(
+        f"{t:.3f},{y:.6f}"
+        for t, y in zip(run.thermogram.time_s, run.thermogram.temp_C, strict=True)
+    )
     p.write_text("# invented data\ntime_s,temp_C\n" + rows + "\n")
     return p
 
@@ -20,7 +23,12 @@ def _csv(tmp_path, run, name="run.csv"):
 def two_events():
     return synthetic_run(
         releases=(Release(400.0, 3.0, 60.0, "heater"), Release(1800.0, -4.0, 20.0)),
-        duration_s=3300.0, dt_s=2.0, k_per_s=3e-4, probe_lag_s=3.0, noise_K=0.01, seed=2,
+        duration_s=3300.0,
+        dt_s=2.0,
+        k_per_s=3e-4,
+        probe_lag_s=3.0,
+        noise_K=0.01,
+        seed=2,
     )
 
 
@@ -29,8 +37,19 @@ def test_json_has_the_contract_keys(tmp_path, two_events):
     r = CliRunner().invoke(main, ["reduce", str(p), "--event", "1", "--json"])
     assert r.exit_code == 0, r.output
     d = json.loads(r.output)
-    for key in ("delta_t_K", "u_delta_t_K", "U_delta_t_K", "event_start_s", "after_start_s",
-                "method", "methods", "drift", "naive_delta_t_K", "budget", "events"):
+    for key in (
+        "delta_t_K",
+        "u_delta_t_K",
+        "U_delta_t_K",
+        "event_start_s",
+        "after_start_s",
+        "method",
+        "methods",
+        "drift",
+        "naive_delta_t_K",
+        "budget",
+        "events",
+    ):
         assert key in d
     assert set(d["drift"]) >= {"model", "k_per_s", "T_inf_C"}
     assert len(d["events"]) == 2
@@ -42,8 +61,19 @@ def test_json_has_the_contract_keys(tmp_path, two_events):
 def test_text_summary_and_options(tmp_path, two_events):
     p = _csv(tmp_path, two_events)
     r = CliRunner().invoke(
-        main, ["reduce", str(p), "--method", "dickinson", "--resolution", "0.001",
-               "--event-start", "300", "--after-start", "700"],
+        main,
+        [
+            "reduce",
+            str(p),
+            "--method",
+            "dickinson",
+            "--resolution",
+            "0.001",
+            "--event-start",
+            "300",
+            "--after-start",
+            "700",
+        ],
     )
     assert r.exit_code == 0, r.output
     assert "corrected ΔT = +" in r.output and "[dickinson]" in r.output
@@ -57,10 +87,16 @@ def test_other_columns_and_iso_time(tmp_path):
         "timedelta64[ms]"
     )
     p = tmp_path / "iso.csv"
-    p.write_text("when,probe\n" + "\n".join(
-        f"{s},{y:.5f}" for s, y in zip(stamps.astype(str), run.thermogram.temp_C)) + "\n")
+    p.write_text(
+        "when,probe\n"
+        + "\n".join(
+            f"{s},{y:.5f}" for s, y in zip(stamps.astype(str), run.thermogram.temp_C, strict=True)
+        )
+        + "\n"
+    )
     r = CliRunner().invoke(
-        main, ["reduce", str(p), "--time-col", "when", "--temp-col", "probe", "--iso-time", "--json"]
+        main,
+        ["reduce", str(p), "--time-col", "when", "--temp-col", "probe", "--iso-time", "--json"],
     )
     assert r.exit_code == 0, r.output
     assert abs(json.loads(r.output)["delta_t_K"] - 5.0) < 0.01
@@ -91,11 +127,15 @@ def test_bad_input_is_one_line_and_nonzero(tmp_path, text, fragment):
     assert fragment in r.output
 
 
-@pytest.mark.parametrize("start, fragment", [(60.0, "fore-period"), (1880.0, "after-period")],
-                         ids=["too-early", "too-late"])
+@pytest.mark.parametrize(
+    "start, fragment",
+    [(60.0, "fore-period"), (1880.0, "after-period")],
+    ids=["too-early", "too-late"],
+)
 def test_event_too_close_to_an_end(tmp_path, start, fragment):
-    run = synthetic_run(releases=(Release(start, 2.0, 10.0),), duration_s=2000.0, dt_s=2.0,
-                        noise_K=0.005)
+    run = synthetic_run(
+        releases=(Release(start, 2.0, 10.0),), duration_s=2000.0, dt_s=2.0, noise_K=0.005
+    )
     r = CliRunner().invoke(main, ["reduce", str(_csv(tmp_path, run)), "--json"])
     assert r.exit_code == 2
     assert r.output.startswith("Error: ") and fragment in r.output

@@ -62,8 +62,13 @@ def test_uncertainty_split_matches_repeated_noise():
 @pytest.mark.parametrize("sign", [1.0, -1.0], ids=["rising", "falling"])
 def test_detects_rising_and_falling_events_under_noise_and_lag(sign):
     run = synthetic_run(
-        releases=(Release(600.0, sign * 2.0, 40.0),), duration_s=2400.0, dt_s=5.0,
-        k_per_s=5e-4, probe_lag_s=8.0, noise_K=0.03, seed=11,
+        releases=(Release(600.0, sign * 2.0, 40.0),),
+        duration_s=2400.0,
+        dt_s=5.0,
+        k_per_s=5e-4,
+        probe_lag_s=8.0,
+        noise_K=0.03,
+        seed=11,
     )
     events, _ = detect_events(run.thermogram.time_s, run.thermogram.temp_C)
     assert len(events) == 1
@@ -78,7 +83,12 @@ def test_detects_rising_and_falling_events_under_noise_and_lag(sign):
 def test_two_events_heater_then_reaction_are_listed_in_order():
     run = synthetic_run(
         releases=(Release(400.0, 3.0, 60.0, "heater"), Release(1800.0, -4.0, 20.0)),
-        duration_s=3300.0, dt_s=1.0, k_per_s=3e-4, probe_lag_s=3.0, noise_K=0.01, seed=2,
+        duration_s=3300.0,
+        dt_s=1.0,
+        k_per_s=3e-4,
+        probe_lag_s=3.0,
+        noise_K=0.01,
+        seed=2,
     )
     events, _ = detect_events(run.thermogram.time_s, run.thermogram.temp_C)
     assert [e.direction for e in events] == [1, -1]

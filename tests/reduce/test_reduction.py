@@ -15,8 +15,14 @@ from heatlog.reduce.synthetic import Release, synthetic_run
 
 
 def _clean(**kw):
-    base = dict(releases=(Release(600.0, 5.0, 20.0),), duration_s=2400.0, dt_s=0.5,
-                k_per_s=5e-4, jacket_C=22.0, start_C=20.0)
+    base = dict(
+        releases=(Release(600.0, 5.0, 20.0),),
+        duration_s=2400.0,
+        dt_s=0.5,
+        k_per_s=5e-4,
+        jacket_C=22.0,
+        start_C=20.0,
+    )
     base.update(kw)
     return synthetic_run(**base)
 
@@ -72,7 +78,12 @@ def test_falling_event_is_signed():
 def test_select_second_event_and_manual_override():
     run = synthetic_run(
         releases=(Release(400.0, 3.0, 60.0, "heater"), Release(1800.0, -4.0, 20.0)),
-        duration_s=3300.0, dt_s=1.0, k_per_s=3e-4, probe_lag_s=3.0, noise_K=0.01, seed=2,
+        duration_s=3300.0,
+        dt_s=1.0,
+        k_per_s=3e-4,
+        probe_lag_s=3.0,
+        noise_K=0.01,
+        seed=2,
     )
     first = reduce_thermogram(run.thermogram, event_index=0)
     second = reduce_thermogram(run.thermogram, event_index=1)
@@ -91,8 +102,12 @@ def test_budget_components_and_dict():
     red = reduce_thermogram(run.thermogram)
     names = [c.name for c in red.budget.components]
     assert names[:6] == [
-        "fore-period drift fit", "after-period drift fit", "main-period reading noise",
-        "resolution", "period boundaries", "method spread",
+        "fore-period drift fit",
+        "after-period drift fit",
+        "main-period reading noise",
+        "resolution",
+        "period boundaries",
+        "method spread",
     ]
     assert red.resolution_K == pytest.approx(0.02)  # found from the data
     assert red.u_delta_t_K == pytest.approx(red.budget.u)

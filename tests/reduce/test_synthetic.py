@@ -11,8 +11,13 @@ def test_matches_newtons_law_solved_numerically():
     # and a first-order probe lag, integrated by scipy's Radau at tight tolerance.
     k, tinf, dtk, tau, lag, ts = 4e-4, 23.0, 3.0, 25.0, 6.0, 300.0
     run = synthetic_run(
-        releases=(Release(ts, dtk, tau),), duration_s=1500, dt_s=2.0, k_per_s=k,
-        jacket_C=tinf, start_C=20.0, probe_lag_s=lag,
+        releases=(Release(ts, dtk, tau),),
+        duration_s=1500,
+        dt_s=2.0,
+        k_per_s=k,
+        jacket_C=tinf,
+        start_C=20.0,
+        probe_lag_s=lag,
     )
 
     def rhs(t, x):
@@ -22,17 +27,38 @@ def test_matches_newtons_law_solved_numerically():
 
     probe0 = tinf + (20.0 - tinf) / (1 - k * lag)
     t = run.thermogram.time_s
-    first = solve_ivp(rhs, (0, ts), [20.0, probe0], method="Radau", rtol=1e-11, atol=1e-12,
-                      t_eval=t[t <= ts], max_step=5.0)
-    second = solve_ivp(rhs, (ts, t[-1]), first.y[:, -1], method="Radau", rtol=1e-11,
-                       atol=1e-12, t_eval=t[t >= ts], max_step=2.0)
+    first = solve_ivp(
+        rhs,
+        (0, ts),
+        [20.0, probe0],
+        method="Radau",
+        rtol=1e-11,
+        atol=1e-12,
+        t_eval=t[t <= ts],
+        max_step=5.0,
+    )
+    second = solve_ivp(
+        rhs,
+        (ts, t[-1]),
+        first.y[:, -1],
+        method="Radau",
+        rtol=1e-11,
+        atol=1e-12,
+        t_eval=t[t >= ts],
+        max_step=2.0,
+    )
     expected = np.concatenate([first.y[1], second.y[1][1:]])
     np.testing.assert_allclose(run.thermogram.temp_C, expected, atol=1e-7)
 
 
 def test_adiabatic_vessel_rises_by_the_given_change():
-    run = synthetic_run(releases=(Release(100, -2.5, 10.0), Release(900, 4.0, 200.0, "heater")),
-                        duration_s=2000, dt_s=1.0, k_per_s=1e-12, start_C=21.0)
+    run = synthetic_run(
+        releases=(Release(100, -2.5, 10.0), Release(900, 4.0, 200.0, "heater")),
+        duration_s=2000,
+        dt_s=1.0,
+        k_per_s=1e-12,
+        start_C=21.0,
+    )
     y = run.thermogram.temp_C
     assert y[0] == pytest.approx(21.0)
     assert y[-1] - y[0] == pytest.approx(1.5, abs=1e-8)

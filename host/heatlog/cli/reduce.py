@@ -53,12 +53,22 @@ def _text(red: Reduction) -> str:
     show_default=True,
     help="Correction method.",
 )
-@click.option("--event", "event_index", type=click.IntRange(min=0), default=0, show_default=True,
-              help="Which detected event to reduce (0 = first).")
+@click.option(
+    "--event",
+    "event_index",
+    type=click.IntRange(min=0),
+    default=0,
+    show_default=True,
+    help="Which detected event to reduce (0 = first).",
+)
 @click.option("--event-start", type=float, default=None, help="Main-period start, s (override).")
 @click.option("--after-start", type=float, default=None, help="After-period start, s (override).")
-@click.option("--resolution", type=click.FloatRange(min=0.0), default=None,
-              help="Reading step in K (ADC/probe resolution); default: from the data, else 0.")
+@click.option(
+    "--resolution",
+    type=click.FloatRange(min=0.0),
+    default=None,
+    help="Reading step in K (ADC/probe resolution); default: from the data, else 0.",
+)
 @json_option
 def reduce(
     file: str,

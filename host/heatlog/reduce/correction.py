@@ -129,9 +129,7 @@ def probe_response(s: np.ndarray, k: float, tau_r: float, tau_p: float) -> np.nd
     if abs(c - b) < 1e-9 * c:
         c *= 1 + 1e-6
     ec = decay(c)
-    return (a / (a - b)) * (
-        c * (decay(b) - ec) / (c - b) - c * (decay(a) - ec) / (c - a)
-    )
+    return (a / (a - b)) * (c * (decay(b) - ec) / (c - b) - c * (decay(a) - ec) / (c - a))
 
 
 @dataclass(frozen=True)
@@ -190,12 +188,17 @@ def newton_fit(
     p0 = np.clip(p0, np.array(lower) + 1e-12, np.array(upper) - 1e-12)
     try:
         res = least_squares(
-            lambda p: newton_model(p, tt) - yy, p0, bounds=(lower, upper), x_scale="jac",
-            max_nfev=400, tr_solver="lsmr",
+            lambda p: newton_model(p, tt) - yy,
+            p0,
+            bounds=(lower, upper),
+            x_scale="jac",
+            max_nfev=400,
+            tr_solver="lsmr",
         )
     except (ValueError, np.linalg.LinAlgError):
-        return NewtonFit(math.nan, math.nan, math.nan, math.nan, math.nan, math.nan,
-                         math.inf, math.inf, False)
+        return NewtonFit(
+            math.nan, math.nan, math.nan, math.nan, math.nan, math.nan, math.inf, math.inf, False
+        )
     r = res.fun
     dof = max(r.size - 7, 1)
     s2 = float(r @ r) / dof
@@ -209,6 +212,13 @@ def newton_fit(
         pass
     p = res.x
     return NewtonFit(
-        float(p[3]), u, float(p[2]), float(p[4]), float(p[5]), float(p[6]),
-        float(math.sqrt(s2)), rms_main, bool(res.success),
+        float(p[3]),
+        u,
+        float(p[2]),
+        float(p[4]),
+        float(p[5]),
+        float(p[6]),
+        float(math.sqrt(s2)),
+        rms_main,
+        bool(res.success),
     )

@@ -147,8 +147,10 @@ class DriftFit:
         cov = self.covariance()
         grad = np.zeros(4)
         for i in range(4):
-            h = step_scale * math.sqrt(cov[i, i]) if cov[i, i] > 0 else 1e-9 * max(
-                abs(self.params[i]), 1e-6
+            h = (
+                step_scale * math.sqrt(cov[i, i])
+                if cov[i, i] > 0
+                else 1e-9 * max(abs(self.params[i]), 1e-6)
             )
             p_hi = self.params.copy()
             p_lo = self.params.copy()
@@ -177,7 +179,11 @@ class DriftFit:
             "u_k_per_s": u_k,
             "T_inf_C": t_inf,
             "u_T_inf_C": u_t,
-            "fore": {"t_ref_s": self.t_f, "T_ref_C": self.params[0], "rate_K_per_s": self.params[2]},
+            "fore": {
+                "t_ref_s": self.t_f,
+                "T_ref_C": self.params[0],
+                "rate_K_per_s": self.params[2],
+            },
             "after": {"t_ref_s": self.t_a, "T_ref_C": self.params[1], "rate_K_per_s": self.s_a},
             "aic": self.aic,
             "noise_fore_K": self.sigma_fore,
@@ -250,8 +256,14 @@ def _fit(model: str, ft, fy, at, ay) -> DriftFit:
         i = int(np.argmin(vals))
         lo, hi = grid[max(i - 1, 0)], grid[min(i + 1, grid.size - 1)]
         if hi > lo:
-            k = float(minimize_scalar(rss_of, bounds=(lo, hi), method="bounded",
-                                      options={"xatol": 1e-12 + 1e-9 * abs(grid[i])}).x)
+            k = float(
+                minimize_scalar(
+                    rss_of,
+                    bounds=(lo, hi),
+                    method="bounded",
+                    options={"xatol": 1e-12 + 1e-9 * abs(grid[i])},
+                ).x
+            )
             if rss_of(k) > vals[i]:
                 k = float(grid[i])
         else:
@@ -261,7 +273,10 @@ def _fit(model: str, ft, fy, at, ay) -> DriftFit:
         # full Jacobian including the k column (numerical)
         base = _design(model, k, ft, at, t_f, t_a)
         h = 1e-6 * max(abs(k), 1.0 / span)
-        dk = (_design(model, k + h, ft, at, t_f, t_a) @ p3 - _design(model, k - h, ft, at, t_f, t_a) @ p3) / (2 * h)
+        dk = (
+            _design(model, k + h, ft, at, t_f, t_a) @ p3
+            - _design(model, k - h, ft, at, t_f, t_a) @ p3
+        ) / (2 * h)
         jac = np.column_stack([base, dk])
     jtj = jac.T @ jac
     try:
@@ -302,13 +317,10 @@ def fit_drift(
     if model == "auto":
         pick_linear = lin.aic < newt.aic - AIC_MARGIN
         chosen = lin if pick_linear else newt
-        why = (
-            f"AIC newtonian {newt.aic:.1f} vs linear {lin.aic:.1f}: "
-            + (
-                "straight lines fit clearly better, the drift is not Newtonian; linear"
-                if pick_linear
-                else "Newton's law is not contradicted by the data; newtonian"
-            )
+        why = f"AIC newtonian {newt.aic:.1f} vs linear {lin.aic:.1f}: " + (
+            "straight lines fit clearly better, the drift is not Newtonian; linear"
+            if pick_linear
+            else "Newton's law is not contradicted by the data; newtonian"
         )
     else:
         chosen = lin if model == "linear" else newt

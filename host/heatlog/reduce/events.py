@@ -159,8 +159,11 @@ def detect_events(
     # runs of constant non-zero sign
     change = np.flatnonzero(np.diff(sign) != 0) + 1
     bounds = np.concatenate([[0], change, [sign.size]])
-    runs = [(int(a), int(b), int(sign[a])) for a, b in zip(bounds[:-1], bounds[1:], strict=True)
-            if sign[a] != 0]
+    runs = [
+        (int(a), int(b), int(sign[a]))
+        for a, b in zip(bounds[:-1], bounds[1:], strict=True)
+        if sign[a] != 0
+    ]
     merged: list[list[int]] = []
     gap = max(1, int(round(w / h)))
     for a, b, s in runs:

@@ -237,11 +237,17 @@ def reduce_thermogram(
     lo = before[-1].after_start_s if before else float(t[0])
     hi = after[0].start_s if after else float(t[-1])
     _period_check(
-        t, lo, t0, "fore-period",
+        t,
+        lo,
+        t0,
+        "fore-period",
         "start logging earlier before the event, or give --event-start",
     )
     _period_check(
-        t, ta, hi, "after-period",
+        t,
+        ta,
+        hi,
+        "after-period",
         "keep logging longer after the event (until the drift is steady again), "
         "or give --after-start",
     )
@@ -253,7 +259,11 @@ def reduce_thermogram(
     tau = ev.tail_s if ev is not None else 60.0
     onset = ev.onset_s if ev is not None else t0
     newton = newton_fit(
-        t, y, fit, t0, ta,
+        t,
+        y,
+        fit,
+        t0,
+        ta,
         guess_delta=base.values["regnault-pfaundler"],
         guess_start=max(t0, onset - 2 * rr.step_s),
         guess_tau=tau,
@@ -267,14 +277,22 @@ def reduce_thermogram(
     values = dict(base.values)
     values["newton"] = newton.delta_t_K
     methods = {
-        "regnault-pfaundler": MethodResult("regnault-pfaundler", values["regnault-pfaundler"], True,
-                                           "ISO 1928 Annex C form"),
-        "dickinson": MethodResult("dickinson", values["dickinson"], True,
-                                  "equal-area extrapolation time"),
-        "dickinson-60": MethodResult("dickinson-60", values["dickinson-60"], True,
-                                     "60 % rule, ASTM D240/D5865; approximation, not in the spread"),
+        "regnault-pfaundler": MethodResult(
+            "regnault-pfaundler", values["regnault-pfaundler"], True, "ISO 1928 Annex C form"
+        ),
+        "dickinson": MethodResult(
+            "dickinson", values["dickinson"], True, "equal-area extrapolation time"
+        ),
+        "dickinson-60": MethodResult(
+            "dickinson-60",
+            values["dickinson-60"],
+            True,
+            "60 % rule, ASTM D240/D5865; approximation, not in the spread",
+        ),
         "newton": MethodResult(
-            "newton", values["newton"], newton_ok,
+            "newton",
+            values["newton"],
+            newton_ok,
             f"main-period RMS residual {newton.rms_main_K:.3g} K vs noise {ref_noise:.3g} K",
         ),
     }
@@ -290,8 +308,16 @@ def reduce_thermogram(
     def parts(name: str) -> tuple[float, float, float, list[Component]]:
         """Fore, after and main-noise uncertainty and extra components of one method."""
         if name == "newton":
-            comp = Component("Newton-model fit", values["newton"], newton.u_delta_t_K, 1.0, "K",
-                             max(fit.n - 7, 1), "A", "covariance of the whole-curve fit")
+            comp = Component(
+                "Newton-model fit",
+                values["newton"],
+                newton.u_delta_t_K,
+                1.0,
+                "K",
+                max(fit.n - 7, 1),
+                "A",
+                "covariance of the whole-curve fit",
+            )
             return 0.0, 0.0, 0.0, [comp]
         u_f, u_a, _ = fit.u_of(funcs[name])
         sigma_main = max(fit.sigma_fore, fit.sigma_after)
@@ -334,13 +360,10 @@ def reduce_thermogram(
             )
         else:
             chosen = "regnault-pfaundler"
-            reason = (
-                "Regnault–Pfaundler needs only Newtonian exchange; "
-                + (
-                    f"it is at least as precise as the Newton fit (u {u_rp:.2g} K vs {u_nt:.2g} K)"
-                    if newton_ok
-                    else "the Newton-model fit does not match the main period within the noise"
-                )
+            reason = "Regnault–Pfaundler needs only Newtonian exchange; " + (
+                f"it is at least as precise as the Newton fit (u {u_rp:.2g} K vs {u_nt:.2g} K)"
+                if newton_ok
+                else "the Newton-model fit does not match the main period within the noise"
             )
     else:
         chosen = method
