@@ -70,14 +70,19 @@ def read_columns(
             raise InputError(f"{where}: cannot read ({exc.strerror})") from None
 
     # Skip leading comment lines so the header is the first data-bearing line.
-    lines = text.splitlines()
-    start = 0
-    while start < len(lines) and (
-        not lines[start].strip() or lines[start].lstrip().startswith("#")
-    ):
-        start += 1
-    body = "\n".join(lines[start:])
-    names, delimiter = _read_header(body, where)
+    # (scanned line by line from the top, so a long file is not split and joined again)
+    pos = 0
+    while pos < len(text):
+        end = text.find("\n", pos)
+        end = len(text) if end < 0 else end
+        line = text[pos:end]
+        if line.strip() and not line.lstrip().startswith("#"):
+            break
+        pos = end + 1
+    body = text[pos:]
+    if "\r" in body[:4096]:
+        body = body.replace("\r\n", "\n").replace("\r", "\n")
+    names, delimiter = _read_header(body[:65536], where)
     lookup = {name.lower(): i for i, name in enumerate(names)}
 
     missing = [c for c in columns if c.lower() not in lookup]
