@@ -247,9 +247,16 @@ def _fit(model: str, ft, fy, at, ay) -> DriftFit:
         kmax = 20.0 / span
 
         def rss_of(k: float) -> float:
-            return _solve(_design(model, k, ft, at, t_f, t_a), y)[1]
+            # normal equations: a 3x3 solve per trial k (the final fit uses lstsq)
+            j = _design(model, k, ft, at, t_f, t_a)
+            try:
+                p = np.linalg.solve(j.T @ j, j.T @ y)
+            except np.linalg.LinAlgError:
+                return _solve(j, y)[1]
+            r = y - j @ p
+            return float(r @ r)
 
-        grid = np.concatenate([[-0.5 / span, 0.0], np.geomspace(1e-3 / span, kmax, 40)])
+        grid = np.concatenate([[-0.5 / span, 0.0], np.geomspace(1e-3 / span, kmax, 25)])
         if math.isfinite(k0) and -0.5 / span < k0 < kmax:
             grid = np.sort(np.append(grid, k0))
         vals = np.array([rss_of(k) for k in grid])
