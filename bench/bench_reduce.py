@@ -22,7 +22,7 @@ from heatlog.reduce.synthetic import Release, synthetic_run  # noqa: E402
 from heatlog.thermogram import read_thermogram_csv  # noqa: E402
 
 
-def best_of(func, repeats: int = 3) -> float:
+def best_of(func, repeats: int = 5) -> float:
     times = []
     for _ in range(repeats):
         start = time.perf_counter()
