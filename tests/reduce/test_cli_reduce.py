@@ -19,21 +19,8 @@ def _csv(tmp_path, run, name="run.csv"):
     return p
 
 
-@pytest.fixture(scope="module")
-def two_events():
-    return synthetic_run(
-        releases=(Release(400.0, 3.0, 60.0, "heater"), Release(1800.0, -4.0, 20.0)),
-        duration_s=3300.0,
-        dt_s=2.0,
-        k_per_s=3e-4,
-        probe_lag_s=3.0,
-        noise_K=0.01,
-        seed=2,
-    )
-
-
-def test_json_has_the_contract_keys(tmp_path, two_events):
-    p = _csv(tmp_path, two_events)
+def test_json_has_the_contract_keys(tmp_path, heater_then_reaction):
+    p = _csv(tmp_path, heater_then_reaction)
     r = CliRunner().invoke(main, ["reduce", str(p), "--event", "1", "--json"])
     assert r.exit_code == 0, r.output
     d = json.loads(r.output)
@@ -58,8 +45,8 @@ def test_json_has_the_contract_keys(tmp_path, two_events):
     assert d["budget"]["components"][0]["name"] == "fore-period drift fit"
 
 
-def test_text_summary_and_options(tmp_path, two_events):
-    p = _csv(tmp_path, two_events)
+def test_text_summary_and_options(tmp_path, heater_then_reaction):
+    p = _csv(tmp_path, heater_then_reaction)
     r = CliRunner().invoke(
         main,
         [

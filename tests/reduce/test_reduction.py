@@ -79,16 +79,8 @@ def test_falling_event_is_signed():
     assert red.naive_delta_t_K < 0
 
 
-def test_select_second_event_and_manual_override():
-    run = synthetic_run(
-        releases=(Release(400.0, 3.0, 60.0, "heater"), Release(1800.0, -4.0, 20.0)),
-        duration_s=3300.0,
-        dt_s=1.0,
-        k_per_s=3e-4,
-        probe_lag_s=3.0,
-        noise_K=0.01,
-        seed=2,
-    )
+def test_select_second_event_and_manual_override(heater_then_reaction):
+    run = heater_then_reaction
     first = reduce_thermogram(run.thermogram, event_index=0)
     second = reduce_thermogram(run.thermogram, event_index=1)
     assert len(second.events) == 2
