@@ -28,7 +28,7 @@ from heatlog.reduce.drift import DriftFit, _expo
 from heatlog.reduce.sampling import block_means
 
 METHODS = ("regnault-pfaundler", "dickinson", "dickinson-60", "newton")
-_NEWTON_PERIOD_POINTS = 400
+_NEWTON_PERIOD_POINTS = 250
 
 
 @dataclass(frozen=True)

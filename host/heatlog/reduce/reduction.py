@@ -391,11 +391,10 @@ def reduce_thermogram(
     )
 
     # naive: extreme reading after the start minus the reading at the start
-    i0 = int(np.argmin(np.abs(t_raw - t0)))
-    window = (t_raw >= t0) & (t_raw <= hi)
-    direction = 1.0 if value >= 0 else -1.0
-    extreme = y_raw[window].max() if direction > 0 else y_raw[window].min()
-    naive = float(extreme - y_raw[i0])
+    i0 = min(int(np.searchsorted(t_raw, t0)), t_raw.size - 1)
+    i1 = max(int(np.searchsorted(t_raw, hi, side="right")), i0 + 1)
+    window = y_raw[i0:i1]
+    naive = float((window.max() if value >= 0 else window.min()) - y_raw[i0])
 
     if fit.model == "newtonian" and fit.k_per_s < 0:
         notes.append("fitted exchange constant is negative: the drift is not Newtonian")
