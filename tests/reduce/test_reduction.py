@@ -95,9 +95,9 @@ def test_select_second_event_and_manual_override(heater_then_reaction):
 
 def test_budget_components_and_dict():
     run = _clean(noise_K=0.01, resolution_K=0.02, seed=1)
-    red = reduce_thermogram(run.thermogram)
+    red = reduce_thermogram(run.thermogram, method="regnault-pfaundler")
     names = [c.name for c in red.budget.components]
-    assert names[:6] == [
+    assert names == [
         "fore-period drift fit",
         "after-period drift fit",
         "main-period reading noise",
@@ -112,6 +112,10 @@ def test_budget_components_and_dict():
     assert set(d["methods"]) == {"regnault-pfaundler", "dickinson", "dickinson-60", "newton"}
     assert d["drift"]["model"] in ("linear", "newtonian")
     assert math.isfinite(d["drift"]["k_per_s"])
+    # a whole-curve fit replaces the drift and main-period rows by its own covariance
+    newton = reduce_thermogram(run.thermogram, method="newton")
+    names = [c.name for c in newton.budget.components]
+    assert names == ["resolution", "period boundaries", "method spread", "Newton-model fit"]
 
 
 @pytest.mark.parametrize(

@@ -301,7 +301,7 @@ def reduce_thermogram(
         if name == "newton":
             comp = Component(
                 "Newton-model fit",
-                values["newton"],
+                0.0,
                 newton.u_delta_t_K,
                 1.0,
                 "K",

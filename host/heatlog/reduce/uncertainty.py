@@ -43,63 +43,45 @@ def delta_t_budget(
     method: str,
     extra: Sequence[Component] = (),
 ) -> Budget:
-    comps = [
-        Component(
+    def row(name: str, u: float, dof: float, evaluation: str, note: str) -> Component:
+        return Component(name, 0.0, u, 1.0, "K", dof, evaluation, note)
+
+    drift_rows = [
+        row(
             "fore-period drift fit",
-            0.0,
             u_fore,
-            1.0,
-            "K",
             dof_fore,
             "A",
             "fore-period readings through the drift fit",
         ),
-        Component(
+        row(
             "after-period drift fit",
-            0.0,
             u_after,
-            1.0,
-            "K",
             dof_after,
             "A",
             "after-period readings through the drift fit",
         ),
-        Component(
-            "main-period reading noise",
-            0.0,
-            u_noise,
-            1.0,
-            "K",
-            math.inf,
-            "A",
-            "k·σ·√Σw² of the exchange integral",
+        row(
+            "main-period reading noise", u_noise, math.inf, "A", "k·σ·√Σw² of the exchange integral"
         ),
-        Component(
-            "resolution",
-            0.0,
-            u_resolution,
-            1.0,
-            "K",
-            math.inf,
-            "B",
-            "√2·q/√12 at the two ends (JCGM 100 F.2.2.1)",
+    ]
+    if extra:  # a whole-curve fit already holds the drift periods and the main-period noise
+        drift_rows = []
+    comps = [
+        *drift_rows,
+        row(
+            "resolution", u_resolution, math.inf, "B", "√2·q/√12 at the two ends (JCGM 100 F.2.2.1)"
         ),
-        Component(
+        row(
             "period boundaries",
-            0.0,
             boundary_spread / SQRT3,
-            1.0,
-            "K",
             math.inf,
             "B",
             "largest change with moved boundaries, rectangular",
         ),
-        Component(
+        row(
             "method spread",
-            0.0,
             method_spread / SQRT3,
-            1.0,
-            "K",
             math.inf,
             "B",
             "largest difference to other applicable methods, rectangular",
