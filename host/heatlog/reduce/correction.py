@@ -24,7 +24,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.optimize import least_squares
 
-from heatlog.reduce.drift import DriftFit, _expo
+from heatlog.reduce.drift import DriftFit, _expo, residual_sigma
 from heatlog.reduce.sampling import block_means
 
 METHODS = ("regnault-pfaundler", "dickinson", "dickinson-60", "newton")
@@ -209,8 +209,8 @@ def newton_fit(
             math.nan, math.nan, math.nan, math.nan, math.nan, math.nan, math.inf, math.inf, False
         )
     r = res.fun
-    dof = max(r.size - 7, 1)
-    s2 = float(r @ r) / dof
+    # residual variance per reading, inflated for lag-1 autocorrelation as in the drift fits
+    s2 = residual_sigma(r, max(r.size - 7, 1)) ** 2
     main = (tt > t0) & (tt < tn)
     rms_main = float(np.sqrt(np.mean(r[main] ** 2))) if main.any() else math.inf
     u = math.nan

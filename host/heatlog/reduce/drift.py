@@ -191,7 +191,7 @@ class DriftFit:
         }
 
 
-def _period_sigma(res: np.ndarray, dof: float) -> float:
+def residual_sigma(res: np.ndarray, dof: float) -> float:
     """Residual standard deviation inflated for lag-1 autocorrelation (effective sample size)."""
     n = res.size
     s2 = float(np.sum(res**2)) / max(dof, 1.0)
@@ -295,8 +295,8 @@ def _fit(model: str, ft, fy, at, ay) -> DriftFit:
         ) from None
     fit_y = jac[:, :3] @ params[:3] if model == "newtonian" else jac @ params
     res = y - fit_y
-    sf = _period_sigma(res[:nf], nf - 2)
-    sa = _period_sigma(res[nf:], y.size - nf - 2)
+    sf = residual_sigma(res[:nf], nf - 2)
+    sa = residual_sigma(res[nf:], y.size - nf - 2)
     sigma = np.concatenate([np.full(nf, sf), np.full(y.size - nf, sa)])
     return DriftFit(model, params, t_f, t_a, ft, fy, at, ay, gain, sigma, rss)
 
