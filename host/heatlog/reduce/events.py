@@ -10,7 +10,8 @@ Criterion (stated, our own design):
    log, keeping the start that ends with the most quiet points) and take
    the residual r(t) = dT/dt − g(T).
 3. An event is a run of |r| > 5σ_r (σ_r: 1.4826·MAD of r on the quiet points, at least 10⁻⁵ of the
-   largest |dT/dt| so noise-free logs do not turn rounding into events); runs of the same
+   largest |dT/dt| and q/W for a reading step q, so noise-free or coarsely rounded logs do not
+   turn rounding into events); runs of the same
    sign closer than W are merged; runs whose size ∫r dt is below 10× the reading noise, 5
    resolution steps or 0.1 mK are dropped.
 4. Event start: walk back from the first crossing of 5σ_r to where |r| falls below σ_r, then a further
@@ -110,7 +111,8 @@ def _quiet_line(
         x, z = ys[mask], d[mask]
         xc = x - x.mean()
         sxx = float(xc @ xc)
-        b = float(xc @ (z - z.mean())) / sxx if sxx > 0 else 0.0
+        # a temperature span below a microkelvin carries no slope (flat or rounded readings)
+        b = float(xc @ (z - z.mean())) / sxx if np.ptp(x) > 1e-6 else 0.0
         r = d - (z.mean() + b * (ys - x.mean()))
         sigma = float(1.4826 * np.median(np.abs(r[mask] - np.median(r[mask]))))
         new = np.abs(r) < 4 * max(sigma, floor)
@@ -120,7 +122,7 @@ def _quiet_line(
     return r, sigma, mask
 
 
-def rate_residual(t: np.ndarray, y: np.ndarray) -> RateResidual:
+def rate_residual(t: np.ndarray, y: np.ndarray, resolution_K: float = 0.0) -> RateResidual:
     h = float(np.median(np.diff(t)))
     grid = np.arange(t[0], t[-1] + 1e-9 * h, h)
     yg = np.interp(grid, t, y)
@@ -132,7 +134,9 @@ def rate_residual(t: np.ndarray, y: np.ndarray) -> RateResidual:
         win = n if n % 2 == 1 else n - 1
     d = savgol_filter(yg, win, 2, deriv=1, delta=h, mode="interp")
     ys = savgol_filter(yg, win, 2, mode="interp")
-    floor = 1e-12 + 1e-5 * float(np.max(np.abs(d)))
+    # no finer rate is real: 1e-5 of the largest, and a reading step q moves the slope over the
+    # window by about q/W
+    floor = max(1e-12 + 1e-5 * float(np.max(np.abs(d))), resolution_K / (win * h))
     best: tuple[int, float, np.ndarray] | None = None
     for mask in _starting_masks(n):
         r, sigma, mask = _quiet_line(ys, d, mask, floor)
@@ -149,7 +153,7 @@ def detect_events(
     t: np.ndarray, y: np.ndarray, *, noise_K: float | None = None, resolution_K: float = 0.0
 ) -> tuple[tuple[Event, ...], RateResidual]:
     """All events in a thermogram, in time order, by the criterion in the module docstring."""
-    rr = rate_residual(t, y)
+    rr = rate_residual(t, y, resolution_K)
     grid, r, sig, h, w = rr.grid_s, rr.residual_K_per_s, rr.sigma_K_per_s, rr.step_s, rr.window_s
     thr = THRESHOLD_SIGMA * sig
     above = np.abs(r) > thr

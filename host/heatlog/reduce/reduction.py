@@ -294,7 +294,11 @@ def reduce_thermogram(
         "dickinson": lambda f: dickinson(main_period(t, y, f, t0, ta), f)[0],
         "dickinson-60": lambda f: dickinson_60(main_period(t, y, f, t0, ta), f)[0],
     }
-    u_res = resolution_u(q, noise)
+    levels = [
+        int(np.unique(y[(t >= lo) & (t <= t0)]).size),
+        int(np.unique(y[(t >= ta) & (t <= hi)]).size),
+    ]
+    u_res = resolution_u(q, noise, levels)
 
     def parts(name: str) -> tuple[float, float, float, list[Component]]:
         """Fore, after and main-noise uncertainty and extra components of one method."""

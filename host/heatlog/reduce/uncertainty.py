@@ -6,8 +6,10 @@ Components, all in kelvin with sensitivity 1 (each is already the effect on the 
   the drift fit into the result (sandwich form, see ``drift``), Type A;
 * reading noise in the main period: the noise of the readings between t₀ and tₙ enters
   Regnault–Pfaundler through k·∫T dt, so u = |k|·σ·√Σwᵢ² (trapezoid weights wᵢ), Type A;
-* resolution: the two end temperatures are each known to a quantisation step q, u = √2·q/√12
-  (JCGM 100 F.2.2.1), Type B; only when the readings are not dithered by noise larger than q;
+* resolution: an end temperature whose period shows fewer than 3 distinct readings is known only to
+  a quantisation step q, u = q/√12 per such end (JCGM 100 F.2.2.1), Type B. Where noise larger
+  than q dithers the readings, or the drift carries them across several steps, the rounding error
+  shows in the fit residuals and so is already in the drift-fit components;
 * period boundaries: largest change of the result when the main-period start is moved earlier and
   the after-period start later (see ``reduce_thermogram``), as a rectangular half-width (a/√3);
 * method spread: largest difference between the chosen result and the other exact methods that
@@ -22,11 +24,12 @@ from collections.abc import Sequence
 from heatlog.gum import SQRT3, Budget, Component, quantisation
 
 
-def resolution_u(step_K: float, noise_K: float) -> float:
-    """√2·q/√12 for the two ends, dropped when noise > q already dithers the readings."""
+def resolution_u(step_K: float, noise_K: float, distinct_levels: Sequence[int]) -> float:
+    """q/√12 for each end whose period holds fewer than 3 distinct readings (see module doc)."""
     if step_K <= 0 or noise_K > step_K:
         return 0.0
-    return math.sqrt(2.0) * quantisation(step_K)
+    flat_ends = sum(1 for n in distinct_levels if n < 3)
+    return math.sqrt(flat_ends) * quantisation(step_K)
 
 
 def delta_t_budget(
@@ -69,9 +72,7 @@ def delta_t_budget(
         drift_rows = []
     comps = [
         *drift_rows,
-        row(
-            "resolution", u_resolution, math.inf, "B", "√2·q/√12 at the two ends (JCGM 100 F.2.2.1)"
-        ),
+        row("resolution", u_resolution, math.inf, "B", "q/√12 per flat end (JCGM 100 F.2.2.1)"),
         row(
             "period boundaries",
             boundary_spread / SQRT3,
