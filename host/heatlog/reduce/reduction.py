@@ -143,9 +143,12 @@ def _period_check(t: np.ndarray, lo: float, hi: float, what: str, advice: str) -
     n = int(np.count_nonzero((t >= lo) & (t <= hi)))
     length = hi - lo
     if length < MIN_PERIOD_S or n < MIN_PERIOD_POINTS:
+        span = (
+            f"{lo:.0f} s to {hi:.0f} s" if hi > lo else f"would run from {lo:.0f} s to {hi:.0f} s"
+        )
         raise ReductionError(
-            f"the {what} lasts {max(length, 0):.0f} s with {n} readings; it needs at least "
-            f"{MIN_PERIOD_S:.0f} s and {MIN_PERIOD_POINTS} readings: {advice}"
+            f"the {what} ({span}) lasts {max(length, 0):.0f} s with {n} readings; it needs at "
+            f"least {MIN_PERIOD_S:.0f} s and {MIN_PERIOD_POINTS} readings: {advice}"
         )
 
 
