@@ -22,13 +22,15 @@ from heatlog.reduce.synthetic import Release, synthetic_run  # noqa: E402
 from heatlog.thermogram import read_thermogram_csv  # noqa: E402
 
 
-def best_of(func, repeats: int = 3) -> float:
-    times = []
+def interleaved_best(funcs, repeats: int = 7) -> list[float]:
+    """Best time of each function, run in turn so that machine load hits both alike."""
+    best = [float("inf")] * len(funcs)
     for _ in range(repeats):
-        start = time.perf_counter()
-        func()
-        times.append(time.perf_counter() - start)
-    return min(times)
+        for i, func in enumerate(funcs):
+            start = time.perf_counter()
+            func()
+            best[i] = min(best[i], time.perf_counter() - start)
+    return best
 
 
 def main() -> None:
@@ -48,13 +50,15 @@ def main() -> None:
         path = Path(folder) / "run.csv"
         data = np.column_stack([run.thermogram.time_s, run.thermogram.temp_C])
         np.savetxt(path, data, delimiter=",", fmt="%.6f", header="time_s,temp_C", comments="")
-        base = best_of(lambda: np.loadtxt(path, delimiter=",", skiprows=1))
         result = {}
+
+        def baseline() -> None:
+            np.loadtxt(path, delimiter=",", skiprows=1)
 
         def full() -> None:
             result["r"] = reduce_thermogram(read_thermogram_csv(path))
 
-        ours = best_of(full)
+        base, ours = interleaved_best([baseline, full])
     red = result["r"]
     print(f"rows: {rows}")
     print(f"numpy.loadtxt alone:                      {base:.3f} s")

@@ -20,6 +20,9 @@ from heatlog.errors import InputError
 
 Source = str | os.PathLike[str] | io.TextIOBase
 
+# Characters decoded up front to find comments and the header; longer files are parsed from disk.
+_HEAD_CHARS = 1 << 16
+
 
 def _read_header(text_head: str, where: str) -> tuple[list[str], str]:
     first = text_head.splitlines()[0] if text_head.strip() else ""
@@ -52,6 +55,8 @@ def read_columns(
     Raises :class:`InputError` (one line, says what to fix) for a missing file, an empty file,
     missing columns, non-numeric or empty cells, NaN/inf values and fewer than ``min_rows`` rows.
     """
+    path: Path | None = None
+    rest_on_disk = False
     if isinstance(source, io.TextIOBase):
         text = source.read()
         where = getattr(source, "name", what)
@@ -59,7 +64,11 @@ def read_columns(
         path = Path(source)
         where = str(path)
         try:
-            text = path.read_text(encoding="utf-8-sig")
+            with path.open(encoding="utf-8-sig") as handle:
+                text = handle.read(_HEAD_CHARS)
+                # Long files: only the head is decoded here; numpy.loadtxt reads the rows from
+                # the file itself below (twice as fast as from an in-memory string).
+                rest_on_disk = len(text) == _HEAD_CHARS
         except FileNotFoundError:
             raise InputError(f"{where}: no such file") from None
         except IsADirectoryError:
@@ -70,14 +79,30 @@ def read_columns(
             raise InputError(f"{where}: cannot read ({exc.strerror})") from None
 
     # Skip leading comment lines so the header is the first data-bearing line.
-    lines = text.splitlines()
-    start = 0
-    while start < len(lines) and (
-        not lines[start].strip() or lines[start].lstrip().startswith("#")
-    ):
-        start += 1
-    body = "\n".join(lines[start:])
-    names, delimiter = _read_header(body, where)
+    # (scanned line by line from the top, so a long file is not split and joined again)
+    pos = 0
+    while pos < len(text):
+        end = text.find("\n", pos)
+        end = len(text) if end < 0 else end
+        line = text[pos:end]
+        if line.strip() and not line.lstrip().startswith("#"):
+            break
+        pos = end + 1
+    if rest_on_disk and (pos >= len(text) or "\n" not in text[pos:] or "\r" in text):
+        # header not within the head, or old Mac line ends: decode the whole file as before
+        rest_on_disk = False
+        assert path is not None
+        try:
+            text = path.read_text(encoding="utf-8-sig")
+        except UnicodeDecodeError:
+            raise InputError(f"{where}: not a UTF-8 text file") from None
+        return read_columns(
+            io.StringIO(text), columns, optional=optional, min_rows=min_rows, what=where
+        )
+    body = text[pos:]
+    if "\r" in body[:4096]:
+        body = body.replace("\r\n", "\n").replace("\r", "\n")
+    names, delimiter = _read_header(body[:65536], where)
     lookup = {name.lower(): i for i, name in enumerate(names)}
 
     missing = [c for c in columns if c.lower() not in lookup]
@@ -90,17 +115,27 @@ def read_columns(
     idx = [lookup[c.lower()] for c in wanted]
 
     data_text = body.split("\n", 1)[1] if "\n" in body else ""
-    if not data_text.strip():
+    if not rest_on_disk and not data_text.strip():
         raise InputError(f"{where}: the header has no data rows below it")
+    rows: io.StringIO | Path = io.StringIO(data_text)
+    skip = 0
+    if rest_on_disk:
+        assert path is not None
+        rows = path
+        skip = text.count("\n", 0, pos) + 1  # comment lines and the header
     try:
         arr = np.loadtxt(
-            io.StringIO(data_text),
+            rows,
+            skiprows=skip,
+            encoding="utf-8-sig",
             delimiter=delimiter,
             usecols=idx,
             comments="#",
             dtype=np.float64,
             ndmin=2,
         )
+    except UnicodeDecodeError:
+        raise InputError(f"{where}: not a UTF-8 text file") from None
     except ValueError as exc:
         msg = str(exc).splitlines()[0]
         # loadtxt counts rows from the start of the data; add the header and skipped lines.

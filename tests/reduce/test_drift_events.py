@@ -81,16 +81,8 @@ def test_detects_rising_and_falling_events_under_noise_and_lag(sign):
     assert ev.size_K == pytest.approx(sign * 2.0, rel=0.2)
 
 
-def test_two_events_heater_then_reaction_are_listed_in_order():
-    run = synthetic_run(
-        releases=(Release(400.0, 3.0, 60.0, "heater"), Release(1800.0, -4.0, 20.0)),
-        duration_s=3300.0,
-        dt_s=1.0,
-        k_per_s=3e-4,
-        probe_lag_s=3.0,
-        noise_K=0.01,
-        seed=2,
-    )
+def test_two_events_heater_then_reaction_are_listed_in_order(heater_then_reaction):
+    run = heater_then_reaction
     events, _ = detect_events(run.thermogram.time_s, run.thermogram.temp_C)
     assert [e.direction for e in events] == [1, -1]
     assert events[0].start_s < 400.0 < events[0].after_start_s < events[1].start_s < 1800.0

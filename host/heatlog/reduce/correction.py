@@ -24,9 +24,11 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.optimize import least_squares
 
-from heatlog.reduce.drift import DriftFit, _expo
+from heatlog.reduce.drift import DriftFit, _expo, residual_sigma
+from heatlog.reduce.sampling import block_means
 
 METHODS = ("regnault-pfaundler", "dickinson", "dickinson-60", "newton")
+_NEWTON_PERIOD_POINTS = 250
 
 
 @dataclass(frozen=True)
@@ -167,8 +169,15 @@ def newton_fit(
     guess_tau: float,
 ) -> NewtonFit:
     lo_t, hi_t = float(fit.fore_t[0]), float(fit.after_t[-1])
-    sel = (t >= lo_t) & (t <= hi_t)
-    tt, yy = t[sel], y[sel]
+    # drift periods thinned to block means (weighted by √block so every residual has the
+    # variance of one reading), main period kept at full resolution
+    masks = ((t >= lo_t) & (t <= t0), (t > t0) & (t < tn), (t >= tn) & (t <= hi_t))
+    parts = [
+        block_means(t[m], y[m], _NEWTON_PERIOD_POINTS if i != 1 else 0) for i, m in enumerate(masks)
+    ]
+    tt = np.concatenate([p[0] for p in parts])
+    yy = np.concatenate([p[1] for p in parts])
+    ww = np.concatenate([np.full(p[0].size, math.sqrt(p[2])) for p in parts])
     k0 = fit.k_per_s if math.isfinite(fit.k_per_s) else 0.0
     ts0 = min(max(guess_start, t0), tn)
     p0 = np.array(
@@ -188,7 +197,7 @@ def newton_fit(
     p0 = np.clip(p0, np.array(lower) + 1e-12, np.array(upper) - 1e-12)
     try:
         res = least_squares(
-            lambda p: newton_model(p, tt) - yy,
+            lambda p: ww * (newton_model(p, tt) - yy),
             p0,
             bounds=(lower, upper),
             x_scale="jac",
@@ -200,8 +209,8 @@ def newton_fit(
             math.nan, math.nan, math.nan, math.nan, math.nan, math.nan, math.inf, math.inf, False
         )
     r = res.fun
-    dof = max(r.size - 7, 1)
-    s2 = float(r @ r) / dof
+    # residual variance per reading, inflated for lag-1 autocorrelation as in the drift fits
+    s2 = residual_sigma(r, max(r.size - 7, 1)) ** 2
     main = (tt > t0) & (tt < tn)
     rms_main = float(np.sqrt(np.mean(r[main] ** 2))) if main.any() else math.inf
     u = math.nan

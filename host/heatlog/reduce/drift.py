@@ -191,7 +191,7 @@ class DriftFit:
         }
 
 
-def _period_sigma(res: np.ndarray, dof: float) -> float:
+def residual_sigma(res: np.ndarray, dof: float) -> float:
     """Residual standard deviation inflated for lag-1 autocorrelation (effective sample size)."""
     n = res.size
     s2 = float(np.sum(res**2)) / max(dof, 1.0)
@@ -247,9 +247,16 @@ def _fit(model: str, ft, fy, at, ay) -> DriftFit:
         kmax = 20.0 / span
 
         def rss_of(k: float) -> float:
-            return _solve(_design(model, k, ft, at, t_f, t_a), y)[1]
+            # normal equations: a 3x3 solve per trial k (the final fit uses lstsq)
+            j = _design(model, k, ft, at, t_f, t_a)
+            try:
+                p = np.linalg.solve(j.T @ j, j.T @ y)
+            except np.linalg.LinAlgError:
+                return _solve(j, y)[1]
+            r = y - j @ p
+            return float(r @ r)
 
-        grid = np.concatenate([[-0.5 / span, 0.0], np.geomspace(1e-3 / span, kmax, 40)])
+        grid = np.concatenate([[-0.5 / span, 0.0], np.geomspace(1e-3 / span, kmax, 25)])
         if math.isfinite(k0) and -0.5 / span < k0 < kmax:
             grid = np.sort(np.append(grid, k0))
         vals = np.array([rss_of(k) for k in grid])
@@ -288,8 +295,8 @@ def _fit(model: str, ft, fy, at, ay) -> DriftFit:
         ) from None
     fit_y = jac[:, :3] @ params[:3] if model == "newtonian" else jac @ params
     res = y - fit_y
-    sf = _period_sigma(res[:nf], nf - 2)
-    sa = _period_sigma(res[nf:], y.size - nf - 2)
+    sf = residual_sigma(res[:nf], nf - 2)
+    sa = residual_sigma(res[nf:], y.size - nf - 2)
     sigma = np.concatenate([np.full(nf, sf), np.full(y.size - nf, sa)])
     return DriftFit(model, params, t_f, t_a, ft, fy, at, ay, gain, sigma, rss)
 

@@ -6,8 +6,12 @@ Criterion (stated, our own design):
    dT/dt over a window W = max(60 s, 9h) (quadratic, Savitzky & Golay 1964).
 2. In every quiet stretch of a Newtonian vessel the drift is the same straight line in temperature,
    dT/dt = g(T) = a − kT (module ``drift``). Fit that line robustly (iteratively trimmed least
-   squares, points beyond 4σ dropped) and take the residual r(t) = dT/dt − g(T).
-3. An event is a run of |r| > 5σ_r (σ_r: 1.4826·MAD of r on the quiet points); runs of the same
+   squares, points beyond 4σ dropped; started from both ends, the first or the last fifth of the
+   log, keeping the start that ends with the most quiet points) and take
+   the residual r(t) = dT/dt − g(T).
+3. An event is a run of |r| > 5σ_r (σ_r: 1.4826·MAD of r on the quiet points, at least 10⁻⁵ of the
+   largest |dT/dt| and q/W for a reading step q, so noise-free or coarsely rounded logs do not
+   turn rounding into events); runs of the same
    sign closer than W are merged; runs whose size ∫r dt is below 10× the reading noise, 5
    resolution steps or 0.1 mK are dropped.
 4. Event start: walk back from the first crossing of 5σ_r to where |r| falls below σ_r, then a further
@@ -84,7 +88,41 @@ def reading_noise(y: np.ndarray) -> float:
     return float(1.4826 * np.median(np.abs(d2 - np.median(d2))) / math.sqrt(6.0))
 
 
-def rate_residual(t: np.ndarray, y: np.ndarray) -> RateResidual:
+def _starting_masks(n: int) -> list[np.ndarray]:
+    """Where the quiet line may be started: both ends, the first or the last fifth."""
+    edge = max(3, n // 10)
+    masks = []
+    for lo_hi in ((0, edge, n - edge, n), (0, 2 * edge, n, n), (0, 0, n - 2 * edge, n)):
+        m = np.zeros(n, dtype=bool)
+        m[lo_hi[0] : lo_hi[1]] = True
+        m[lo_hi[2] : lo_hi[3]] = True
+        masks.append(m)
+    return masks
+
+
+def _quiet_line(
+    ys: np.ndarray, d: np.ndarray, mask: np.ndarray, floor: float
+) -> tuple[np.ndarray, float, np.ndarray]:
+    """Iteratively trimmed fit of d = a + b·T; returns residual, robust σ and the quiet mask."""
+    n = d.size
+    r = d.copy()
+    sigma = 0.0
+    for _ in range(10):
+        x, z = ys[mask], d[mask]
+        xc = x - x.mean()
+        sxx = float(xc @ xc)
+        # a temperature span below a microkelvin carries no slope (flat or rounded readings)
+        b = float(xc @ (z - z.mean())) / sxx if np.ptp(x) > 1e-6 else 0.0
+        r = d - (z.mean() + b * (ys - x.mean()))
+        sigma = float(1.4826 * np.median(np.abs(r[mask] - np.median(r[mask]))))
+        new = np.abs(r) < 4 * max(sigma, floor)
+        if new.sum() < max(6, n // 20) or np.array_equal(new, mask):
+            break
+        mask = new
+    return r, sigma, mask
+
+
+def rate_residual(t: np.ndarray, y: np.ndarray, resolution_K: float = 0.0) -> RateResidual:
     h = float(np.median(np.diff(t)))
     grid = np.arange(t[0], t[-1] + 1e-9 * h, h)
     yg = np.interp(grid, t, y)
@@ -96,26 +134,18 @@ def rate_residual(t: np.ndarray, y: np.ndarray) -> RateResidual:
         win = n if n % 2 == 1 else n - 1
     d = savgol_filter(yg, win, 2, deriv=1, delta=h, mode="interp")
     ys = savgol_filter(yg, win, 2, mode="interp")
-    # robust line d = a + b*T on quiet points, started from the first and last tenth
-    edge = max(3, n // 10)
-    mask = np.zeros(n, dtype=bool)
-    mask[:edge] = True
-    mask[-edge:] = True
-    sigma = 0.0
-    r = d.copy()
-    for _ in range(8):
-        if np.ptp(ys[mask]) > 0:
-            b, a = np.polyfit(ys[mask], d[mask], 1)
-        else:
-            b, a = 0.0, float(np.mean(d[mask]))
-        r = d - (a + b * ys)
-        sigma = float(1.4826 * np.median(np.abs(r[mask] - np.median(r[mask]))))
-        floor = 1e-12 + 1e-9 * float(np.max(np.abs(d)))
-        new = np.abs(r) < 4 * max(sigma, floor)
-        if new.sum() < max(6, n // 20) or np.array_equal(new, mask):
-            break
-        mask = new
-    sigma = max(sigma, 1e-12 + 1e-9 * float(np.max(np.abs(d))))
+    # no finer rate is real: 1e-5 of the largest, and a reading step q moves the slope over the
+    # window by about q/W
+    floor = max(1e-12 + 1e-5 * float(np.max(np.abs(d))), resolution_K / (win * h))
+    best: tuple[int, float, np.ndarray] | None = None
+    for mask in _starting_masks(n):
+        r, sigma, mask = _quiet_line(ys, d, mask, floor)
+        quiet = int(mask.sum())
+        if best is None or quiet > best[0]:
+            best = (quiet, sigma, r)
+    assert best is not None
+    _, sigma, r = best
+    sigma = max(sigma, floor)
     return RateResidual(grid, ys, d, r, sigma, win * h, h)
 
 
@@ -123,7 +153,7 @@ def detect_events(
     t: np.ndarray, y: np.ndarray, *, noise_K: float | None = None, resolution_K: float = 0.0
 ) -> tuple[tuple[Event, ...], RateResidual]:
     """All events in a thermogram, in time order, by the criterion in the module docstring."""
-    rr = rate_residual(t, y)
+    rr = rate_residual(t, y, resolution_K)
     grid, r, sig, h, w = rr.grid_s, rr.residual_K_per_s, rr.sigma_K_per_s, rr.step_s, rr.window_s
     thr = THRESHOLD_SIGMA * sig
     above = np.abs(r) > thr

@@ -42,10 +42,12 @@ from heatlog.reduce.events import (
     detect_events,
     reading_noise,
 )
+from heatlog.reduce.sampling import block_means
 from heatlog.reduce.uncertainty import delta_t_budget, resolution_u
 from heatlog.thermogram import Thermogram
 
 MAX_POINTS = 4000
+MAX_PERIOD_POINTS = 800  # drift fits: block means beyond this many readings per period
 NEWTON_RMS_FACTOR = 2.0
 
 
@@ -124,21 +126,6 @@ class Reduction:
         }
 
 
-def block_means(t: np.ndarray, y: np.ndarray, max_points: int = MAX_POINTS):
-    """Average consecutive blocks so at most ``max_points`` remain (O(n), vectorised)."""
-    n = t.size
-    m = math.ceil(n / max_points)
-    if m <= 1:
-        return t, y
-    full = (n // m) * m
-    tb = t[:full].reshape(-1, m).mean(axis=1)
-    yb = y[:full].reshape(-1, m).mean(axis=1)
-    if full < n:
-        tb = np.append(tb, t[full:].mean())
-        yb = np.append(yb, y[full:].mean())
-    return tb, yb
-
-
 def detect_resolution(y: np.ndarray) -> float:
     """The reading step if the readings sit on a grid (ADC counts, printed decimals), else 0."""
     sample = y[:20000]
@@ -156,9 +143,12 @@ def _period_check(t: np.ndarray, lo: float, hi: float, what: str, advice: str) -
     n = int(np.count_nonzero((t >= lo) & (t <= hi)))
     length = hi - lo
     if length < MIN_PERIOD_S or n < MIN_PERIOD_POINTS:
+        span = (
+            f"{lo:.0f} s to {hi:.0f} s" if hi > lo else f"would run from {lo:.0f} s to {hi:.0f} s"
+        )
         raise ReductionError(
-            f"the {what} lasts {max(length, 0):.0f} s with {n} readings; it needs at least "
-            f"{MIN_PERIOD_S:.0f} s and {MIN_PERIOD_POINTS} readings: {advice}"
+            f"the {what} ({span}) lasts {max(length, 0):.0f} s with {n} readings; it needs at "
+            f"least {MIN_PERIOD_S:.0f} s and {MIN_PERIOD_POINTS} readings: {advice}"
         )
 
 
@@ -167,12 +157,16 @@ class _Pass:
     choice: DriftChoice
     values: dict[str, float]
     main_t: np.ndarray
+    block_fore: int
+    block_after: int
 
 
 def _one_pass(t, y, lo, t0, ta, hi, drift_model: str) -> _Pass:
     fm = (t >= lo) & (t <= t0)
     am = (t >= ta) & (t <= hi)
-    choice = fit_drift(t[fm], y[fm], t[am], y[am], drift_model)
+    ft, fy, bf = block_means(t[fm], y[fm], MAX_PERIOD_POINTS)
+    at, ay, ba = block_means(t[am], y[am], MAX_PERIOD_POINTS)
+    choice = fit_drift(ft, fy, at, ay, drift_model)
     fit = choice.chosen
     mp = main_period(t, y, fit, t0, ta)
     values = {
@@ -180,7 +174,7 @@ def _one_pass(t, y, lo, t0, ta, hi, drift_model: str) -> _Pass:
         "dickinson": dickinson(mp, fit)[0],
         "dickinson-60": dickinson_60(mp, fit)[0],
     }
-    return _Pass(choice, values, mp.t)
+    return _Pass(choice, values, mp.t, bf, ba)
 
 
 def reduce_thermogram(
@@ -203,7 +197,7 @@ def reduce_thermogram(
     if method != "auto" and method not in METHODS:
         raise ReductionError(f"unknown method {method!r}; use auto or one of {', '.join(METHODS)}")
     t_raw, y_raw = thermogram.time_s, thermogram.temp_C
-    t, y = block_means(t_raw, y_raw)
+    t, y, _ = block_means(t_raw, y_raw, MAX_POINTS)
     q = detect_resolution(y_raw) if resolution_K is None else float(resolution_K)
     if q < 0 or not math.isfinite(q):
         raise ReductionError("the resolution must be a step of zero or more kelvin")
@@ -303,14 +297,18 @@ def reduce_thermogram(
         "dickinson": lambda f: dickinson(main_period(t, y, f, t0, ta), f)[0],
         "dickinson-60": lambda f: dickinson_60(main_period(t, y, f, t0, ta), f)[0],
     }
-    u_res = resolution_u(q, noise)
+    levels = [
+        int(np.unique(y[(t >= lo) & (t <= t0)]).size),
+        int(np.unique(y[(t >= ta) & (t <= hi)]).size),
+    ]
+    u_res = resolution_u(q, noise, levels)
 
     def parts(name: str) -> tuple[float, float, float, list[Component]]:
         """Fore, after and main-noise uncertainty and extra components of one method."""
         if name == "newton":
             comp = Component(
                 "Newton-model fit",
-                values["newton"],
+                0.0,
                 newton.u_delta_t_K,
                 1.0,
                 "K",
@@ -320,7 +318,11 @@ def reduce_thermogram(
             )
             return 0.0, 0.0, 0.0, [comp]
         u_f, u_a, _ = fit.u_of(funcs[name])
-        sigma_main = max(fit.sigma_fore, fit.sigma_after)
+        # per-reading noise: the drift periods may have been fitted on block means
+        sigma_main = max(
+            fit.sigma_fore * math.sqrt(base.block_fore),
+            fit.sigma_after * math.sqrt(base.block_after),
+        )
         w = trapezoid_weights(mp.t)[1:-1]
         u_n = abs(fit.k_per_s) * sigma_main * float(np.sqrt(np.sum(w**2)))
         return u_f, u_a, (u_n if math.isfinite(u_n) else 0.0), []
@@ -396,11 +398,10 @@ def reduce_thermogram(
     )
 
     # naive: extreme reading after the start minus the reading at the start
-    i0 = int(np.argmin(np.abs(t_raw - t0)))
-    window = (t_raw >= t0) & (t_raw <= hi)
-    direction = 1.0 if value >= 0 else -1.0
-    extreme = y_raw[window].max() if direction > 0 else y_raw[window].min()
-    naive = float(extreme - y_raw[i0])
+    i0 = min(int(np.searchsorted(t_raw, t0)), t_raw.size - 1)
+    i1 = max(int(np.searchsorted(t_raw, hi, side="right")), i0 + 1)
+    window = y_raw[i0:i1]
+    naive = float((window.max() if value >= 0 else window.min()) - y_raw[i0])
 
     if fit.model == "newtonian" and fit.k_per_s < 0:
         notes.append("fitted exchange constant is negative: the drift is not Newtonian")

@@ -71,6 +71,7 @@ def synthetic_run(
 ) -> SyntheticRun:
     """One invented run sampled every ``dt_s`` from 0 to ``duration_s``; see the module docstring."""
     t_inf = jacket_C + (stirring_K_per_s / k_per_s if k_per_s > 0 else 0.0)
+    lagged = probe_lag_s > 1e-6  # a shorter lag is no lag at any sampling rate used here
     m = len(releases)
     size = 3 + m  # T, Tp, R_1..R_m, 1
     one = size - 1
@@ -83,7 +84,7 @@ def synthetic_run(
             if rel.kind == "reaction":
                 a[0, 2 + j] = 1.0 / rel.tau_s
                 a[2 + j, 2 + j] = -1.0 / rel.tau_s
-        if probe_lag_s > 0:
+        if lagged:
             a[1, 0] = 1.0 / probe_lag_s
             a[1, 1] = -1.0 / probe_lag_s
         return a
@@ -99,7 +100,7 @@ def synthetic_run(
     x = np.zeros(size)
     x[0] = start_C
     lag_gain = 1.0 / (1.0 - k_per_s * probe_lag_s)  # settled probe on an exponential drift
-    x[1] = t_inf + (start_C - t_inf) * lag_gain if probe_lag_s > 0 else start_C
+    x[1] = t_inf + (start_C - t_inf) * lag_gain if lagged else start_C
     x[one] = 1.0
     heater = 0.0
     cache: dict[tuple[float, float], np.ndarray] = {}
@@ -130,7 +131,7 @@ def synthetic_run(
             si += 1
         x = advance(x, t - now)
         now = t
-        out[i] = x[1] if probe_lag_s > 0 else x[0]
+        out[i] = x[1] if lagged else x[0]
 
     rng = np.random.default_rng(seed)
     if noise_K > 0:

@@ -6,8 +6,10 @@ Components, all in kelvin with sensitivity 1 (each is already the effect on the 
   the drift fit into the result (sandwich form, see ``drift``), Type A;
 * reading noise in the main period: the noise of the readings between t₀ and tₙ enters
   Regnault–Pfaundler through k·∫T dt, so u = |k|·σ·√Σwᵢ² (trapezoid weights wᵢ), Type A;
-* resolution: the two end temperatures are each known to a quantisation step q, u = √2·q/√12
-  (JCGM 100 F.2.2.1), Type B; only when the readings are not dithered by noise larger than q;
+* resolution: an end temperature whose period shows fewer than 3 distinct readings is known only to
+  a quantisation step q, u = q/√12 per such end (JCGM 100 F.2.2.1), Type B. Where noise larger
+  than q dithers the readings, or the drift carries them across several steps, the rounding error
+  shows in the fit residuals and so is already in the drift-fit components;
 * period boundaries: largest change of the result when the main-period start is moved earlier and
   the after-period start later (see ``reduce_thermogram``), as a rectangular half-width (a/√3);
 * method spread: largest difference between the chosen result and the other exact methods that
@@ -22,11 +24,12 @@ from collections.abc import Sequence
 from heatlog.gum import SQRT3, Budget, Component, quantisation
 
 
-def resolution_u(step_K: float, noise_K: float) -> float:
-    """√2·q/√12 for the two ends, dropped when noise > q already dithers the readings."""
+def resolution_u(step_K: float, noise_K: float, distinct_levels: Sequence[int]) -> float:
+    """q/√12 for each end whose period holds fewer than 3 distinct readings (see module doc)."""
     if step_K <= 0 or noise_K > step_K:
         return 0.0
-    return math.sqrt(2.0) * quantisation(step_K)
+    flat_ends = sum(1 for n in distinct_levels if n < 3)
+    return math.sqrt(flat_ends) * quantisation(step_K)
 
 
 def delta_t_budget(
@@ -43,63 +46,43 @@ def delta_t_budget(
     method: str,
     extra: Sequence[Component] = (),
 ) -> Budget:
-    comps = [
-        Component(
+    def row(name: str, u: float, dof: float, evaluation: str, note: str) -> Component:
+        return Component(name, 0.0, u, 1.0, "K", dof, evaluation, note)
+
+    drift_rows = [
+        row(
             "fore-period drift fit",
-            0.0,
             u_fore,
-            1.0,
-            "K",
             dof_fore,
             "A",
             "fore-period readings through the drift fit",
         ),
-        Component(
+        row(
             "after-period drift fit",
-            0.0,
             u_after,
-            1.0,
-            "K",
             dof_after,
             "A",
             "after-period readings through the drift fit",
         ),
-        Component(
-            "main-period reading noise",
-            0.0,
-            u_noise,
-            1.0,
-            "K",
-            math.inf,
-            "A",
-            "k·σ·√Σw² of the exchange integral",
+        row(
+            "main-period reading noise", u_noise, math.inf, "A", "k·σ·√Σw² of the exchange integral"
         ),
-        Component(
-            "resolution",
-            0.0,
-            u_resolution,
-            1.0,
-            "K",
-            math.inf,
-            "B",
-            "√2·q/√12 at the two ends (JCGM 100 F.2.2.1)",
-        ),
-        Component(
+    ]
+    if extra:  # a whole-curve fit already holds the drift periods and the main-period noise
+        drift_rows = []
+    comps = [
+        *drift_rows,
+        row("resolution", u_resolution, math.inf, "B", "q/√12 per flat end (JCGM 100 F.2.2.1)"),
+        row(
             "period boundaries",
-            0.0,
             boundary_spread / SQRT3,
-            1.0,
-            "K",
             math.inf,
             "B",
             "largest change with moved boundaries, rectangular",
         ),
-        Component(
+        row(
             "method spread",
-            0.0,
             method_spread / SQRT3,
-            1.0,
-            "K",
             math.inf,
             "B",
             "largest difference to other applicable methods, rectangular",
