@@ -60,3 +60,14 @@ def test_contributor_guide_names_every_package_part():
     parts += [p.name for p in pkg.glob("*.py") if p.name not in {"__init__.py", "__main__.py"}]
     missing = [p for p in parts if p not in guide]
     assert not missing, f"DEVELOPERS.md does not describe {missing}"
+
+
+def test_contributor_guide_carries_the_log_layout_tables():
+    spec = (ROOT / "firmware" / "LOGFORMAT.md").read_text(encoding="utf-8")
+    guide = (ROOT / "DEVELOPERS.md").read_text(encoding="utf-8")
+    rows = [
+        line for line in spec.split("## What survives what")[0].splitlines() if line.startswith("|")
+    ]
+    assert len(rows) > 30
+    missing = [row for row in rows if row not in guide]
+    assert not missing, f"DEVELOPERS.md lacks log-format rows such as {missing[:3]}"
