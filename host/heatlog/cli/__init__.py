@@ -44,6 +44,15 @@ _COMMAND_MODULES: tuple[tuple[str, str], ...] = (
     ("energetics", "calibrate"),
     ("energetics", "hess"),
     ("demo", "demo"),
+    ("device", "ports"),
+    ("device", "status"),
+    ("device", "clock"),
+    ("device", "start"),
+    ("device", "stop"),
+    ("device", "pull_cmd"),
+    ("device", "erase_cmd"),
+    ("device", "watch"),
+    ("device", "sim"),
 )
 
 
