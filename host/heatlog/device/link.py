@@ -74,6 +74,7 @@ class Link:
         self.parser = fr.FrameParser()
         self.frames: deque[fr.Frame] = deque()
         self.live: deque[bytes] = deque(maxlen=MAX_LIVE)
+        self.bad_rids: deque[int] = deque(maxlen=64)  # request ids seen on damaged frames
         self.stats = LinkStats()
         self.last_attempts = 0
         self._rid = 0
@@ -117,10 +118,14 @@ class Link:
         return rid
 
     # -- primitive 2: read one framed reply -------------------------------------------------------
-    def receive(self, deadline: float) -> fr.Frame | None:
+    def receive(self, deadline: float, wake_on_bad: bool = False) -> fr.Frame | None:
         """The next good frame (any request id) before ``deadline`` (time.monotonic), or None.
-        Live records are queued on ``self.live`` instead of returned."""
+        Live records are queued on ``self.live`` instead of returned. With ``wake_on_bad``,
+        also return None as soon as a damaged frame naming a request id arrives (its id is
+        on ``bad_rids``), so the caller can ask again at once instead of waiting."""
         while True:
+            if wake_on_bad and self.bad_rids and not self.frames:
+                return None
             while self.frames:
                 f = self.frames.popleft()
                 if f.type == fr.LIVE:
@@ -154,6 +159,8 @@ class Link:
                 self._junk_bytes += 1
             else:
                 self.stats.bad_frames += 1
+                if item.request_id:
+                    self.bad_rids.append(item.request_id)
 
     # -- request / reply ------------------------------------------------------------------------
     def request(self, ftype: int, payload: bytes = b"", *, retries: int | None = None) -> bytes:
@@ -164,8 +171,14 @@ class Link:
         for attempt in range(1, tries + 1):
             self.last_attempts = attempt
             rid = self.send(ftype, payload)
+            self.bad_rids.clear()
             deadline = time.monotonic() + self.timeout
-            while (f := self.receive(deadline)) is not None:
+            while (f := self.receive(deadline, wake_on_bad=True)) is not None or self.bad_rids:
+                if f is None:  # a damaged frame: ours if its id matches, else keep waiting
+                    if rid in self.bad_rids:
+                        break
+                    self.bad_rids.clear()
+                    continue
                 if f.request_id != rid:
                     self.stats.stale += 1
                     continue

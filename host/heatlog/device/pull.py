@@ -62,7 +62,14 @@ def fetch(
             pending[board.read_request(run, next_off, n)] = (next_off, n, time.monotonic())
             next_off += n
         oldest = min(p[2] for p in pending.values())
-        f = link.receive(oldest + link.timeout)
+        f = link.receive(oldest + link.timeout, wake_on_bad=True)
+        if f is None and link.bad_rids:  # a reply arrived damaged: ask for that chunk again now
+            while link.bad_rids:
+                p = pending.pop(link.bad_rids.popleft(), None)
+                if p is not None:
+                    pending[board.read_request(run, p[0], p[1])] = (p[0], p[1], time.monotonic())
+                    link.stats.retries += 1
+            continue
         if f is None:
             stalls += 1
             link.stats.timeouts += 1

@@ -331,3 +331,45 @@ class PtyServer:
                 last_pace = now
                 allowance = 0.0
         self._write_truth()
+
+
+class DirectPort:
+    """An in-memory port wired straight to a VirtualBoard (no pty, no thread): host writes are
+    fed to the firmware at once; each read first advances the virtual clock by ``step_ms``.
+    Same ``read``/``write``/``in_waiting`` surface as a pyserial port."""
+
+    def __init__(self, board: VirtualBoard, step_ms: int = 1):
+        self.board = board
+        self.step_ms = step_ms
+        self.timeout = 0.0
+        self._buf = bytearray()
+
+    def _pump(self) -> None:
+        b = self.board
+        with b.lock:
+            b.advance_to(b.now_ms + self.step_ms)
+            self._buf += b.take_output()
+
+    @property
+    def in_waiting(self) -> int:
+        self._pump()
+        return len(self._buf)
+
+    def read(self, n: int = 1) -> bytes:
+        if not self._buf:
+            self._pump()
+        out = bytes(self._buf[:n])
+        del self._buf[:n]
+        return out
+
+    def write(self, data: bytes) -> int:
+        with self.board.lock:
+            self.board.feed(bytes(data))
+        return len(data)
+
+    def reset_input_buffer(self) -> None:
+        self._pump()
+        self._buf.clear()
+
+    def close(self) -> None:
+        pass
