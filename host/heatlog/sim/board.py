@@ -16,6 +16,7 @@ import json
 import math
 import os
 import select
+import struct
 import threading
 import time
 import tty
@@ -135,6 +136,21 @@ class VirtualBoard:
         """Host bytes arrive now: the firmware parses them and answers."""
         if data:
             self.logger.poll(memoryview(bytearray(data)), self.ticks)
+
+    def log_run(self, seconds: float, clock_ms: int | None = 1_780_000_000_000) -> int:
+        """Log one run of ``seconds`` virtual time by sending the board real request frames
+        (set clock, start, stop); the replies are discarded. Returns the run number."""
+        from heatlog.device import framing as fr
+
+        with self.lock:
+            if clock_ms is not None:
+                self.feed(fr.encode(fr.SET_CLOCK, 250, struct.pack("<q", clock_ms + self.now_ms)))
+            self.feed(fr.encode(fr.START_RUN, 251))
+            run = self.logger.store.run_no
+            self.advance_to(self.now_ms + int(seconds * 1000))
+            self.feed(fr.encode(fr.STOP_RUN, 252))
+            self.take_output()
+        return int(run)
 
     def take_output(self) -> bytes:
         out = bytes(self.out)
