@@ -109,13 +109,22 @@ class Link:
 
     def send(self, ftype: int, payload: bytes = b"", rid: int | None = None) -> int:
         rid = self.next_rid() if rid is None else rid
-        data = fr.encode(ftype, rid, payload)
+        self.send_raw(fr.encode(ftype, rid, payload))
+        self.stats.sent += 1
+        return rid
+
+    def resync(self) -> None:
+        """After a silence: send one maximal frame's worth of filler (no start byte), so a
+        board parser left holding a partial request (bytes lost on the way) completes it,
+        fails its CRC and is ready again; drop our own partial frame too."""
+        self.send_raw(b"\x00" * (fr.OVERHEAD + fr.MAX_PAYLOAD))
+        self.parser.reset()
+
+    def send_raw(self, data: bytes) -> None:
         try:
             self.port.write(data)
         except (serial.SerialException, OSError) as exc:
             raise LinkLost(f"lost the link on {self.name} ({exc}); reconnect and run the command again") from None
-        self.stats.sent += 1
-        return rid
 
     # -- primitive 2: read one framed reply -------------------------------------------------------
     def receive(self, deadline: float, wake_on_bad: bool = False) -> fr.Frame | None:
@@ -192,6 +201,8 @@ class Link:
                 self.stats.stale += 1
             else:
                 self.stats.timeouts += 1
+                if attempt < tries:
+                    self.resync()
             if attempt < tries:
                 self.stats.retries += 1
         if self._good_frames == 0 and self._junk_bytes:

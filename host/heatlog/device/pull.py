@@ -78,7 +78,7 @@ def fetch(
                     f"run {run}: no progress after {stalls} timeouts at byte {write_off} of {size}; "
                     "the part already checked is kept: run the same pull again to resume"
                 )
-            link.parser.reset()
+            link.resync()
             now = time.monotonic()
             for rid, (off, n, t) in list(pending.items()):
                 if now - t >= link.timeout * 0.9:
