@@ -224,8 +224,9 @@ def _mktime_utc(t: tuple[int, ...]) -> int:
 class PtyServer:
     """Serve a VirtualBoard on a pseudo-terminal; ``speed`` virtual seconds per real second.
 
-    ``baud`` paces the board's output at baud/10 bytes per second (a UART-like link); None
-    sends as fast as the pty takes it. Thread-safe controls: ``stop()``, ``request_reset()``.
+    ``baud`` paces the board's output at baud/10 bytes per second (a UART-like link; no
+    credit is saved up while idle); None sends as fast as the pty takes it. ``latency_s``
+    delays host bytes before the firmware sees them (USB polling and interpreter time). Thread-safe controls: ``stop()``, ``request_reset()``.
     """
 
     def __init__(
@@ -235,9 +236,11 @@ class PtyServer:
         *,
         speed: float = 1.0,
         baud: int | None = None,
+        latency_s: float = 0.0,
         truth_path: Path | None = None,
     ):
         self.board = board
+        self.latency_s = latency_s
         self.speed = speed
         self.baud = baud
         self.truth_path = truth_path
@@ -298,11 +301,12 @@ class PtyServer:
         allowance = 0.0
         runs_seen = 0
         last_truth = 0.0
+        inbox: list[tuple[float, bytes]] = []
         while not self._stop.is_set():
             now = time.monotonic()
             if seconds is not None and now - r0 > seconds:
                 break
-            wait = 0.001 if pending else 0.005
+            wait = 0.001 if pending or inbox else 0.005
             ready, _, _ = select.select([self.master], [], [], wait)
             data = b""
             if ready:
@@ -311,6 +315,12 @@ class PtyServer:
                 except (BlockingIOError, OSError):
                     data = b""
             now = time.monotonic()
+            if self.latency_s > 0:
+                if data:
+                    inbox.append((now + self.latency_s, data))
+                data = b""
+                while inbox and inbox[0][0] <= now:
+                    data += inbox.pop(0)[1]
             with b.lock:
                 if self._reset.is_set():
                     self._reset.clear()
@@ -332,7 +342,7 @@ class PtyServer:
             if pending:
                 n = len(pending)
                 if self.baud:
-                    allowance = min(allowance + (now - last_pace) * self.baud / 10, 4096)
+                    allowance = min(allowance + (now - last_pace) * self.baud / 10, 256)
                     n = min(n, int(allowance))
                 last_pace = now
                 if n > 0:
