@@ -31,20 +31,26 @@ LATENCY_S = 0.002  # request to reply on the board: USB polling + interpreter (a
 
 
 def main() -> None:
-    fast = sc.Scenario("bench", "fast records for the pull benchmark", 100, 1, (sc.electrical_calibration(),))
+    fast = sc.Scenario(
+        "bench", "fast records for the pull benchmark", 100, 1, (sc.electrical_calibration(),)
+    )
     with tempfile.TemporaryDirectory() as tmp:
         board = VirtualBoard(fast, Path(tmp) / "flash")
         t0 = time.perf_counter()
         seconds = MB * 1e6 / 18 * 0.1  # 18-byte records every 100 ms
         board.log_run(seconds)
         size = (board.root / "r0001.hlg").stat().st_size
-        print(f"run of {size / 1e6:.2f} MB logged by the firmware in {time.perf_counter() - t0:.1f} s")
+        print(
+            f"run of {size / 1e6:.2f} MB logged by the firmware in {time.perf_counter() - t0:.1f} s"
+        )
         nominal = BAUD / 10
         print(f"link: {BAUD} baud, nominal {nominal / 1e3:.1f} kB/s; 512-byte chunks; "
               f"{LATENCY_S * 1e3:.0f} ms board latency")  # fmt: skip
         rows = []
         for window in (1, 2, 4, 8):
-            server = PtyServer(board, Path(tmp) / "link", speed=1.0, baud=BAUD, latency_s=LATENCY_S).start()
+            server = PtyServer(
+                board, Path(tmp) / "link", speed=1.0, baud=BAUD, latency_s=LATENCY_S
+            ).start()
             try:
                 with Link.open(str(Path(tmp) / "link"), timeout=2.0) as link:
                     t = time.perf_counter()

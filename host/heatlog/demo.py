@@ -16,6 +16,7 @@ result is printed beside the heat the simulator really put in.
 from __future__ import annotations
 
 import datetime as dt
+import json
 import shutil
 import tempfile
 import time
@@ -68,7 +69,7 @@ def _write_probe(out: Path) -> None:
     save_probe(probe, out / "probes" / f"{sc.PROBE_ID}.toml")
 
 
-def _log_runs(server: PtyServer, say: Callable[[str], None]) -> PullReport:
+def _log_runs(server: PtyServer, archive: Archive, say: Callable[[str], None]) -> PullReport:
     """Drive the virtual board like a user would: clock, one run per experiment, pull."""
     with Link.open(server.path, timeout=1.0) as link:
         board = Board(link)
@@ -85,11 +86,7 @@ def _log_runs(server: PtyServer, say: Callable[[str], None]) -> PullReport:
                     raise LinkError("the simulator fell behind; is the machine very busy?")
                 time.sleep(0.05)
             board.stop_run()
-        return pull(board, Archive(server_archive(server)))
-
-
-def server_archive(server: PtyServer) -> Path:
-    return Path(getattr(server, "archive_dir"))  # set by run_demo
+        return pull(board, archive)
 
 
 def _run_files(out: Path, cal_csv: Path, run_csv: Path, chain: str) -> None:
@@ -154,26 +151,28 @@ def run_demo(out: Path, say: Callable[[str], None] = lambda s: None) -> DemoResu
     _write_probe(out)
     with tempfile.TemporaryDirectory(prefix="heatlog-sim-") as tmp:
         board = VirtualBoard(SCENARIO, Path(tmp) / "flash", board_id="demo-board", seed=7)
-        server = PtyServer(board, Path(tmp) / "board.link", speed=SPEED)
-        server.archive_dir = out / "archive"  # type: ignore[attr-defined]
-        server.start()
+        server = PtyServer(board, Path(tmp) / "board.link", speed=SPEED).start()
         try:
-            report = _log_runs(server, say)
+            report = _log_runs(server, Archive(out / "archive"), say)
         finally:
             server.close()
         with board.lock:
             truth_sim = board.truth()
     archived = report.pulled + report.already
     if len(archived) < 2:
-        raise LinkError("the demo expected two runs from the simulator; delete the output folder and run it again")
+        raise LinkError(
+            "the demo expected two runs from the simulator; delete the output folder and run it again"
+        )
     csvs = []
     chain = ""
     for entry, name in zip(archived[-2:], ("calibration", "dissolution"), strict=True):
-        csv, meta = export_run(out / "archive" / entry.name, out / "probes", note="invented data: heatlog demo (simulated board)")
+        csv, meta = export_run(
+            out / "archive" / entry.name,
+            out / "probes",
+            note="invented data: heatlog demo (simulated board)",
+        )
         shutil.copyfile(csv, out / f"{name}.csv")
         csvs.append(out / f"{name}.csv")
-        import json
-
         chain = json.loads(meta.read_text())["channels"][0]["chain"]
     _run_files(out, csvs[0], csvs[1], chain)
     cal = run_file(out / "calibration.toml")

@@ -14,7 +14,9 @@ from heatlog.device.archive import Archive, archive_name, safe_name
 VECTOR = Path(__file__).resolve().parents[1] / "vectors" / "run_log.bin"
 
 
-@pytest.mark.parametrize("bad", ["../../etc", "/abs", "..", ".", "", "a/../../b", "C:\\x", "\x00nul", None])
+@pytest.mark.parametrize(
+    "bad", ["../../etc", "/abs", "..", ".", "", "a/../../b", "C:\\x", "\x00nul", None]
+)
 def test_board_ids_cannot_escape_the_archive(bad, tmp_path):
     name = archive_name(bad, 3, None)
     assert "/" not in name and "\\" not in name and not name.startswith(".")

@@ -2,6 +2,7 @@
 one-line errors, progress only on request and never on stdout."""
 
 import json
+from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
@@ -46,7 +47,7 @@ def test_pull_json_is_clean_progress_goes_to_stderr_and_erase_after(port, tmp_pa
     assert len(d["pulled"]) == 2 and "bytes" in r.stderr and "ETA" in r.stderr
     assert all((tmp_path / "arch" / e["name"]).is_file() for e in d["pulled"])
     csv = d["exports"][0]["csv"]
-    assert open(csv).readline().startswith("# heatlog run")
+    assert Path(csv).read_text().startswith("# heatlog run")
     again = json.loads(run("pull", "--port", port, "--out", str(out), "--json").output)
     assert again["pulled"] == [] and len(again["already_archived"]) == 2
     r = run("erase", "--port", port, "--out", str(out), "1", "--json")

@@ -24,9 +24,15 @@ _VENDORS = {
     0x0403: "FTDI bridge",
 }
 
-port_option = click.option("--port", "-p", required=True, help="Serial port or pyserial URL of the board.")
-baud_option = click.option("--baud", default=115200, show_default=True, help="Baud rate (USB CDC ignores it).")
-timeout_option = click.option("--timeout", default=1.0, show_default=True, help="Seconds to wait for each reply.")
+port_option = click.option(
+    "--port", "-p", required=True, help="Serial port or pyserial URL of the board."
+)
+baud_option = click.option(
+    "--baud", default=115200, show_default=True, help="Baud rate (USB CDC ignores it)."
+)
+timeout_option = click.option(
+    "--timeout", default=1.0, show_default=True, help="Seconds to wait for each reply."
+)
 
 
 def _board(port: str, baud: int, timeout: float) -> Any:
@@ -66,10 +72,18 @@ def status(port: str, baud: int, timeout: float, as_json: bool) -> None:
     with b.link:
         info = b.identify()
         runs, active = b.list_runs()
-    payload = {"board": info.to_dict(), "runs": [{"run": r.run, "size": r.size} for r in runs], "active": active}
+    payload = {
+        "board": info.to_dict(),
+        "runs": [{"run": r.run, "size": r.size} for r in runs],
+        "active": active,
+    }
 
     def text() -> str:
-        clock = "not set" if info.clock_ms is None else time.strftime("%Y-%m-%d %H:%M:%S UTC", time.gmtime(info.clock_ms / 1000))
+        clock = (
+            "not set"
+            if info.clock_ms is None
+            else time.strftime("%Y-%m-%d %H:%M:%S UTC", time.gmtime(info.clock_ms / 1000))
+        )
         lines = [f"board {info.board_id}  firmware {info.firmware}  clock {clock}",
                  f"free {info.free_bytes} of {info.total_bytes} bytes; active run: {active or 'none'}"]  # fmt: skip
         lines += [f"  run {r.run}: {r.size} bytes" for r in runs]
@@ -90,7 +104,12 @@ def clock(port: str, baud: int, timeout: float, as_json: bool) -> None:
         new, prev = b.set_clock(int(t0 * 1000))
         rtt = time.time() - t0
     offset = None if prev == 0 else (prev - new) / 1000.0
-    payload = {"set_to_ms": new, "previous_ms": prev or None, "previous_offset_s": offset, "round_trip_s": rtt}
+    payload = {
+        "set_to_ms": new,
+        "previous_ms": prev or None,
+        "previous_offset_s": offset,
+        "round_trip_s": rtt,
+    }
     text = f"clock set to host UTC ({rtt * 1000:.0f} ms round trip); " + (
         "it was not set before" if offset is None else f"it was {offset:+.3f} s off"
     )
@@ -135,7 +154,11 @@ class _Progress:
         dt = max(time.monotonic() - self.t0, 1e-6)
         rate = (done - first) / dt
         eta = (total - done) / rate if rate > 0 else float("inf")
-        click.echo(f"\rrun {run}: {done}/{total} bytes  {rate / 1000:.1f} kB/s  ETA {eta:.0f} s ", nl=False, err=True)
+        click.echo(
+            f"\rrun {run}: {done}/{total} bytes  {rate / 1000:.1f} kB/s  ETA {eta:.0f} s ",
+            nl=False,
+            err=True,
+        )
         if done >= total:
             click.echo("", err=True)
             self.t0 = time.monotonic()
@@ -143,12 +166,28 @@ class _Progress:
 
 @click.command("pull")
 @_with_board
-@click.option("--out", "out", type=click.Path(file_okay=False, path_type=Path), required=True, help="Archive folder.")
+@click.option(
+    "--out",
+    "out",
+    type=click.Path(file_okay=False, path_type=Path),
+    required=True,
+    help="Archive folder.",
+)
 @click.option("--run", "runs", type=int, multiple=True, help="Pull only this run (repeatable).")
 @click.option("--probes", type=click.Path(file_okay=False, exists=True, path_type=Path), default=None,
               help="Folder of probe files named <probe id>.toml, applied to the CSV export.")  # fmt: skip
-@click.option("--window", default=4, show_default=True, type=click.IntRange(1, 16), help="Read requests in flight.")
-@click.option("--progress/--no-progress", default=None, help="Progress on stderr (default: when stderr is a terminal).")
+@click.option(
+    "--window",
+    default=4,
+    show_default=True,
+    type=click.IntRange(1, 16),
+    help="Read requests in flight.",
+)
+@click.option(
+    "--progress/--no-progress",
+    default=None,
+    help="Progress on stderr (default: when stderr is a terminal).",
+)
 @json_option
 def pull_cmd(port: str, baud: int, timeout: float, out: Path, runs: tuple[int, ...], probes: Path | None,
              window: int, progress: bool | None, as_json: bool) -> None:  # fmt: skip
@@ -164,7 +203,9 @@ def pull_cmd(port: str, baud: int, timeout: float, out: Path, runs: tuple[int, .
     archive = Archive(out)
     b = _board(port, baud, timeout)
     with b.link:
-        report = pull(b, archive, runs=runs or None, window=window, progress=_Progress() if show else None)
+        report = pull(
+            b, archive, runs=runs or None, window=window, progress=_Progress() if show else None
+        )
     exports = []
     for e in report.pulled + (report.already if probes else []):
         csv, meta = export_run(out / e.name, probes)
@@ -198,7 +239,11 @@ def erase_cmd(port: str, baud: int, timeout: float, out: Path, run: int, as_json
     b = _board(port, baud, timeout)
     with b.link:
         entry = erase(b, Archive(out), run)
-    emit(as_json, {"erased": run, "archived_as": entry.to_dict()}, f"run {run} erased; the archive keeps {entry.name}")
+    emit(
+        as_json,
+        {"erased": run, "archived_as": entry.to_dict()},
+        f"run {run} erased; the archive keeps {entry.name}",
+    )
 
 
 erase_cmd.name = "erase"
@@ -211,7 +256,15 @@ erase_cmd.name = "erase"
 @click.option("--seconds", type=float, default=None, help="Stop after this many seconds.")
 @click.option("--count", type=int, default=None, help="Stop after this many readings.")
 @json_option
-def watch(port: str, baud: int, timeout: float, probes: Path | None, seconds: float | None, count: int | None, as_json: bool) -> None:
+def watch(
+    port: str,
+    baud: int,
+    timeout: float,
+    probes: Path | None,
+    seconds: float | None,
+    count: int | None,
+    as_json: bool,
+) -> None:
     """Show live readings (raw and, with --probes, calibrated) until Ctrl-C, --seconds or --count."""
     from heatlog.device.live import LiveDecoder
     from heatlog.logformat import LogCorrupt
@@ -245,12 +298,20 @@ def watch(port: str, baud: int, timeout: float, probes: Path | None, seconds: fl
               help="Where to put the symlink to the virtual board's pseudo-terminal.")  # fmt: skip
 @click.option("--scenario", default="demo", show_default=True, help="Invented scenario: demo, calibration, "
               "endothermic, exothermic, hand-warmer, cement.")  # fmt: skip
-@click.option("--speed", type=click.FloatRange(0.01, 1e6), default=1.0, show_default=True, help="Virtual seconds per real second.")
+@click.option(
+    "--speed",
+    type=click.FloatRange(0.01, 1e6),
+    default=1.0,
+    show_default=True,
+    help="Virtual seconds per real second.",
+)
 @click.option("--flash", "flash_dir", type=click.Path(file_okay=False, path_type=Path), default=None,
               help="Folder keeping the board's flash between sessions (default: a temporary one).")  # fmt: skip
 @click.option("--truth", "truth_path", type=click.Path(dir_okay=False, path_type=Path), default=None,
               help="JSON file the simulator keeps updated with the true heat of each run.")  # fmt: skip
-@click.option("--board-id", default="sim-1", show_default=True, help="Board id in a fresh flash's config.")
+@click.option(
+    "--board-id", default="sim-1", show_default=True, help="Board id in a fresh flash's config."
+)
 @click.option("--baud", type=int, default=None, help="Pace the board's output at this baud rate.")
 @click.option("--seconds", type=float, default=None, help="Stop after this many real seconds.")
 @click.option("--seed", type=int, default=0, show_default=True, help="Seed of the ADC noise.")

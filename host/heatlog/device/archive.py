@@ -97,8 +97,13 @@ class Archive:
             d = json.loads(p.read_text(encoding="utf-8"))
             return {
                 name: ArchivedRun(
-                    name, str(e["board_id"]), int(e["run"]), int(e["size"]), int(e["crc32"]),
-                    str(e["sha256"]), e.get("start_ms"),
+                    name,
+                    str(e["board_id"]),
+                    int(e["run"]),
+                    int(e["size"]),
+                    int(e["crc32"]),
+                    str(e["sha256"]),
+                    e.get("start_ms"),
                 )  # fmt: skip
                 for name, e in d["files"].items()
             }
@@ -109,7 +114,10 @@ class Archive:
         doc = {
             "format": 1,
             "note": "heatlog archive: SHA-256 of every pulled run file (files are read-only)",
-            "files": {n: {k: v for k, v in e.to_dict().items() if k != "name"} for n, e in sorted(entries.items())},
+            "files": {
+                n: {k: v for k, v in e.to_dict().items() if k != "name"}
+                for n, e in sorted(entries.items())
+            },
         }
         tmp = self.root / (MANIFEST + ".tmp")
         tmp.write_text(json.dumps(doc, indent=1), encoding="utf-8")
@@ -117,7 +125,11 @@ class Archive:
 
     def find(self, board_id: str, run: int) -> ArchivedRun | None:
         """The newest archived copy of (board, run), matched on the sanitised board id."""
-        hits = [e for e in self.manifest().values() if e.board_id == safe_name(board_id) and e.run == run]
+        hits = [
+            e
+            for e in self.manifest().values()
+            if e.board_id == safe_name(board_id) and e.run == run
+        ]
         return hits[-1] if hits else None
 
     def verify(self, entry: ArchivedRun) -> bool:
@@ -146,7 +158,10 @@ class Archive:
         if not ok or have > size:
             part.write_bytes(b"")
             have = 0
-        state.write_text(json.dumps({"board_id": safe_name(board_id), "run": run, "size": size}), encoding="utf-8")
+        state.write_text(
+            json.dumps({"board_id": safe_name(board_id), "run": run, "size": size}),
+            encoding="utf-8",
+        )
         return part, have
 
     def drop_partial(self, board_id: str, run: int) -> None:
@@ -167,7 +182,9 @@ class Archive:
         while final.exists():
             if sha256_file(final) == sha:  # the same bytes are already archived
                 self.drop_partial(board_id, run)
-                return entries.get(final.name) or self._record(entries, final, board_id, run, header.anchor_ms, sha)
+                return entries.get(final.name) or self._record(
+                    entries, final, board_id, run, header.anchor_ms, sha
+                )
             k += 1
             final = self.root / name.replace(".hlg", f"_{k}.hlg")
         try:
@@ -181,9 +198,23 @@ class Archive:
         self.drop_partial(board_id, run)
         return entry
 
-    def _record(self, entries: dict[str, ArchivedRun], final: Path, board_id: str, run: int, anchor: int | None, sha: str) -> ArchivedRun:
+    def _record(
+        self,
+        entries: dict[str, ArchivedRun],
+        final: Path,
+        board_id: str,
+        run: int,
+        anchor: int | None,
+        sha: str,
+    ) -> ArchivedRun:
         entry = ArchivedRun(
-            final.name, safe_name(board_id), run, final.stat().st_size, crc32_file(final), sha, anchor
+            final.name,
+            safe_name(board_id),
+            run,
+            final.stat().st_size,
+            crc32_file(final),
+            sha,
+            anchor,
         )
         entries[final.name] = entry
         self._save_manifest(entries)

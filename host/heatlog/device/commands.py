@@ -80,7 +80,9 @@ class Board:
     def identify(self) -> BoardInfo:
         d = _json(self.link.request(fr.IDENTIFY), "identify")
         if not isinstance(d, dict) or d.get("protocol") != 1:
-            raise BadReply("identify: not a heatlog protocol 1 board; update heatlog or the firmware")
+            raise BadReply(
+                "identify: not a heatlog protocol 1 board; update heatlog or the firmware"
+            )
         bid = d.get("board_id")
         if bid is not None and not isinstance(bid, str):
             raise BadReply("identify: board_id must be text")
@@ -102,7 +104,9 @@ class Board:
 
     def set_clock(self, epoch_ms: int) -> tuple[int, int]:
         """Set the board clock; returns (new, previous reading; 0 if it was never set)."""
-        new, prev = _unpack("<qq", self.link.request(fr.SET_CLOCK, struct.pack("<q", epoch_ms)), "set clock")
+        new, prev = _unpack(
+            "<qq", self.link.request(fr.SET_CLOCK, struct.pack("<q", epoch_ms)), "set clock"
+        )
         return new, prev
 
     def list_runs(self) -> tuple[list[RunEntry], int | None]:
@@ -135,7 +139,9 @@ class Board:
 
     def checksum(self, run: int) -> tuple[int, int]:
         """(size, CRC-32) of a run file as the board has it now."""
-        r, size, crc = _unpack("<III", self.link.request(fr.RUN_CHECKSUM, struct.pack("<I", run)), "run checksum")
+        r, size, crc = _unpack(
+            "<III", self.link.request(fr.RUN_CHECKSUM, struct.pack("<I", run)), "run checksum"
+        )
         if r != run:
             raise BadReply(f"run checksum: asked for run {run}, got {r}")
         return size, crc
@@ -145,7 +151,11 @@ class Board:
             (run,) = _unpack("<I", self.link.request(fr.START_RUN), "start run")
         except BoardError as exc:
             # a retried start whose first try got through: the run is active now
-            if exc.code == 4 and self.link.last_attempts > 1 and (info := self.identify()).run is not None:
+            if (
+                exc.code == 4
+                and self.link.last_attempts > 1
+                and (info := self.identify()).run is not None
+            ):
                 return info.run
             raise
         return int(run)
@@ -155,13 +165,17 @@ class Board:
             (run,) = _unpack("<I", self.link.request(fr.STOP_RUN), "stop run")
         except BoardError as exc:
             if exc.code == 4 and self.link.last_attempts > 1:
-                raise LinkError("the run was stopped, but its reply was lost; check `heatlog status`") from None
+                raise LinkError(
+                    "the run was stopped, but its reply was lost; check `heatlog status`"
+                ) from None
             raise
         return int(run)
 
     def erase_run(self, run: int, size: int, crc: int) -> None:
         try:
-            (r,) = _unpack("<I", self.link.request(fr.ERASE_RUN, struct.pack("<III", run, size, crc)), "erase")
+            (r,) = _unpack(
+                "<I", self.link.request(fr.ERASE_RUN, struct.pack("<III", run, size, crc)), "erase"
+            )
         except BoardError as exc:
             if exc.code == 5 and self.link.last_attempts > 1:
                 return  # the first try erased it; the reply was lost
@@ -171,7 +185,9 @@ class Board:
 
     def stream(self, on: bool) -> int:
         """Turn live records on/off; returns the record size."""
-        state, rsize = _unpack("<BH", self.link.request(fr.STREAM, bytes([1 if on else 0])), "stream")
+        state, rsize = _unpack(
+            "<BH", self.link.request(fr.STREAM, bytes([1 if on else 0])), "stream"
+        )
         return int(rsize)
 
     def get_config(self) -> dict[str, Any]:

@@ -44,7 +44,9 @@ class ChannelTable:
     meta: dict[str, Any]
 
 
-def calibrate(log: RunLog, probes: dict[str, ProbeFile]) -> tuple[np.ndarray, list[ChannelTable], np.ndarray]:
+def calibrate(
+    log: RunLog, probes: dict[str, ProbeFile]
+) -> tuple[np.ndarray, list[ChannelTable], np.ndarray]:
     """Pure: (time_s, per-channel columns, mask of records kept) for a decoded run."""
     keep = log.fault_mask == 0
     t = log.offset_ms[keep] / 1000.0
@@ -52,10 +54,20 @@ def calibrate(log: RunLog, probes: dict[str, ProbeFile]) -> tuple[np.ndarray, li
     for i, ch in enumerate(log.header.channels):
         raw = log.raw[keep, i]
         chain, factor, spec = chain_for(ch, log.header.oversample)
-        meta: dict[str, Any] = {"index": i, "kind": ch.kind, "probe_id": ch.probe_id, "ref_ohm": ch.ref_ohm, "chain": spec}
+        meta: dict[str, Any] = {
+            "index": i,
+            "kind": ch.kind,
+            "probe_id": ch.probe_id,
+            "ref_ohm": ch.ref_ohm,
+            "chain": spec,
+        }
         r = temp = None
         try:
-            r = np.asarray(chain.to_resistance(raw * factor), dtype=float) if raw.size else np.zeros(0)
+            r = (
+                np.asarray(chain.to_resistance(raw * factor), dtype=float)
+                if raw.size
+                else np.zeros(0)
+            )
             probe = probes.get(ch.probe_id)
             if probe is None:
                 meta["calibrated"] = f"no probe file for {ch.probe_id!r}"

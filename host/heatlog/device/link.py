@@ -124,7 +124,9 @@ class Link:
         try:
             self.port.write(data)
         except (serial.SerialException, OSError) as exc:
-            raise LinkLost(f"lost the link on {self.name} ({exc}); reconnect and run the command again") from None
+            raise LinkLost(
+                f"lost the link on {self.name} ({exc}); reconnect and run the command again"
+            ) from None
 
     # -- primitive 2: read one framed reply -------------------------------------------------------
     def receive(self, deadline: float, wake_on_bad: bool = False) -> fr.Frame | None:

@@ -33,7 +33,9 @@ def channels_from_config(cfg: dict[str, Any]) -> tuple[list[Channel], int]:
         if isinstance(ref, bool) or not isinstance(ref, int | float) or not ref > 0:
             raise BadReply("get config: channel without a positive resistor value")
         mode = int(ch.get("wires", 4)) if code == 3 else (1 if ch.get("ntc_side") == "high" else 0)
-        out.append(Channel(ch["kind"], code, mode, 0, 0, float(ref), str(ch.get("probe_id", ""))[:16]))
+        out.append(
+            Channel(ch["kind"], code, mode, 0, 0, float(ref), str(ch.get("probe_id", ""))[:16])
+        )
     n = cfg.get("oversample", 16)
     if isinstance(n, bool) or not isinstance(n, int) or not 1 <= n <= 256:
         raise BadReply("get config: oversample out of range")
@@ -48,7 +50,10 @@ class LiveDecoder:
         self.probes = load_probes(probe_dir, [c.probe_id for c in self.channels])
 
     def channels_meta(self) -> list[dict[str, Any]]:
-        return [{"probe_id": c.probe_id, "kind": c.kind, "calibrated": c.probe_id in self.probes} for c in self.channels]
+        return [
+            {"probe_id": c.probe_id, "kind": c.kind, "calibrated": c.probe_id in self.probes}
+            for c in self.channels
+        ]
 
     def decode(self, payload: bytes) -> dict[str, Any]:
         seq, offset, flags, faults, raw = decode_record(payload, len(self.channels))
@@ -59,11 +64,22 @@ class LiveDecoder:
             if probe is not None:
                 chain, factor, _ = chain_for(c, self.oversample)
                 try:
-                    t = float(probe.model.resistance_to_temperature(np.asarray(chain.to_resistance(v * factor))))
+                    t = float(
+                        probe.model.resistance_to_temperature(
+                            np.asarray(chain.to_resistance(v * factor))
+                        )
+                    )
                 except HeatlogError:
                     t = None
             temps.append(t)
-        return {"seq": seq, "offset_s": offset / 1000.0, "flags": flags, "faults": faults, "raw": list(raw), "temp_C": temps}
+        return {
+            "seq": seq,
+            "offset_s": offset / 1000.0,
+            "flags": flags,
+            "faults": faults,
+            "raw": list(raw),
+            "temp_C": temps,
+        }
 
     def line(self, r: dict[str, Any]) -> str:
         parts = []

@@ -139,7 +139,9 @@ def pull(
     if wanted is not None:
         missing = wanted - {e.run for e in entries}
         if missing:
-            raise InputError(f"the board has no run {', '.join(map(str, sorted(missing)))}; see `heatlog status`")
+            raise InputError(
+                f"the board has no run {', '.join(map(str, sorted(missing)))}; see `heatlog status`"
+            )
     for e in entries:
         if wanted is not None and e.run not in wanted:
             continue
@@ -152,16 +154,28 @@ def pull(
             if (size, crc) == (have.size, have.crc32) and archive.verify(have):
                 report.already.append(have)
                 continue
-        report.pulled.append(_pull_one(board, archive, bid, e.run, e.size, window, progress, report))
+        report.pulled.append(
+            _pull_one(board, archive, bid, e.run, e.size, window, progress, report)
+        )
     report.seconds = time.monotonic() - t0
     report.retries = board.link.stats.retries - retries0
     return report
 
 
-def _pull_one(board: Board, archive: Archive, bid: str, run: int, size: int, window: int, progress: Progress | None, report: PullReport) -> ArchivedRun:
-    for attempt in (1, 2):
+def _pull_one(
+    board: Board,
+    archive: Archive,
+    bid: str,
+    run: int,
+    size: int,
+    window: int,
+    progress: Progress | None,
+    report: PullReport,
+) -> ArchivedRun:
+    for _attempt in (1, 2):
         part, have = archive.start_partial(bid, run, size)
         with open(part, "ab") as f:
+
             def sink(data: bytes) -> None:
                 f.write(data)
                 f.flush()
@@ -183,10 +197,14 @@ def erase(board: Board, archive: Archive, run: int) -> ArchivedRun:
     bid = info.board_id or "unknown"
     entry = archive.find(bid, run)
     if entry is None:
-        raise InputError(f"run {run} of board {safe_name(bid)} is not in {archive.root}; pull it first")
+        raise InputError(
+            f"run {run} of board {safe_name(bid)} is not in {archive.root}; pull it first"
+        )
     path = archive.root / entry.name
     if not path.is_file() or sha256_file(path) != entry.sha256:
-        raise InputError(f"{path} does not match its SHA-256 in the manifest; pull run {run} again before erasing")
+        raise InputError(
+            f"{path} does not match its SHA-256 in the manifest; pull run {run} again before erasing"
+        )
     if (path.stat().st_size, crc32_file(path)) != (entry.size, entry.crc32):
         raise InputError(f"{path}: size or CRC-32 differ from the manifest; pull run {run} again")
     size, crc = board.checksum(run)

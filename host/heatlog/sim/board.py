@@ -80,7 +80,11 @@ class VirtualBoard:
         self.out = bytearray()
         self.lock = threading.Lock()
         first = scenario.experiments[0]
-        self.model = ThermalModel(Vessel(first.vessel.heat_capacity_J_per_K, 1.0, first.vessel.start_C, first.vessel.start_C))
+        self.model = ThermalModel(
+            Vessel(
+                first.vessel.heat_capacity_J_per_K, 1.0, first.vessel.start_C, first.vessel.start_C
+            )
+        )
         self.model_start_ms = 0
         self.current_run: int | None = None
         self.runs: list[dict[str, Any]] = []

@@ -72,7 +72,12 @@ class FaultySerial:
         if data:
             data = self._mangle(data)
             if p.junk and self.rng.random() < p.junk:
-                data = self.rng.integers(0, 256, int(self.rng.integers(1, 17)), dtype=np.uint8).tobytes() + data
+                data = (
+                    self.rng.integers(
+                        0, 256, int(self.rng.integers(1, 17)), dtype=np.uint8
+                    ).tobytes()
+                    + data
+                )
             if p.delay and self.rng.random() < p.delay:
                 self._held.append((now + p.delay_s, data))
                 data = b""
@@ -117,7 +122,9 @@ class WrongDevice:
     def read(self, n: int = 1) -> bytes:
         time.sleep(0.002)
         self._n += 1
-        return f"$GPGGA,12{self._n % 60:02d}00,4807.038,N,01131.000,E,1,08,0.9,545.4,M,,*47\r\n".encode()[:n]
+        return f"$GPGGA,12{self._n % 60:02d}00,4807.038,N,01131.000,E,1,08,0.9,545.4,M,,*47\r\n".encode()[
+            :n
+        ]
 
     def write(self, data: bytes) -> int:
         return len(data)

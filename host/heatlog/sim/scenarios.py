@@ -62,7 +62,12 @@ class Scenario:
                     "pin": 26,
                     "r_fixed_ohm": int(R_FIXED_OHM),
                     "ntc_side": "low",
-                    "model": {"type": "steinhart_hart", "A": 1.129148e-3, "B": 2.34125e-4, "C": 8.76741e-8},
+                    "model": {
+                        "type": "steinhart_hart",
+                        "A": 1.129148e-3,
+                        "B": 2.34125e-4,
+                        "C": 8.76741e-8,
+                    },
                 }
             ],
         }
@@ -92,11 +97,18 @@ def electrical_calibration() -> Experiment:
         _cup(0.0, 21.0),
         (Heater(600.0, HEATER_S, HEATER_W),),
         2400.0,
-        {"water_g": WATER_G, "heater_W": HEATER_W, "heater_s": HEATER_S, "cup_J_per_K": CUP_C_J_PER_K},
+        {
+            "water_g": WATER_G,
+            "heater_W": HEATER_W,
+            "heater_s": HEATER_S,
+            "cup_J_per_K": CUP_C_J_PER_K,
+        },
     )
 
 
-def _dissolution(name: str, salt: str, mass: float, cp: float, molar: float, dh_kj: float, start_C: float) -> Experiment:
+def _dissolution(
+    name: str, salt: str, mass: float, cp: float, molar: float, dh_kj: float, start_C: float
+) -> Experiment:
     n = mass / molar
     return Experiment(
         name,
