@@ -1,18 +1,28 @@
 """Fixtures: a virtual board (the real firmware under the simulator) with runs on its flash."""
 
+import shutil
+
 import pytest
 
 from heatlog.sim.board import VirtualBoard
 from heatlog.sim.scenarios import scenario
 
 
-@pytest.fixture
-def board(tmp_path):
-    """A demo-scenario board with two finished runs (1 h and 20 min of 2 s records)."""
-    b = VirtualBoard(scenario("demo"), tmp_path / "flash", seed=3)
+@pytest.fixture(scope="session")
+def flash_template(tmp_path_factory):
+    """Flash holding two finished runs (1 h and 20 min of 2 s records), logged once."""
+    path = tmp_path_factory.mktemp("flash")
+    b = VirtualBoard(scenario("demo"), path, seed=3)
     b.log_run(3600)
     b.log_run(1200)
-    return b
+    return path
+
+
+@pytest.fixture
+def board(tmp_path, flash_template):
+    """A demo-scenario board booted on a fresh copy of the template flash."""
+    shutil.copytree(flash_template, tmp_path / "flash")
+    return VirtualBoard(scenario("demo"), tmp_path / "flash", seed=3)
 
 
 def flash_runs(board):
