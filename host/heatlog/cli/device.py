@@ -42,6 +42,13 @@ def _board(port: str, baud: int, timeout: float) -> Any:
     return Board(Link.open(port, baudrate=baud, timeout=timeout))
 
 
+def _on_board(port: str, baud: int, timeout: float, fn: Callable[[Any], Any]) -> Any:
+    """Open the board, run ``fn(board)``, close the port whatever happens."""
+    b = _board(port, baud, timeout)
+    with b.link:
+        return fn(b)
+
+
 def _with_board(fn: Callable[..., Any]) -> Callable[..., Any]:
     fn = timeout_option(baud_option(port_option(fn)))
     return fn
@@ -68,10 +75,7 @@ def ports(as_json: bool) -> None:
 @json_option
 def status(port: str, baud: int, timeout: float, as_json: bool) -> None:
     """Identify the board: firmware, clock, free space, runs."""
-    b = _board(port, baud, timeout)
-    with b.link:
-        info = b.identify()
-        runs, active = b.list_runs()
+    info, (runs, active) = _on_board(port, baud, timeout, lambda b: (b.identify(), b.list_runs()))
     payload = {
         "board": info.to_dict(),
         "runs": [{"run": r.run, "size": r.size} for r in runs],
@@ -98,11 +102,9 @@ def status(port: str, baud: int, timeout: float, as_json: bool) -> None:
 @json_option
 def clock(port: str, baud: int, timeout: float, as_json: bool) -> None:
     """Set the board's clock from this computer's UTC clock; report its previous offset."""
-    b = _board(port, baud, timeout)
-    with b.link:
-        t0 = time.time()
-        new, prev = b.set_clock(int(t0 * 1000))
-        rtt = time.time() - t0
+    t0 = time.time()
+    new, prev = _on_board(port, baud, timeout, lambda b: b.set_clock(int(time.time() * 1000)))
+    rtt = time.time() - t0  # includes opening the port: an upper bound
     offset = None if prev == 0 else (prev - new) / 1000.0
     payload = {
         "set_to_ms": new,
@@ -116,26 +118,21 @@ def clock(port: str, baud: int, timeout: float, as_json: bool) -> None:
     emit(as_json, payload, text)
 
 
-@click.command("start")
-@_with_board
-@json_option
-def start(port: str, baud: int, timeout: float, as_json: bool) -> None:
-    """Start a new run (set the clock first with `heatlog clock`)."""
-    b = _board(port, baud, timeout)
-    with b.link:
-        run = b.start_run()
-    emit(as_json, {"run": run}, f"run {run} started")
+def _run_command(name: str, method: str, done: str, doc: str) -> click.Command:
+    """``start`` and ``stop``: one board call that answers with a run number."""
+
+    def command(port: str, baud: int, timeout: float, as_json: bool) -> None:
+        run = _on_board(port, baud, timeout, lambda b: getattr(b, method)())
+        emit(as_json, {"run": run}, f"run {run} {done}")
+
+    command.__doc__ = doc
+    return click.command(name)(_with_board(json_option(command)))
 
 
-@click.command("stop")
-@_with_board
-@json_option
-def stop(port: str, baud: int, timeout: float, as_json: bool) -> None:
-    """Stop the active run."""
-    b = _board(port, baud, timeout)
-    with b.link:
-        run = b.stop_run()
-    emit(as_json, {"run": run}, f"run {run} stopped")
+start = _run_command(
+    "start", "start_run", "started", "Start a new run (set the clock first with `heatlog clock`)."
+)
+stop = _run_command("stop", "stop_run", "stopped", "Stop the active run.")
 
 
 class _Progress:
@@ -236,9 +233,7 @@ def erase_cmd(port: str, baud: int, timeout: float, out: Path, run: int, as_json
     from heatlog.device.archive import Archive
     from heatlog.device.pull import erase
 
-    b = _board(port, baud, timeout)
-    with b.link:
-        entry = erase(b, Archive(out), run)
+    entry = _on_board(port, baud, timeout, lambda b: erase(b, Archive(out), run))
     emit(
         as_json,
         {"erased": run, "archived_as": entry.to_dict()},

@@ -106,7 +106,7 @@ class FakeMachine:
         # instance attributes shadow the class names the firmware calls
         self.ADC = self._adc  # type: ignore[misc,assignment]
 
-    def _adc(self, pin: Pin, atten: int | None = None) -> _Adc:
+    def _adc(self, pin: Pin, atten: int | None = None) -> _Adc:  # type: ignore[valid-type]
         return _Adc(self, pin)
 
     def RTC(self) -> _Rtc:  # noqa: N802 - the machine API's name
