@@ -7,6 +7,8 @@ import struct
 
 import pytest
 import serial
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from heatlog.device import framing as fr
 from heatlog.device.commands import BadReply, Board
@@ -170,3 +172,19 @@ def test_a_board_that_always_says_more_runs_is_stopped():
     link = Link(Scripted(lambda f: fr.encode(f.type | 0x80, f.request_id, body)))
     with pytest.raises(BadReply, match="more runs"):
         Board(link).list_runs()
+
+
+@given(st.binary(max_size=300))
+@settings(max_examples=200, deadline=None)
+def test_any_reply_bytes_end_in_a_result_or_a_link_error(body):
+    # whatever a board (or an impostor) answers, the host parses it as data or refuses it cleanly
+    def respond(f):
+        return fr.encode(f.type | 0x80, f.request_id, body)
+
+    b = Board(Link(Scripted(respond), timeout=0.05, retries=0))
+    for call in (b.identify, b.list_runs, lambda: b.checksum(1), lambda: b.set_clock(0), b.get_config,
+                 lambda: b.stream(True), b.start_run, lambda: Board.parse_read(body, 1, 0, 512)):  # fmt: skip
+        try:
+            call()
+        except LinkError:
+            pass

@@ -95,3 +95,30 @@ def test_sim_command_serves_for_a_while_and_reports_its_truth(tmp_path):
     assert json.loads(r.output)["scenario"] == "exothermic" and truth.is_file()
     r = run("sim", "--link", str(tmp_path / "l"), "--scenario", "nope", "--seconds", "0.1")
     assert r.exit_code == 2 and "choose one of" in r.output
+
+
+def test_a_pulled_and_calibrated_csv_goes_straight_into_reduce(port, tmp_path):
+    from heatlog.demo import _write_probe
+
+    _write_probe(tmp_path)
+    out = tmp_path / "arch"
+    r = run(
+        "pull",
+        "--port",
+        port,
+        "--out",
+        str(out),
+        "--run",
+        "1",
+        "--probes",
+        str(tmp_path / "probes"),
+        "--json",
+    )
+    assert r.exit_code == 0, r.output
+    csv = json.loads(r.output)["exports"][0]["csv"]
+    r = run("reduce", csv, "--json")
+    assert r.exit_code == 0, r.output
+    d = json.loads(r.output)
+    # run 1 of the demo scenario: 1500 J of heater into about 669 J/K (invented data), a rise
+    # of about 2.24 K; the first hour holds the whole event and its after-period
+    assert d["delta_t_K"] == pytest.approx(1500.0 / 669.4, rel=0.02)
