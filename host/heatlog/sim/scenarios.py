@@ -78,6 +78,7 @@ CUP_C_J_PER_K = 42.0  # cup, lid, stirrer and probe
 WATER_G = 150.0
 ROOM_C = 22.5
 K_PER_S = 4e-4  # exchange rate constant of the lidded cup
+STIR_W = 0.01  # heat from the magnetic stirrer
 HEATER_W, HEATER_S = 5.0, 300.0
 NH4NO3_G, NH4NO3_CP, NH4NO3_M = 8.0, 1.74, 80.043  # cp from memory; M from atomic weights
 NH4NO3_DH_KJ = 25.9  # invented dissolution enthalpy used by the scenario (absorbs heat)
@@ -87,7 +88,7 @@ CACL2_DH_KJ = -81.0  # invented, near the literature value from memory (releases
 
 def _cup(extra_J_per_K: float, start_C: float) -> Vessel:
     c = CUP_C_J_PER_K + WATER_G * float(water_cp(22.0)) + extra_J_per_K
-    return Vessel(c, K_PER_S * c, ROOM_C, start_C, stir_W=0.0, probe_lag_s=3.0)
+    return Vessel(c, K_PER_S * c, ROOM_C, start_C, stir_W=STIR_W, probe_lag_s=3.0)
 
 
 def electrical_calibration() -> Experiment:
