@@ -5,6 +5,7 @@
 from __future__ import annotations
 
 import json
+import signal
 import sys
 import time
 from collections.abc import Callable
@@ -331,6 +332,7 @@ def sim(link_path: Path, scenario: str, speed: float, flash_dir: Path | None, tr
                    f"linked at {link_path}; speed x{speed:g}. Ctrl-C stops.", err=True)  # fmt: skip
         if scn.caution:
             click.echo(scn.caution, err=True)
+    signal.signal(signal.SIGTERM, lambda *_: server.request_stop())
     try:
         server.serve(seconds)
     except KeyboardInterrupt:

@@ -270,6 +270,10 @@ class PtyServer:
     def request_reset(self) -> None:
         self._reset.set()
 
+    def request_stop(self) -> None:
+        """Ask serve() to end (safe from a signal handler or another thread)."""
+        self._stop.set()
+
     def stop(self) -> None:
         self._stop.set()
         if self._thread is not None:
