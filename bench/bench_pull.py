@@ -1,6 +1,7 @@
 """Benchmark: pull a multi-megabyte run from the simulated board over a pty whose board-to-host
 direction is paced at a set baud rate, and print the payload rate as a fraction of the link's
-nominal byte rate (baud/10). No assertions; prints figures and ratios.
+nominal byte rate (baud/10). No assertions; prints figures and ratios. The simulator runs in its
+own process (``heatlog sim --flash DIR --baud B --latency-ms 2``), as a board would.
 
     python bench/bench_pull.py [megabytes] [baud]
 
@@ -10,6 +11,8 @@ records, one channel) on the virtual board before the clock starts. Only the boa
 paced; the host's requests are small and travel on the other direction of a full-duplex link.
 """
 
+import os
+import subprocess
 import sys
 import tempfile
 import time
@@ -23,7 +26,7 @@ from heatlog.device.commands import Board  # noqa: E402
 from heatlog.device.link import Link  # noqa: E402
 from heatlog.device.pull import pull  # noqa: E402
 from heatlog.sim import scenarios as sc  # noqa: E402
-from heatlog.sim.board import PtyServer, VirtualBoard  # noqa: E402
+from heatlog.sim.board import VirtualBoard  # noqa: E402
 
 MB = float(sys.argv[1]) if len(sys.argv) > 1 else 2.0
 BAUD = int(sys.argv[2]) if len(sys.argv) > 2 else 921600
@@ -48,16 +51,23 @@ def main() -> None:
               f"{LATENCY_S * 1e3:.0f} ms board latency")  # fmt: skip
         rows = []
         for window in (1, 2, 4, 8):
-            server = PtyServer(
-                board, Path(tmp) / "link", speed=1.0, baud=BAUD, latency_s=LATENCY_S
-            ).start()
+            link_path = Path(tmp) / "link"
+            env = dict(os.environ, PYTHONPATH=str(ROOT / "host"))
+            cmd = [sys.executable, "-m", "heatlog", "sim", "--link", str(link_path), "--flash",
+                   str(Path(tmp) / "flash"), "--baud", str(BAUD), "--latency-ms", str(LATENCY_S * 1e3)]  # fmt: skip
+            sim = subprocess.Popen(
+                cmd, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL
+            )
             try:
-                with Link.open(str(Path(tmp) / "link"), timeout=2.0) as link:
+                while not link_path.exists():
+                    time.sleep(0.05)
+                with Link.open(str(link_path), timeout=2.0) as link:
                     t = time.perf_counter()
                     rep = pull(Board(link), Archive(Path(tmp) / f"out{window}"), window=window)
                     dt = time.perf_counter() - t
             finally:
-                server.close()
+                sim.terminate()
+                sim.wait(timeout=10)
             rate = rep.bytes / dt
             rows.append((window, rate))
             print(f"window {window}: {rep.bytes / 1e6:.2f} MB in {dt:.1f} s = {rate / 1e3:.1f} kB/s "

@@ -309,11 +309,17 @@ def watch(
     "--board-id", default="sim-1", show_default=True, help="Board id in a fresh flash's config."
 )
 @click.option("--baud", type=int, default=None, help="Pace the board's output at this baud rate.")
+@click.option(
+    "--latency-ms",
+    type=click.FloatRange(0, 1000),
+    default=0.0,
+    help="Delay host bytes by this much.",
+)
 @click.option("--seconds", type=float, default=None, help="Stop after this many real seconds.")
 @click.option("--seed", type=int, default=0, show_default=True, help="Seed of the ADC noise.")
 @json_option
 def sim(link_path: Path, scenario: str, speed: float, flash_dir: Path | None, truth_path: Path | None,
-        board_id: str, baud: int | None, seconds: float | None, seed: int, as_json: bool) -> None:  # fmt: skip
+        board_id: str, baud: int | None, latency_ms: float, seconds: float | None, seed: int, as_json: bool) -> None:  # fmt: skip
     """Run a virtual board (the real firmware) on a pseudo-terminal at LINK until stopped."""
     import tempfile
 
@@ -326,7 +332,9 @@ def sim(link_path: Path, scenario: str, speed: float, flash_dir: Path | None, tr
         tmp = tempfile.TemporaryDirectory(prefix="heatlog-sim-")
         flash_dir = Path(tmp.name)
     board = VirtualBoard(scn, flash_dir, board_id=board_id, seed=seed)
-    server = PtyServer(board, link_path, speed=speed, baud=baud, truth_path=truth_path)
+    server = PtyServer(
+        board, link_path, speed=speed, baud=baud, latency_s=latency_ms / 1000, truth_path=truth_path
+    )
     if not as_json:
         click.echo(f"virtual board {board_id} ({scn.name}: {scn.description}; invented data) on {server.port}, "
                    f"linked at {link_path}; speed x{speed:g}. Ctrl-C stops.", err=True)  # fmt: skip

@@ -310,6 +310,7 @@ class PtyServer:
         runs_seen = 0
         last_truth = 0.0
         inbox: list[tuple[float, bytes]] = []
+        busy = False
         while not self._stop.is_set():
             now = time.monotonic()
             if seconds is not None and now - r0 > seconds:
@@ -349,9 +350,10 @@ class PtyServer:
                 del pending[: len(pending) - MAX_PENDING_OUT]
             if pending:
                 n = len(pending)
-                if self.baud:
-                    allowance = min(allowance + (now - last_pace) * self.baud / 10, 256)
+                if self.baud:  # the line sends continuously while it has bytes: no lost credit
+                    allowance += (now - last_pace) * self.baud / 10 if busy else 0.0
                     n = min(n, int(allowance))
+                busy = True
                 last_pace = now
                 if n > 0:
                     try:
@@ -361,7 +363,8 @@ class PtyServer:
                     del pending[:k]
                     allowance -= k
                     self.bytes_out += k
-            else:
+            if not pending:  # idle line: no credit is saved up
+                busy = False
                 last_pace = now
                 allowance = 0.0
         self._write_truth()
