@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import json
 import struct
+import time
 from collections.abc import Iterator
 from dataclasses import dataclass
 from typing import Any
@@ -215,8 +216,6 @@ class Board:
 
     def live_records(self, seconds: float) -> Iterator[bytes]:
         """Live record payloads arriving within ``seconds``."""
-        import time
-
         end = time.monotonic() + seconds
         while time.monotonic() < end:
             while self.link.live:

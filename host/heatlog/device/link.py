@@ -80,7 +80,7 @@ class Link:
         self._rid = 0
         self._last_rx = time.monotonic()
         self._good_frames = 0
-        self._junk_bytes = 0
+        self._junk_seen = 0
         try:
             port.reset_input_buffer()
         except (AttributeError, OSError, serial.SerialException):
@@ -167,7 +167,7 @@ class Link:
                 self.frames.append(item)
             elif item.reason == "junk":
                 self.stats.junk_reports += 1
-                self._junk_bytes += 1
+                self._junk_seen += 1
             else:
                 self.stats.bad_frames += 1
                 if item.request_id:
@@ -207,7 +207,7 @@ class Link:
                     self.resync()
             if attempt < tries:
                 self.stats.retries += 1
-        if self._good_frames == 0 and self._junk_bytes:
+        if self._good_frames == 0 and self._junk_seen:
             raise NotABoard(
                 f"something answers on {self.name}, but not a heatlog board (no valid frame in "
                 f"{tries} tries); check the port with `heatlog ports`"
