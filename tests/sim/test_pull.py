@@ -124,3 +124,10 @@ def test_a_board_reset_mid_pull_resumes_to_identical_files(board, tmp_path):
         server.close()
     assert board.resets == 1
     assert archived(tmp_path / "a") == flash_runs(board) and len(rep.pulled) == 2
+
+
+def test_a_run_too_short_for_a_header_is_skipped_with_a_reason(board, tmp_path):
+    (board.root / "r0007.hlg").write_bytes(b"HLOG")  # e.g. a run file cut by power loss at creation
+    rep = pull(Board(Link(DirectPort(board), timeout=0.5)), Archive(tmp_path / "a"))
+    assert [e.run for e in rep.pulled] == [1, 2]
+    assert rep.skipped == [{"run": 7, "reason": "only 4 bytes: no complete header"}]

@@ -21,6 +21,7 @@ from heatlog.device.commands import READ_CHUNK, BadReply, Board
 from heatlog.device.link import BoardError, LinkTimeout
 from heatlog.errors import InputError, LinkError
 
+MIN_RUN_BYTES = 64 + 24 + 4  # the smallest header (one channel)
 Progress = Callable[[int, int, int], None]  # (run, bytes done, bytes total)
 
 
@@ -147,6 +148,11 @@ def pull(
             continue
         if e.run == active:
             report.skipped.append({"run": e.run, "reason": "active: stop the run, then pull it"})
+            continue
+        if e.size < MIN_RUN_BYTES:
+            report.skipped.append(
+                {"run": e.run, "reason": f"only {e.size} bytes: no complete header"}
+            )
             continue
         have = archive.find(bid, e.run)
         if have is not None and have.size == e.size:
