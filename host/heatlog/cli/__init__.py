@@ -45,6 +45,15 @@ _COMMAND_MODULES: tuple[tuple[str, str], ...] = (
     ("energetics", "hess"),
     ("demo", "demo"),
     ("profile", "profile"),
+    ("device", "ports"),
+    ("device", "status"),
+    ("device", "clock"),
+    ("device", "start"),
+    ("device", "stop"),
+    ("device", "pull_cmd"),
+    ("device", "erase_cmd"),
+    ("device", "watch"),
+    ("device", "sim"),
 )
 
 

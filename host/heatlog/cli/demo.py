@@ -1,4 +1,4 @@
-"""``heatlog demo``: the whole job on invented data, no board needed."""
+"""``heatlog demo``: the whole job on a simulated board (invented data), no hardware needed."""
 
 from __future__ import annotations
 
@@ -15,6 +15,11 @@ CAUTION = (
 )
 
 
+def _heat(d: dict) -> float:
+    runs = d["simulator"]["runs"]
+    return float(runs[-1]["total_heat_J"]) if runs else float("nan")
+
+
 @click.command("demo")
 @click.option(
     "--out",
@@ -25,10 +30,14 @@ CAUTION = (
 )
 @json_option
 def demo(out: Path, as_json: bool) -> None:
-    """Calibrate a probe, find a cup's heat capacity and measure a dissolution enthalpy (invented data)."""
+    """Simulate a board, pull its runs and measure a dissolution enthalpy (invented data).
+
+    Starts the virtual board (the real firmware under the simulator) on a pseudo-terminal, logs
+    an electrical calibration and an ammonium nitrate dissolution, pulls and verifies them,
+    applies the probe calibration and reduces both runs; prints the result beside the truth."""
     from heatlog.demo import run_demo
 
-    result = run_demo(out)
+    result = run_demo(out, say=(lambda s: None) if as_json else (lambda s: click.echo(s, err=True)))
     payload = result.to_dict()
     (out / "results.json").write_text(json.dumps(jsonable(payload), indent=2), encoding="utf-8")
 
@@ -38,15 +47,18 @@ def demo(out: Path, as_json: bool) -> None:
         cal = result.calibration
         assert run.molar is not None and cal.c_cal is not None
         lines = [
-            "heatlog demo — invented data, no board attached",
+            "heatlog demo — invented data, simulated board (the real firmware under the simulator)",
             f"  probe: Steinhart–Hart fit of the bundled calibration points -> {out / 'probe.toml'}",
+            f"  pulled {len(result.pull.pulled)} runs ({result.pull.bytes} bytes, CRC-32 verified) into "
+            f"{out / 'archive'}; demo took {result.seconds:.1f} s",
             f"  calibration run: ΔT = {cal.reduction.delta_t_K:+.4f} K ± {cal.reduction.u_delta_t_K:.4f} K "
             f"({cal.reduction.method}); C_cal = {cal.c_cal.value:.1f} ± {cal.c_cal.u:.1f} J/K "
             f"(invented truth {d['true_calorimeter_constant_J_per_K']:.1f} J/K)",
             f"  dissolution run: ΔT = {run.reduction.delta_t_K:+.4f} K ± {run.reduction.u_delta_t_K:.4f} K "
             f"(naive peak reading {run.reduction.naive_delta_t_K:+.4f} K)",
             f"  ΔH(NH4NO3, dissolution) = {run.molar.value:+.2f} ± {run.molar.expanded:.2f} kJ/mol "
-            f"(k = 2; invented truth {d['true_enthalpy_kJ_per_mol']:+.2f} kJ/mol)",
+            f"(k = 2; simulator's truth {d['true_enthalpy_kJ_per_mol']:+.2f} kJ/mol, "
+            f"{-_heat(d):.1f} J absorbed)",
         ]
         if run.hess is not None:
             lines.append(

@@ -1,0 +1,352 @@
+"""Board commands: ``ports``, ``status``, ``clock``, ``start``, ``stop``, ``pull``, ``erase``,
+``watch`` and the simulator, ``sim``. Thin: the work is in :mod:`heatlog.device` and
+:mod:`heatlog.sim`; a :class:`~heatlog.errors.LinkError` ends as one line."""
+
+from __future__ import annotations
+
+import json
+import signal
+import sys
+import time
+from collections.abc import Callable
+from pathlib import Path
+from typing import Any
+
+import click
+
+from heatlog.cli.output import emit, json_option
+
+# USB vendor ids of the boards and bridges heatlog runs on (from the vendors' USB id listings)
+_VENDORS = {
+    0x2E8A: "Raspberry Pi (RP2040/RP2350)",
+    0x303A: "Espressif (ESP32 native USB)",
+    0x10C4: "Silicon Labs CP210x bridge",
+    0x1A86: "WCH CH340 bridge",
+    0x0403: "FTDI bridge",
+}
+
+port_option = click.option(
+    "--port", "-p", required=True, help="Serial port or pyserial URL of the board."
+)
+baud_option = click.option(
+    "--baud", default=115200, show_default=True, help="Baud rate (USB CDC ignores it)."
+)
+timeout_option = click.option(
+    "--timeout", default=1.0, show_default=True, help="Seconds to wait for each reply."
+)
+
+
+def _board(port: str, baud: int, timeout: float) -> Any:
+    from heatlog.device.commands import Board
+    from heatlog.device.link import Link
+
+    return Board(Link.open(port, baudrate=baud, timeout=timeout))
+
+
+def _on_board(port: str, baud: int, timeout: float, fn: Callable[[Any], Any]) -> Any:
+    """Open the board, run ``fn(board)``, close the port whatever happens."""
+    b = _board(port, baud, timeout)
+    with b.link:
+        return fn(b)
+
+
+def _with_board(fn: Callable[..., Any]) -> Callable[..., Any]:
+    fn = timeout_option(baud_option(port_option(fn)))
+    return fn
+
+
+@click.command("ports")
+@json_option
+def ports(as_json: bool) -> None:
+    """List serial ports; boards heatlog knows are marked."""
+    from serial.tools import list_ports
+
+    found = []
+    for p in sorted(list_ports.comports(), key=lambda p: p.device):
+        vendor = _VENDORS.get(p.vid or -1)
+        found.append({"port": p.device, "description": p.description, "vid": p.vid, "pid": p.pid,
+                      "serial_number": p.serial_number, "likely_board": vendor is not None, "vendor": vendor})  # fmt: skip
+    lines = [f"{'*' if f['likely_board'] else ' '} {f['port']}  {f['description']}" for f in found]
+    legend = "\n* likely a board" if any(f["likely_board"] for f in found) else ""
+    emit(as_json, {"ports": found}, "\n".join(lines) + legend if found else "no serial ports found")
+
+
+@click.command("status")
+@_with_board
+@json_option
+def status(port: str, baud: int, timeout: float, as_json: bool) -> None:
+    """Identify the board: firmware, clock, free space, runs."""
+    info, (runs, active) = _on_board(port, baud, timeout, lambda b: (b.identify(), b.list_runs()))
+    payload = {
+        "board": info.to_dict(),
+        "runs": [{"run": r.run, "size": r.size} for r in runs],
+        "active": active,
+    }
+
+    def text() -> str:
+        clock = (
+            "not set"
+            if info.clock_ms is None
+            else time.strftime("%Y-%m-%d %H:%M:%S UTC", time.gmtime(info.clock_ms / 1000))
+        )
+        lines = [f"board {info.board_id}  firmware {info.firmware}  clock {clock}",
+                 f"free {info.free_bytes} of {info.total_bytes} bytes; active run: {active or 'none'}"]  # fmt: skip
+        lines += [f"  run {r.run}: {r.size} bytes" for r in runs]
+        lines += [f"  config problem: {e}" for e in info.config_errors]
+        return "\n".join(lines)
+
+    emit(as_json, payload, text)
+
+
+@click.command("clock")
+@_with_board
+@json_option
+def clock(port: str, baud: int, timeout: float, as_json: bool) -> None:
+    """Set the board's clock from this computer's UTC clock; report its previous offset."""
+    t0 = time.time()
+    new, prev = _on_board(port, baud, timeout, lambda b: b.set_clock(int(time.time() * 1000)))
+    rtt = time.time() - t0  # includes opening the port: an upper bound
+    offset = None if prev == 0 else (prev - new) / 1000.0
+    payload = {
+        "set_to_ms": new,
+        "previous_ms": prev or None,
+        "previous_offset_s": offset,
+        "round_trip_s": rtt,
+    }
+    text = f"clock set to host UTC ({rtt * 1000:.0f} ms round trip); " + (
+        "it was not set before" if offset is None else f"it was {offset:+.3f} s off"
+    )
+    emit(as_json, payload, text)
+
+
+def _run_command(name: str, method: str, done: str, doc: str) -> click.Command:
+    """``start`` and ``stop``: one board call that answers with a run number."""
+
+    def command(port: str, baud: int, timeout: float, as_json: bool) -> None:
+        run = _on_board(port, baud, timeout, lambda b: getattr(b, method)())
+        emit(as_json, {"run": run}, f"run {run} {done}")
+
+    command.__doc__ = doc
+    return click.command(name)(_with_board(json_option(command)))
+
+
+start = _run_command(
+    "start", "start_run", "started", "Start a new run (set the clock first with `heatlog clock`)."
+)
+stop = _run_command("stop", "stop_run", "stopped", "Stop the active run.")
+
+
+class _Progress:
+    """Bytes/s and ETA on stderr, one updating line."""
+
+    def __init__(self) -> None:
+        self.t0 = time.monotonic()
+        self.done0: dict[int, int] = {}
+        self.shown = 0.0
+
+    def __call__(self, run: int, done: int, total: int) -> None:
+        first = self.done0.setdefault(run, done)
+        if done < total and time.monotonic() - self.shown < 0.2:
+            return
+        self.shown = time.monotonic()
+        dt = max(time.monotonic() - self.t0, 1e-6)
+        rate = (done - first) / dt
+        eta = (total - done) / rate if rate > 0 else float("inf")
+        click.echo(
+            f"\rrun {run}: {done}/{total} bytes  {rate / 1000:.1f} kB/s  ETA {eta:.0f} s ",
+            nl=False,
+            err=True,
+        )
+        if done >= total:
+            click.echo("", err=True)
+            self.t0 = time.monotonic()
+
+
+@click.command("pull")
+@_with_board
+@click.option(
+    "--out",
+    "out",
+    type=click.Path(file_okay=False, path_type=Path),
+    required=True,
+    help="Archive folder.",
+)
+@click.option("--run", "runs", type=int, multiple=True, help="Pull only this run (repeatable).")
+@click.option("--probes", type=click.Path(file_okay=False, exists=True, path_type=Path), default=None,
+              help="Folder of probe files named <probe id>.toml, applied to the CSV export.")  # fmt: skip
+@click.option(
+    "--window",
+    default=4,
+    show_default=True,
+    type=click.IntRange(1, 16),
+    help="Read requests in flight.",
+)
+@click.option(
+    "--progress/--no-progress",
+    default=None,
+    help="Progress on stderr (default: when stderr is a terminal).",
+)
+@json_option
+def pull_cmd(port: str, baud: int, timeout: float, out: Path, runs: tuple[int, ...], probes: Path | None,
+             window: int, progress: bool | None, as_json: bool) -> None:  # fmt: skip
+    """Download runs, verify them (chunk CRC + whole-run CRC-32) and archive them read-only.
+
+    Resumes after a fault from the last verified byte; a second pull fetches nothing new. Each
+    new run also gets a CSV (raw and, with --probes, calibrated columns) and JSON metadata."""
+    from heatlog.device.archive import Archive
+    from heatlog.device.export import export_run
+    from heatlog.device.pull import pull
+
+    show = sys.stderr.isatty() if progress is None else progress
+    archive = Archive(out)
+    b = _board(port, baud, timeout)
+    with b.link:
+        report = pull(
+            b, archive, runs=runs or None, window=window, progress=_Progress() if show else None
+        )
+    exports = []
+    for e in report.pulled + (report.already if probes else []):
+        csv, meta = export_run(out / e.name, probes)
+        exports.append({"run": e.run, "csv": str(csv), "metadata": str(meta)})
+    payload = report.to_dict() | {"exports": exports}
+
+    def text() -> str:
+        lines = [f"board {report.board_id}: pulled {len(report.pulled)} run(s), {report.bytes} bytes in {report.seconds:.1f} s; "
+                 f"{len(report.already)} already archived"]  # fmt: skip
+        lines += [f"  {e.name}  sha256 {e.sha256[:16]}…" for e in report.pulled]
+        lines += [f"  run {s['run']} skipped: {s['reason']}" for s in report.skipped]
+        return "\n".join(lines)
+
+    emit(as_json, payload, text)
+
+
+pull_cmd.name = "pull"
+
+
+@click.command("erase")
+@_with_board
+@click.option("--out", "out", type=click.Path(file_okay=False, exists=True, path_type=Path), required=True,
+              help="The archive folder that holds the verified copy.")  # fmt: skip
+@click.argument("run", type=int)
+@json_option
+def erase_cmd(port: str, baud: int, timeout: float, out: Path, run: int, as_json: bool) -> None:
+    """Erase RUN on the board, only if the archive holds an identical verified copy."""
+    from heatlog.device.archive import Archive
+    from heatlog.device.pull import erase
+
+    entry = _on_board(port, baud, timeout, lambda b: erase(b, Archive(out), run))
+    emit(
+        as_json,
+        {"erased": run, "archived_as": entry.to_dict()},
+        f"run {run} erased; the archive keeps {entry.name}",
+    )
+
+
+erase_cmd.name = "erase"
+
+
+@click.command("watch")
+@_with_board
+@click.option("--probes", type=click.Path(file_okay=False, exists=True, path_type=Path), default=None,
+              help="Folder of probe files named <probe id>.toml.")  # fmt: skip
+@click.option("--seconds", type=float, default=None, help="Stop after this many seconds.")
+@click.option("--count", type=int, default=None, help="Stop after this many readings.")
+@json_option
+def watch(
+    port: str,
+    baud: int,
+    timeout: float,
+    probes: Path | None,
+    seconds: float | None,
+    count: int | None,
+    as_json: bool,
+) -> None:
+    """Show live readings (raw and, with --probes, calibrated) until Ctrl-C, --seconds or --count."""
+    from heatlog.device.live import LiveDecoder
+    from heatlog.logformat import LogCorrupt
+
+    b = _board(port, baud, timeout)
+    readings: list[dict[str, Any]] = []
+    with b.link:
+        dec = LiveDecoder(b.get_config(), b.stream(True), probes)
+        try:
+            end = float("inf") if seconds is None else seconds
+            for payload in b.live_records(end):
+                try:
+                    r = dec.decode(payload)
+                except LogCorrupt:
+                    continue
+                readings.append(r)
+                if not as_json:
+                    click.echo(dec.line(r))
+                if count is not None and len(readings) >= count:
+                    break
+        except KeyboardInterrupt:
+            pass
+        finally:
+            b.stream(False)
+    if as_json:
+        emit(True, {"readings": readings, "channels": dec.channels_meta()}, "")
+
+
+@click.command("sim")
+@click.option("--link", "link_path", type=click.Path(dir_okay=False, path_type=Path), required=True,
+              help="Where to put the symlink to the virtual board's pseudo-terminal.")  # fmt: skip
+@click.option("--scenario", default="demo", show_default=True, help="Invented scenario: demo, calibration, "
+              "endothermic, exothermic, hand-warmer, cement.")  # fmt: skip
+@click.option(
+    "--speed",
+    type=click.FloatRange(0.01, 1e6),
+    default=1.0,
+    show_default=True,
+    help="Virtual seconds per real second.",
+)
+@click.option("--flash", "flash_dir", type=click.Path(file_okay=False, path_type=Path), default=None,
+              help="Folder keeping the board's flash between sessions (default: a temporary one).")  # fmt: skip
+@click.option("--truth", "truth_path", type=click.Path(dir_okay=False, path_type=Path), default=None,
+              help="JSON file the simulator keeps updated with the true heat of each run.")  # fmt: skip
+@click.option(
+    "--board-id", default="sim-1", show_default=True, help="Board id in a fresh flash's config."
+)
+@click.option("--baud", type=int, default=None, help="Pace the board's output at this baud rate.")
+@click.option(
+    "--latency-ms",
+    type=click.FloatRange(0, 1000),
+    default=0.0,
+    help="Delay host bytes by this much.",
+)
+@click.option("--seconds", type=float, default=None, help="Stop after this many real seconds.")
+@click.option("--seed", type=int, default=0, show_default=True, help="Seed of the ADC noise.")
+@json_option
+def sim(link_path: Path, scenario: str, speed: float, flash_dir: Path | None, truth_path: Path | None,
+        board_id: str, baud: int | None, latency_ms: float, seconds: float | None, seed: int, as_json: bool) -> None:  # fmt: skip
+    """Run a virtual board (the real firmware) on a pseudo-terminal at LINK until stopped."""
+    import tempfile
+
+    from heatlog.sim.board import PtyServer, VirtualBoard
+    from heatlog.sim.scenarios import scenario as get_scenario
+
+    scn = get_scenario(scenario)
+    tmp = None
+    if flash_dir is None:
+        tmp = tempfile.TemporaryDirectory(prefix="heatlog-sim-")
+        flash_dir = Path(tmp.name)
+    board = VirtualBoard(scn, flash_dir, board_id=board_id, seed=seed)
+    server = PtyServer(
+        board, link_path, speed=speed, baud=baud, latency_s=latency_ms / 1000, truth_path=truth_path
+    )
+    if not as_json:
+        click.echo(f"virtual board {board_id} ({scn.name}: {scn.description}; invented data) on {server.port}, "
+                   f"linked at {link_path}; speed x{speed:g}. Ctrl-C stops.", err=True)  # fmt: skip
+        if scn.caution:
+            click.echo(scn.caution, err=True)
+    signal.signal(signal.SIGTERM, lambda *_: server.request_stop())
+    try:
+        server.serve(seconds)
+    except KeyboardInterrupt:
+        pass
+    finally:
+        server.close()
+        if tmp is not None:
+            tmp.cleanup()
+    emit(as_json, board.truth(), lambda: json.dumps(board.truth(), indent=2))

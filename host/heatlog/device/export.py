@@ -1,0 +1,137 @@
+"""Turn a pulled run file into a CSV (time_s, raw and calibrated columns per channel) and a JSON
+metadata file, applying probe files found by the probe ids in the log's channel table.
+
+Raw values (firmware/LOGFORMAT.md) → resistance: on-chip ADC divider = sum of n 12-bit codes
+→ ``VoltageDivider(bits=12, oversample=n)``; ADS1115 = Q15 ratio → the same divider formula at
+16 bits (raw·2); MAX31865 = sum of n 15-bit codes → ``MAX31865Chain`` on the mean code. The
+first calibrated channel is also written as ``temp_C`` so ``heatlog reduce FILE.csv`` reads it.
+Records with a probe fault are left out of the CSV and counted in the metadata.
+"""
+
+from __future__ import annotations
+
+import json
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from heatlog.device.archive import safe_name
+from heatlog.errors import HeatlogError
+from heatlog.logformat import Channel, RunLog, read_log
+from heatlog.probes import MAX31865Chain, VoltageDivider, load_probe
+from heatlog.probes.probefile import ProbeFile
+
+
+def chain_for(ch: Channel, oversample: int) -> tuple[Any, float, str | None]:
+    """(chain, factor applied to the raw value first, run-file chain spec or None)."""
+    side = "high" if ch.mode == 1 else "low"
+    if ch.kind_code == 1:
+        spec = f"divider:rs={ch.ref_ohm:g},side={side},bits=12,oversample={oversample}"
+        return VoltageDivider(ch.ref_ohm, side, bits=12, oversample=oversample), 1.0, spec
+    if ch.kind_code == 2:
+        return VoltageDivider(ch.ref_ohm, side, bits=16, oversample=1), 2.0, None
+    return MAX31865Chain(ch.ref_ohm), 1.0 / oversample, None
+
+
+@dataclass(frozen=True)
+class ChannelTable:
+    name: str
+    raw: np.ndarray
+    resistance: np.ndarray | None
+    temp_C: np.ndarray | None
+    meta: dict[str, Any]
+
+
+def calibrate(
+    log: RunLog, probes: dict[str, ProbeFile]
+) -> tuple[np.ndarray, list[ChannelTable], np.ndarray]:
+    """Pure: (time_s, per-channel columns, mask of records kept) for a decoded run."""
+    keep = log.fault_mask == 0
+    t = log.offset_ms[keep] / 1000.0
+    out = []
+    for i, ch in enumerate(log.header.channels):
+        raw = log.raw[keep, i]
+        chain, factor, spec = chain_for(ch, log.header.oversample)
+        meta: dict[str, Any] = {
+            "index": i,
+            "kind": ch.kind,
+            "probe_id": ch.probe_id,
+            "ref_ohm": ch.ref_ohm,
+            "chain": spec,
+        }
+        r = temp = None
+        try:
+            r = (
+                np.asarray(chain.to_resistance(raw * factor), dtype=float)
+                if raw.size
+                else np.zeros(0)
+            )
+            probe = probes.get(ch.probe_id)
+            if probe is None:
+                meta["calibrated"] = f"no probe file for {ch.probe_id!r}"
+            else:
+                temp = np.asarray(probe.model.resistance_to_temperature(r), dtype=float)
+                meta.update(calibrated=True, probe_file_id=probe.id, probe_u_K=probe.uncertainty_K)
+        except HeatlogError as exc:
+            meta["calibrated"] = f"not calibrated: {exc}"
+        out.append(ChannelTable(f"ch{i}", raw, r, temp, meta))
+    return t, out, keep
+
+
+def load_probes(probe_dir: Path | None, ids: list[str]) -> dict[str, ProbeFile]:
+    """Probe files ``<probe_dir>/<probe id>.toml`` for the given ids (sanitised names)."""
+    found: dict[str, ProbeFile] = {}
+    if probe_dir is None:
+        return found
+    for pid in ids:
+        p = Path(probe_dir) / f"{safe_name(pid, limit=64)}.toml"
+        if p.is_file():
+            found[pid] = load_probe(p)
+    return found
+
+
+def export_run(path: Path, probe_dir: Path | None = None, *, note: str = "") -> tuple[Path, Path]:
+    """Write ``<stem>.csv`` and ``<stem>.json`` beside the pulled run file."""
+    log = read_log(path)
+    probes = load_probes(probe_dir, [c.probe_id for c in log.header.channels])
+    t, chans, keep = calibrate(log, probes)
+    cols: list[tuple[str, np.ndarray, str]] = [("time_s", t, "%.3f")]
+    for c in chans:
+        cols.append((f"{c.name}_raw", c.raw, "%d"))
+        if c.resistance is not None:
+            cols.append((f"{c.name}_resistance_ohm", c.resistance, "%.4f"))
+        if c.temp_C is not None:
+            cols.append((f"{c.name}_temp_C", c.temp_C, "%.5f"))
+    first = next((c for c in chans if c.temp_C is not None), None)
+    if first is not None:
+        cols.append(("temp_C", first.temp_C, "%.5f"))  # type: ignore[arg-type]
+    h = log.header
+    csv = path.with_suffix(".csv")
+    lines = [f"# {note or 'heatlog run'}: board {safe_name(h.board_id)} run {h.run}"]
+    lines.append(",".join(name for name, _, _ in cols))
+    data = np.column_stack([c for _, c, _ in cols]) if t.size else np.zeros((0, len(cols)))
+    fmts = [f for _, _, f in cols]
+    lines += [",".join(f % v for f, v in zip(fmts, row, strict=True)) for row in data]
+    csv.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    meta = {
+        "source": path.name,
+        "board_id": h.board_id,
+        "firmware": h.firmware,
+        "run": h.run,
+        "interval_ms": h.interval_ms,
+        "oversample": h.oversample,
+        "anchor_ms": h.anchor_ms,
+        "records": log.n_records,
+        "excluded_fault_records": int((~keep).sum()),
+        "segments": len(log.segments),
+        "bad_blocks": log.bad_blocks,
+        "bad_bytes": log.bad_bytes,
+        "trailing_bytes": log.trailing_bytes,
+        "channels": [c.meta for c in chans],
+        "temp_C_column": first.name if first is not None else None,
+    }
+    js = path.with_suffix(".json")
+    js.write_text(json.dumps(meta, indent=2), encoding="utf-8")
+    return csv, js
