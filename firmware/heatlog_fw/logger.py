@@ -9,8 +9,12 @@ from . import logformat as lf
 from .clock import Clock, rtc_read, rtc_write
 from .logstore import LogStore, StoreError
 from .sampler import Sampler
+from .ticks import ticks_diff
 
 CONFIG_FILE = "config.json"
+# A frame cut short on the way in is dropped after this much silence, so the next request is
+# parsed from its own start byte (firmware/PROTOCOL.md: the host resends after a timeout).
+IDLE_RESET_MS = 500
 
 
 class Logger:
@@ -36,6 +40,7 @@ class Logger:
         self.run_clock_unset = True
         self.watchdog_wanted = False
         self._turns = 0
+        self._last_rx = 0
         self._load_config()
 
     # -- configuration -----------------------------------------------------------------
@@ -166,8 +171,6 @@ class Logger:
         if self.store.active and self.sampler is not None:
             s = self.sampler
             # anchor = wall time at offset 0: now minus the offset of the current moment
-            from .ticks import ticks_diff
-
             offset_now = s.due_offset + ticks_diff(now, s.next_due)
             self.store.clock_set(ms - offset_now, s.seq, offset_now, now)
             self.run_clock_unset = False
@@ -209,8 +212,14 @@ class Logger:
             self._turns = 0
             self.clock.now_ms(now)
         if data:
+            self._last_rx = now
             for ftype, rid, payload in self.parser.feed(data):
                 for reply in protocol.handle(self, ftype, rid, payload, now):
+                    self.write(reply)
+        elif self.parser.n and ticks_diff(now, self._last_rx) >= IDLE_RESET_MS:
+            dropped = self.parser.reset()
+            if dropped is not None:
+                for reply in protocol.handle(self, dropped[0], dropped[1], dropped[2], now):
                     self.write(reply)
         s = self.sampler
         if s is None or not s.running:

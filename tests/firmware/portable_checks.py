@@ -728,6 +728,24 @@ def check_logger_commands(vectors):
     assert got[0][0] == pr.ERROR and got[0][2][0] == pr.E_BAD_FRAME
 
 
+def check_logger_drops_a_cut_request_after_silence(vectors):
+    from heatlog_fw import protocol as pr
+    from heatlog_fw.logger import IDLE_RESET_MS
+
+    lg, link, fs = _logger(EXAMPLE_CONFIG)
+    lg.boot(0)
+    whole = framing.encode(pr.IDENTIFY, 9, b"")
+    lg.poll(whole[:4], 1000)  # the rest of this request is lost on the way
+    lg.poll(None, 1000 + IDLE_RESET_MS - 1)
+    assert link.frames() == []  # still waiting within the idle window
+    lg.poll(None, 1000 + IDLE_RESET_MS)
+    got = link.frames()
+    assert len(got) == 1 and got[0][0] == pr.ERROR and got[0][2][0] == pr.E_BAD_FRAME, got
+    # the next request is parsed from its own start byte and answered
+    t, p = link.ask(pr.IDENTIFY, b"", 2000)
+    assert t == pr.IDENTIFY | 0x80
+
+
 def check_logger_bad_config_idles(vectors):
     from heatlog_fw import protocol as pr
 
@@ -1003,6 +1021,7 @@ CHECKS = [
     check_rtc_keeps_clock_through_reset,
     check_sampler_no_drift_across_wrap,
     check_logger_commands,
+    check_logger_drops_a_cut_request_after_silence,
     check_logger_bad_config_idles,
     check_logger_resumes_after_reset,
     check_sampler_allocates_nothing,
