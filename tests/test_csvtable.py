@@ -63,3 +63,31 @@ def test_arbitrary_text_never_escapes_as_a_traceback(text):
         read_columns(io.StringIO(text), ["a", "b"])
     except InputError:
         pass
+
+
+def _long_file(path, rows=20_000, bad_row=None, bad="abc"):
+    lines = ["# invented data", "time_s,temp_C"]
+    for i in range(rows):
+        lines.append(f"{i * 0.5!r},{20 + 1e-3 * i!r}" if i != bad_row else f"{i * 0.5!r},{bad}")
+    path.write_text("\n".join(lines) + "\n")
+
+
+def test_long_files_read_exactly_as_numpy_loadtxt(tmp_path):
+    p = tmp_path / "long.csv"
+    _long_file(p)
+    assert p.stat().st_size > 1 << 16  # past the head: the fast parser is used
+    cols = read_columns(p, ["temp_C", "time_s"], min_rows=2)
+    ref = np.loadtxt(p, delimiter=",", skiprows=2)
+    np.testing.assert_array_equal(cols["time_s"], ref[:, 0])
+    np.testing.assert_array_equal(cols["temp_C"], ref[:, 1])
+
+
+@pytest.mark.parametrize(
+    "bad, fragment", [("abc", "non-numeric"), ("", "non-numeric"), ("nan", "non-finite")]
+)
+def test_long_files_report_bad_cells_like_short_ones(tmp_path, bad, fragment):
+    p = tmp_path / "long.csv"
+    _long_file(p, bad_row=15_000, bad=bad)
+    with pytest.raises(InputError) as err:
+        read_columns(p, ["time_s", "temp_C"])
+    assert fragment in str(err.value) and "\n" not in str(err.value)

@@ -2,8 +2,9 @@
 
 Every CSV that heatlog reads (calibration points, thermograms) goes through
 :func:`read_columns`, so the checks a user relies on (missing columns, text cells, NaN, too few
-rows) behave the same everywhere. Parsing is ``numpy.loadtxt`` on the wanted columns only; the
-checks are vectorised, so reading a million rows costs little more than ``loadtxt`` itself.
+rows) behave the same everywhere. Parsing is ``numpy.loadtxt`` on the wanted columns only; long
+files that are plainly numeric go through pandas' C parser instead (exact, about twice as fast),
+and anything it would read differently falls back to ``loadtxt`` and its error messages.
 """
 
 from __future__ import annotations
@@ -37,6 +38,36 @@ def _read_header(text_head: str, where: str) -> tuple[list[str], str]:
         delimiter = ","
     names = [name.strip().strip('"').strip("'") for name in first.split(delimiter)]
     return names, delimiter
+
+
+def _read_large(path: Path, skip: int, delimiter: str, idx: list[int]) -> np.ndarray | None:
+    """Parse a long file with pandas' C parser (about twice as fast as ``numpy.loadtxt``, and
+    exact: it rounds decimal text to the nearest double like ``float()``).
+
+    Returns None whenever the file is not plainly numeric (text cells, empty cells, NaN or inf,
+    ragged rows), so that the ``numpy.loadtxt`` path below reports the problem in its usual words.
+    """
+    import pandas as pd
+
+    try:
+        frame = pd.read_csv(
+            path,
+            sep=delimiter,
+            header=None,
+            skiprows=skip,
+            usecols=idx,
+            comment="#",
+            dtype=np.float64,
+            engine="c",
+            encoding="utf-8-sig",
+            skip_blank_lines=True,
+        )
+    except (ValueError, pd.errors.ParserError, UnicodeDecodeError):
+        return None
+    arr = frame[idx].to_numpy(dtype=np.float64)  # columns in the order asked for
+    if arr.ndim != 2 or not np.isfinite(arr).all():
+        return None
+    return arr
 
 
 def read_columns(
@@ -123,6 +154,9 @@ def read_columns(
         assert path is not None
         rows = path
         skip = text.count("\n", 0, pos) + 1  # comment lines and the header
+        fast = _read_large(path, skip, delimiter, idx)
+        if fast is not None and fast.shape[0] >= min_rows:
+            return {name: np.ascontiguousarray(fast[:, j]) for j, name in enumerate(wanted)}
     try:
         arr = np.loadtxt(
             rows,
