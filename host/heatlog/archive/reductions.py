@@ -177,9 +177,10 @@ class ReductionRecord:
             v, u = self.results.get(key), self.results.get(ukey)
             if v is not None and u is not None:
                 out[name] = (float(v), float(u), unit)
-        cc = self.results.get("calorimeter_constant")
-        if isinstance(cc, dict):
-            out["calorimeter constant"] = (cc["value_J_per_K"], cc["u_J_per_K"], "J/K")
+        for key in ("calorimeter_constant", "calorimeter_constant_used"):
+            cc = self.results.get(key)
+            if isinstance(cc, dict):
+                out[key.replace("_", " ")] = (cc["value_J_per_K"], cc["u_J_per_K"], "J/K")
         return out
 
     def to_dict(self) -> dict[str, Any]:

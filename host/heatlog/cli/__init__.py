@@ -45,6 +45,8 @@ _COMMAND_MODULES: tuple[tuple[str, str], ...] = (
     ("energetics", "hess"),
     ("demo", "demo"),
     ("profile", "profile"),
+    ("archive", "probes"),
+    ("archive", "runs"),
 )
 
 
