@@ -356,6 +356,7 @@ class Rereduction:
     calibration_id: int | None  # None: the supersede rule chose per run
     compared: tuple[Comparison, ...]
     unchanged: tuple[int, ...]  # runs whose calibration stays the same
+    first: tuple[int, ...]  # runs never reduced before: reduced now, nothing to compare
     failed: tuple[tuple[int, str], ...]  # runs that could not be re-reduced, with the reason
 
     def to_dict(self) -> dict[str, Any]:
@@ -365,6 +366,7 @@ class Rereduction:
             "rule": "fixed calibration" if self.calibration_id else "supersede rule",
             "runs": [c.to_dict() for c in self.compared],
             "unchanged_runs": list(self.unchanged),
+            "first_reductions": list(self.first),
             "failed_runs": [{"run_id": r, "error": e} for r, e in self.failed],
         }
 
@@ -395,8 +397,8 @@ def rereduce_probe(
 
     Without ``calibration_id`` the supersede rule picks each run's calibration, so runs dated on
     or after a newly added calibration are affected. With it, that calibration is applied to
-    every run of the probe. A run never reduced is first reduced as it stands (recorded as the
-    old result). Old results stay in the archive; the new ones are added."""
+    every run of the probe. A run never reduced before has nothing to compare with: it is reduced
+    (by the rule) and listed in ``first``. Old results stay in the archive; new ones are added."""
     if calibration_id is not None:
         cal = calibration(archive, calibration_id)
         if cal.probe_id != probe_id:
@@ -405,14 +407,14 @@ def rereduce_probe(
             )
     elif archive.one("SELECT 1 FROM probes WHERE probe_id = ?", (probe_id,)) is None:
         raise InputError(f"probe {probe_id} is not in {archive.path}; see heatlog probes list")
-    compared, unchanged, failed = [], [], []
+    compared, unchanged, first, failed = [], [], [], []
     for run_id, channel in _candidates(archive, probe_id):
         try:
             old = latest_reduction(archive, run_id, channel)
-            if old is None:
-                old = reduce_run(
-                    archive, run_id, channel=channel, reason="reduce (before rereduce)"
-                )
+            if old is None:  # nothing to compare with: reduce it as the rule says, list it apart
+                reduce_run(archive, run_id, channel=channel, reason=f"reduce (rereduce {probe_id})")
+                first.append(run_id)
+                continue
             wanted = {}
             for use in old.calibrations:
                 if use["probe_id"] != probe_id:
@@ -441,4 +443,6 @@ def rereduce_probe(
         compared.append(
             Comparison(run_id, run.title, channel, run.run_date, old, new, _changes(old, new))
         )
-    return Rereduction(probe_id, calibration_id, tuple(compared), tuple(unchanged), tuple(failed))
+    return Rereduction(
+        probe_id, calibration_id, tuple(compared), tuple(unchanged), tuple(first), tuple(failed)
+    )

@@ -259,18 +259,20 @@ def _rereduce_text(r: Rereduction) -> Callable[[], str]:
                 f"{d['old_calibration_ids']} → {d['new_calibration_ids']}"
             )
             lines.append(
-                f"  {'quantity':<22} {'old':>14} {'new':>14} {'change':>12} {'change/u':>9}"
+                f"  {'quantity':<34} {'old':>14} {'new':>14} {'change':>12} {'change/u':>9}"
             )
             for ch in c.changes:
                 lines.append(
-                    f"  {ch.quantity + ' / ' + ch.unit:<22} {ch.old:>+14.6g} {ch.new:>+14.6g} "
+                    f"  {ch.quantity + ' / ' + ch.unit:<34} {ch.old:>+14.6g} {ch.new:>+14.6g} "
                     f"{ch.change:>+12.3g} {ch.change_in_u:>+9.2f}"
                 )
         if r.unchanged:
             lines.append(f"unchanged (same calibration): runs {', '.join(map(str, r.unchanged))}")
+        if r.first:
+            lines.append(f"reduced for the first time: runs {', '.join(map(str, r.first))}")
         for run_id, err in r.failed:
             lines.append(f"run {run_id} not re-reduced: {err}")
-        if not (r.compared or r.unchanged or r.failed):
+        if not (r.compared or r.unchanged or r.first or r.failed):
             lines.append("no run in the archive uses this probe")
         lines.append("change/u: change in units of the old result's combined standard uncertainty")
         return "\n".join(lines)
