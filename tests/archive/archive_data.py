@@ -9,6 +9,7 @@ t₂ = (W·R0₁/R0₂ − 1)/A₂ = b·t₁ + a, b = (R0₁/R0₂)(A₁/A₂), 
 from __future__ import annotations
 
 import binascii
+import functools
 import struct
 import zlib
 from pathlib import Path
@@ -43,8 +44,10 @@ def code_sums(temp_C: np.ndarray, seed: int) -> np.ndarray:
     return np.round(sums).astype(np.int64)
 
 
+@functools.lru_cache(maxsize=8)
 def invented_run(seed: int, delta_t_K: float = 2.0):
-    """(time_s, code sums) of an invented calorimetry run with one release at 600 s."""
+    """(time_s, code sums) of an invented calorimetry run with one release at 600 s (cached:
+    treat the arrays as read-only)."""
     run = synthetic_run(
         releases=(Release(600.0, delta_t_K, 30.0),),
         duration_s=2400.0,
@@ -85,12 +88,15 @@ def log_bytes(
     return head + b"".join(blocks)
 
 
-def write_run_file(folder: Path, name: str, seed: int, probe_file: str) -> Path:
-    """A run file with its log CSV of code sums: fixed heat capacity and c_p so ΔH ∝ ΔT."""
+def write_run_file(folder: Path, name: str, seed: int, probe_file: str, shift: int = 0) -> Path:
+    """A run file with its log CSV of code sums: fixed heat capacity and c_p so ΔH ∝ ΔT.
+    ``shift`` adds to every code sum (distinct files from one invented run)."""
     t, sums = invented_run(seed)
+    sums = sums + shift
     csv = folder / f"{name}.csv"
     csv.write_text(
-        "# invented data\ntime_s,codes\n" + "".join(f"{a:.1f},{b}\n" for a, b in zip(t, sums)),
+        "# invented data\ntime_s,codes\n"
+        + "".join(f"{a:.1f},{b}\n" for a, b in zip(t, sums, strict=True)),
         encoding="utf-8",
     )
     path = folder / f"{name}.toml"
