@@ -103,7 +103,7 @@ def _add(
             )
         elif known["kind"] != probe.kind:
             raise CalibrationError(
-                f"probe {probe.id} is recorded as a {known['kind']}, this file says {probe.kind}; "
+                f"probe {probe.id} is recorded as kind {known['kind']}, this file says {probe.kind}; "
                 "give the new probe its own id"
             )
         coeffs = {k: float(v) for k, v in probe.model.coefficients().items()}

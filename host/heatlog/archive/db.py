@@ -99,8 +99,8 @@ def open_archive(path: str | Path | None = None, *, create: bool = True) -> Arch
         raise ArchiveError(
             f"{p}: folder {p.parent} does not exist; create it or choose another --db"
         )
+    conn = sqlite3.connect(p, isolation_level=None, timeout=BUSY_TIMEOUT_MS / 1000)
     try:
-        conn = sqlite3.connect(p, isolation_level=None, timeout=BUSY_TIMEOUT_MS / 1000)
         conn.row_factory = sqlite3.Row
         conn.execute(f"PRAGMA busy_timeout = {BUSY_TIMEOUT_MS}")
         conn.execute("PRAGMA journal_mode = WAL")
@@ -108,7 +108,9 @@ def open_archive(path: str | Path | None = None, *, create: bool = True) -> Arch
         conn.execute("PRAGMA foreign_keys = ON")
         migrate(conn, SCHEMA_VERSION)
     except sqlite3.DatabaseError as exc:
+        conn.close()
         raise ArchiveError(f"{p}: not a usable heatlog archive ({exc})") from None
     except InputError as exc:
+        conn.close()
         raise ArchiveError(str(exc)) from None
     return Archive(p, conn)
