@@ -282,6 +282,7 @@ def import_path(
     archive: Archive, path: str | Path, run_date: dt.date | str | None = None
 ) -> ImportedRun:
     """``heatlog runs import FILE``: a ``.toml`` run file, or else a board run log."""
+    _date_from(run_date)  # a malformed date is reported before any file is read
     if str(path).lower().endswith(".toml"):
         return import_run_file(archive, path, run_date)
     return import_device_log(archive, path, run_date)
