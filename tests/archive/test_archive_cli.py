@@ -57,14 +57,18 @@ def test_probe_run_reduce_rereduce_show_export(lab):
     assert "change/u" in text and "ΔT corrected" in text
 
     shown = as_json(["runs", "show", rid, *db])
-    assert shown["raw_file"]["verified"] and shown["latest"]["calibrations"][0]["probe_id"] == "pt-1"
+    assert (
+        shown["raw_file"]["verified"] and shown["latest"]["calibrations"][0]["probe_id"] == "pt-1"
+    )
     text = call(["runs", "show", rid, *db]).output
     assert "verified" in text and "calibration" in text and shown["raw_file"]["sha256"] in text
     out = folder / "export.json"
     summary = as_json(["runs", "export", rid, "--out", str(out), *db])
     doc = json.loads(out.read_text(encoding="utf-8"))
     assert summary["out"] == str(out)
-    assert {"run", "raw_file", "reductions", "probe_files", "run_file_text", "exported_by"} <= set(doc)
+    assert {"run", "raw_file", "reductions", "probe_files", "run_file_text", "exported_by"} <= set(
+        doc
+    )
     assert len(doc["reductions"]) == 3 and len(doc["probe_files"]) == 2
 
 
