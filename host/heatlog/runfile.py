@@ -364,8 +364,9 @@ def _contents(spec: RunSpec, mean_temp_C: float) -> tuple[Content, ...]:
     return tuple(out)
 
 
-def _reduce(spec: RunSpec, thermogram: Thermogram) -> Reduction:
-    r = spec.reduce
+def reduce_with_settings(thermogram: Thermogram, r: Mapping[str, Any]) -> Reduction:
+    """Reduce with a run file's ``[reduce]`` settings (method, event, event_start_s,
+    after_start_s, resolution_K; the resolution defaults to the log's count step)."""
     resolution = r.get("resolution_K", thermogram.metadata.get("count_step_K"))
     return reduce_thermogram(
         thermogram,
@@ -406,7 +407,7 @@ def evaluate_run(
     ``calibrate`` evaluates a calibration run file named in ``[calorimeter] calibrations``; the
     CLI passes one that loads and evaluates the file.
     """
-    red = _reduce(spec, thermogram)
+    red = reduce_with_settings(thermogram, spec.reduce)
     lo, hi = red.fore_start_s, red.after_end_s
     mask = (thermogram.time_s >= lo) & (thermogram.time_s <= hi)
     mean_temp = (

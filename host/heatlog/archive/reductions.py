@@ -29,8 +29,13 @@ from heatlog.archive.runs import RunRecord, raw_bytes, run_record
 from heatlog.errors import CalibrationError, HeatlogError, InputError
 from heatlog.logformat import RunLog, decode
 from heatlog.probes import ProbeFile, chain_from_spec
-from heatlog.reduce import reduce_thermogram
-from heatlog.runfile import RunResult, evaluate_run, parse_run, read_run_log
+from heatlog.runfile import (
+    RunResult,
+    evaluate_run,
+    parse_run,
+    read_run_log,
+    reduce_with_settings,
+)
 from heatlog.thermogram import Thermogram
 
 #: Results compared side by side: (name, key of value, key of its standard uncertainty, unit).
@@ -71,22 +76,6 @@ class CalibrationUse:
     channel: int
     calibration: Calibration
     note: str = ""
-
-    def to_dict(self) -> dict[str, Any]:
-        c = self.calibration
-        return {
-            "run_id": self.run_id,
-            "channel": self.channel,
-            "calibration_id": c.id,
-            "probe_id": c.probe_id,
-            "calibration_date": c.calibration_date,
-            "model": c.model,
-            "coefficients": c.coefficients,
-            "uncertainty_K": c.uncertainty_K,
-            "reference": c.reference,
-            "probe_file_sha256": c.sha256,
-            "note": self.note,
-        }
 
 
 @dataclass
@@ -144,16 +133,7 @@ def _evaluate(
     if probe is None:
         raise CalibrationError(f"run {run.id} channel {channel} names no probe id; cannot convert")
     thermogram = thermogram_from_log(decode(data), channel, probe, run.raw_path)
-    resolution = options.get("resolution_K", thermogram.metadata.get("count_step_K"))
-    red = reduce_thermogram(
-        thermogram,
-        method=str(options.get("method", "auto")),
-        event_index=int(options.get("event", 0)),
-        event_start_s=options.get("event_start_s"),
-        after_start_s=options.get("after_start_s"),
-        resolution_K=None if resolution is None else float(resolution),
-    )
-    return red.to_dict()
+    return reduce_with_settings(thermogram, options).to_dict()
 
 
 @dataclass(frozen=True)
