@@ -1,13 +1,17 @@
 """Importing runs, tracing results to raw files and calibrations, checksums on read, export."""
 
 import base64
+import binascii
 import hashlib
 import shutil
+import tempfile
 import tomllib
 from pathlib import Path
 
 import pytest
-from archive_data import A_1, R0_1, probe_toml, write_run_file
+from archive_data import A_1, R0_1, invented_run, log_bytes, probe_toml, write_run_file
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from heatlog.archive import (
     ChecksumMismatch,
@@ -18,10 +22,13 @@ from heatlog.archive import (
     record_pulled_run,
     reduce_run,
     run_record,
+    thermogram_from_log,
     trace,
 )
 from heatlog.demo import make_demo_files
-from heatlog.logformat import parse_header
+from heatlog.errors import HeatlogError
+from heatlog.logformat import decode, parse_header
+from heatlog.probes import parse_probe
 from heatlog.runfile import run_file
 
 VECTOR = Path(__file__).resolve().parents[1] / "vectors" / "run_log.bin"
@@ -157,3 +164,51 @@ def test_probe_add_is_idempotent_and_a_kind_change_is_refused(archive, tmp_path)
     p.write_text(ntc, encoding="utf-8")
     with pytest.raises(ValueError, match="recorded as kind rtd"):
         add_calibration_file(archive, p)
+
+
+def test_faulty_records_are_left_out_of_a_board_log_channel(archive, tmp_path):
+    t, sums = invented_run(5)
+    data = bytearray(log_bytes("b-1", 1, ["pt-1"], sums, (t * 1000).astype(int)))
+    hsize, rsize = 64 + 24 + 4, 18
+    for k in (10, 11, 12):  # mark three records "open circuit" on channel 0, fix their CRCs
+        pos = hsize + k * rsize
+        data[pos + 2] = 1
+        data[pos + rsize - 2 : pos + rsize] = binascii.crc_hqx(
+            bytes(data[pos : pos + rsize - 2]), 0xFFFF
+        ).to_bytes(2, "little")
+    path = tmp_path / "faults.bin"
+    path.write_bytes(bytes(data))
+    (tmp_path / "p1.toml").write_text(probe_toml("pt-1", "2026-01-01", R0_1, A_1), encoding="utf-8")
+    add_calibration_file(archive, tmp_path / "p1.toml")
+    red = reduce_run(archive, import_path(archive, path).run_id)
+    log = decode(bytes(data))
+    probe = parse_probe(probe_toml("pt-1", "2026-01-01", R0_1, A_1))
+    thermo = thermogram_from_log(log, 0, probe, "faults.bin")
+    assert thermo.metadata["faulty_records_left_out"] == 3 and len(thermo) == log.n_records - 3
+    assert red.results["delta_t_K"] == pytest.approx(2.0, abs=0.02)  # invented release: 2 K
+
+
+def test_calibrated_temperature_logs_need_no_probe(archive, tmp_path):
+    (tmp_path / "t.csv").write_text(
+        "time_s,temp_C\n"
+        + "".join(f"{t},{21 + (t > 600) * 1.5 + 1e-4 * t}\n" for t in range(0, 2400, 2)),
+        encoding="utf-8",
+    )
+    (tmp_path / "t.toml").write_text('[log]\nfile = "t.csv"\n', encoding="utf-8")
+    run_id = import_path(archive, tmp_path / "t.toml").run_id
+    red = reduce_run(archive, run_id)
+    assert red.calibrations == () and red.results["delta_t_K"] == pytest.approx(1.5, abs=0.01)
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.binary(max_size=300))
+def test_any_bytes_import_cleanly_or_fail_cleanly(data):
+    with tempfile.TemporaryDirectory() as folder:
+        path = Path(folder) / "x.bin"
+        path.write_bytes(b"HLOG" + data if data[:1] == b"\0" else data)
+        with open_archive(Path(folder) / "a.sqlite") as archive:
+            try:
+                import_path(archive, path)
+            except HeatlogError:
+                assert archive.one("SELECT count(*) FROM runs")[0] == 0
+            assert archive.integrity_problems() == []
