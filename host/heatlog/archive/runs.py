@@ -33,7 +33,7 @@ from heatlog.archive.calibrations import add_calibration_text
 from heatlog.archive.db import Archive, open_archive, utc_now
 from heatlog.archive.rawfiles import ChecksumMismatch, read_bytes, read_verified, sha256_bytes
 from heatlog.errors import HeatlogError, InputError
-from heatlog.logformat import LogHeader, decode, parse_header
+from heatlog.logformat import LogHeader, RunLog, decode, parse_header
 from heatlog.runfile import parse_run
 
 
@@ -87,7 +87,8 @@ def _insert_run(conn: sqlite3.Connection, fields: Mapping[str, Any]) -> int:
 def _record_device_log(
     conn: sqlite3.Connection,
     path: Path,
-    data: bytes,
+    log: RunLog,
+    size: int,
     digest: str,
     run_date: dt.date | str | None,
     source: str,
@@ -96,7 +97,6 @@ def _record_device_log(
     old = _existing(conn, identity)
     if old is not None:
         return ImportedRun(old["id"], False, old["kind"], old["raw_path"], digest)
-    log = decode(data)  # LogCorrupt for an unusable header; damaged blocks are counted
     h = log.header
     if h.anchor_ms is not None:
         date = dt.datetime.fromtimestamp(h.anchor_ms / 1000, dt.UTC).date().isoformat()
@@ -123,7 +123,7 @@ def _record_device_log(
             "title": f"{h.board_id} run {h.run}",
             "raw_path": str(path),
             "raw_sha256": digest,
-            "raw_size": len(data),
+            "raw_size": size,
             "board": _board(conn, h),
             "run_number": h.run,
             "anchor_ms": h.anchor_ms,
@@ -178,8 +178,9 @@ def record_pulled_run(
                     f"{path}: holds board {found.board_id} run {found.run}, the pull said "
                     f"board {header.board_id} run {header.run}; pull the run again"
                 )
+        log = decode(data)  # before the transaction: the write lock is held only to insert
         with archive.transaction() as conn:
-            return _record_device_log(conn, path, data, sha256.lower(), run_date, "pull")
+            return _record_device_log(conn, path, log, len(data), sha256.lower(), run_date, "pull")
     finally:
         if owned:
             archive.close()
@@ -191,8 +192,9 @@ def import_device_log(
     """Import a board run log file from disk (``heatlog runs import RUN.bin``)."""
     p = Path(path).resolve()
     data = read_bytes(p, "run log")
+    log = decode(data)  # LogCorrupt for an unusable header; damaged blocks are counted
     with archive.transaction() as conn:
-        return _record_device_log(conn, p, data, sha256_bytes(data), run_date, "file")
+        return _record_device_log(conn, p, log, len(data), sha256_bytes(data), run_date, "file")
 
 
 def _record_run_file(
