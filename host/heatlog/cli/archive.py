@@ -174,7 +174,7 @@ def runs_show(run_id: int, db: Path | None, as_json: bool) -> None:
         run, raw = payload["run"], payload["raw_file"]
         lines = [
             f"run {run['id']}: {run['title']} ({run['kind']}, {run['run_date']}, "
-            f"date from {run['run_date_source']})",
+            f"date: {run['run_date_source']})",
             f"  raw file {raw['path']} ({raw['size_bytes']} bytes)",
             f"  SHA-256 {raw['sha256']} — verified",
         ]
@@ -207,7 +207,10 @@ def runs_show(run_id: int, db: Path | None, as_json: bool) -> None:
 def runs_export(
     run_id: int, out: Path | None, include_raw: bool, db: Path | None, as_json: bool
 ) -> None:
-    """RUN_ID with its full provenance (checksums, probe files, settings, version, results)."""
+    """RUN_ID with its full provenance (checksums, probe files, settings, version, results).
+
+    Without --out the export itself is printed (always JSON); with --out it is written there
+    and a one-line summary (or, with --json, a small JSON object) is printed."""
     with _open(db) as archive:
         doc = jsonable(export_run(archive, run_id, include_raw=include_raw))
     body = json.dumps(doc, indent=2, allow_nan=False)
