@@ -63,7 +63,7 @@ from heatlog.energetics.heat import (
 )
 from heatlog.errors import InputError
 from heatlog.gum import Budget, Component, Input
-from heatlog.probes import chain_from_spec, load_probe
+from heatlog.probes import ProbeFile, chain_from_spec, load_probe
 from heatlog.profile import ProfileSettings, settings_from_table
 from heatlog.reduce import Reduction, reduce_thermogram
 from heatlog.thermogram import Thermogram, read_thermogram_csv
@@ -271,10 +271,11 @@ def load_run(path: str | Path) -> RunSpec:
 
 
 def read_log_arrays(
-    log: LogSpec, extra: Sequence[str] = ()
+    log: LogSpec, extra: Sequence[str] = (), probe: ProbeFile | None = None
 ) -> tuple[np.ndarray, np.ndarray, dict[str, np.ndarray], dict[str, Any]]:
     """Time, temperature (through the probe file for raw readings), ``extra`` columns and
-    metadata, in file order and unchecked for order (long runs handle clock resets themselves)."""
+    metadata, in file order and unchecked for order (long runs handle clock resets themselves).
+    ``probe`` replaces the run file's probe file (the archive applies a recorded calibration)."""
     temp_col = log.temp_col if log.raw_col is None else log.raw_col
     cols = read_columns(log.file, [log.time_col, temp_col, *extra], what="log")
     lookup = {k.lower(): v for k, v in cols.items()}
@@ -283,8 +284,9 @@ def read_log_arrays(
     meta: dict[str, Any] = {"source": str(log.file)}
     if log.raw_col is None:
         return time_s, reading, extras, meta
-    assert log.probe is not None  # parse_run requires it
-    probe = load_probe(log.probe)
+    if probe is None:
+        assert log.probe is not None  # parse_run requires it
+        probe = load_probe(log.probe)
     if log.chain is None:
         resistance = reading
     else:
@@ -296,11 +298,12 @@ def read_log_arrays(
     return time_s, np.asarray(temp, dtype=np.float64), extras, meta
 
 
-def read_run_log(log: LogSpec) -> Thermogram:
-    """The run's thermogram: a temperature column, or raw readings through the probe file."""
+def read_run_log(log: LogSpec, probe: ProbeFile | None = None) -> Thermogram:
+    """The run's thermogram: a temperature column, or raw readings through the probe file
+    (or through ``probe``, when given)."""
     if log.raw_col is None:
         return read_thermogram_csv(log.file, time_col=log.time_col, temp_col=log.temp_col)
-    time_s, temp, _, meta = read_log_arrays(log)
+    time_s, temp, _, meta = read_log_arrays(log, probe=probe)
     return Thermogram(time_s, temp, metadata=meta)
 
 
@@ -361,8 +364,9 @@ def _contents(spec: RunSpec, mean_temp_C: float) -> tuple[Content, ...]:
     return tuple(out)
 
 
-def _reduce(spec: RunSpec, thermogram: Thermogram) -> Reduction:
-    r = spec.reduce
+def reduce_with_settings(thermogram: Thermogram, r: Mapping[str, Any]) -> Reduction:
+    """Reduce with a run file's ``[reduce]`` settings (method, event, event_start_s,
+    after_start_s, resolution_K; the resolution defaults to the log's count step)."""
     resolution = r.get("resolution_K", thermogram.metadata.get("count_step_K"))
     return reduce_thermogram(
         thermogram,
@@ -403,7 +407,7 @@ def evaluate_run(
     ``calibrate`` evaluates a calibration run file named in ``[calorimeter] calibrations``; the
     CLI passes one that loads and evaluates the file.
     """
-    red = _reduce(spec, thermogram)
+    red = reduce_with_settings(thermogram, spec.reduce)
     lo, hi = red.fore_start_s, red.after_end_s
     mask = (thermogram.time_s >= lo) & (thermogram.time_s <= hi)
     mean_temp = (

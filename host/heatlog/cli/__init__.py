@@ -54,6 +54,8 @@ _COMMAND_MODULES: tuple[tuple[str, str], ...] = (
     ("device", "erase_cmd"),
     ("device", "watch"),
     ("device", "sim"),
+    ("archive", "probes"),
+    ("archive", "runs"),
 )
 
 
