@@ -11,6 +11,14 @@ from heatlog.cli import main
 from heatlog.sim.board import PtyServer
 
 
+@pytest.fixture(autouse=True)
+def run_archive(tmp_path, monkeypatch):
+    """Every pull records into the run archive: keep it inside the test's folder."""
+    path = tmp_path / "runs.sqlite"
+    monkeypatch.setenv("HEATLOG_DB", str(path))
+    return path
+
+
 @pytest.fixture
 def port(board, tmp_path):
     server = PtyServer(board, tmp_path / "board.link", speed=20.0).start()
@@ -50,8 +58,12 @@ def test_pull_json_is_clean_progress_goes_to_stderr_and_erase_after(port, tmp_pa
     assert all((tmp_path / "arch" / e["name"]).is_file() for e in d["pulled"])
     csv = d["exports"][0]["csv"]
     assert Path(csv).read_text().startswith("# heatlog run")
+    assert [r["new"] for r in d["recorded"]] == [True, True]  # verified runs go into the archive
     again = json.loads(run("pull", "--port", port, "--out", str(out), "--json").output)
     assert again["pulled"] == [] and len(again["already_archived"]) == 2
+    assert [r["new"] for r in again["recorded"]] == [False, False]
+    listed = json.loads(run("runs", "list", "--json").output)
+    assert len(listed["runs"]) == 2, listed
     r = run("erase", "--port", port, "--out", str(out), "1", "--json")
     assert r.exit_code == 0, r.output
     assert not (board.root / "r0001.hlg").exists() and (board.root / "r0002.hlg").exists()

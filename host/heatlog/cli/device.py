@@ -186,9 +186,14 @@ class _Progress:
     default=None,
     help="Progress on stderr (default: when stderr is a terminal).",
 )
+@click.option("--db", "db", envvar="HEATLOG_DB", type=click.Path(dir_okay=False, path_type=Path),
+              default=None, help="Run archive that records every verified run "
+              "(default: $HEATLOG_DB, else ./heatlog.sqlite).")  # fmt: skip
+@click.option("--no-db", is_flag=True, help="Do not record the pulled runs in the run archive.")
 @json_option
 def pull_cmd(port: str, baud: int, timeout: float, out: Path, runs: tuple[int, ...], probes: Path | None,
-             window: int, progress: bool | None, as_json: bool) -> None:  # fmt: skip
+             window: int, progress: bool | None, db: Path | None, no_db: bool,
+             as_json: bool) -> None:  # fmt: skip
     """Download runs, verify them (chunk CRC + whole-run CRC-32) and archive them read-only.
 
     Resumes after a fault from the last verified byte; a second pull fetches nothing new. Each
@@ -208,13 +213,26 @@ def pull_cmd(port: str, baud: int, timeout: float, out: Path, runs: tuple[int, .
     for e in report.pulled + (report.already if probes else []):
         csv, meta = export_run(out / e.name, probes)
         exports.append({"run": e.run, "csv": str(csv), "metadata": str(meta)})
-    payload = report.to_dict() | {"exports": exports}
+    recorded = []
+    if not no_db:
+        from heatlog.archive import open_archive, record_pulled_run
+
+        with open_archive(db) as store:
+            for e in report.pulled + report.already:
+                rec = record_pulled_run(store, out / e.name, e.sha256)
+                recorded.append({"run": e.run, "run_id": rec.run_id, "new": rec.new})
+    payload = report.to_dict() | {"exports": exports, "recorded": recorded}
 
     def text() -> str:
         lines = [f"board {report.board_id}: pulled {len(report.pulled)} run(s), {report.bytes} bytes in {report.seconds:.1f} s; "
                  f"{len(report.already)} already archived"]  # fmt: skip
         lines += [f"  {e.name}  sha256 {e.sha256[:16]}…" for e in report.pulled]
         lines += [f"  run {s['run']} skipped: {s['reason']}" for s in report.skipped]
+        new = [r for r in recorded if r["new"]]
+        if recorded:
+            lines.append(
+                f"  run archive: {len(new)} new run(s) recorded, {len(recorded) - len(new)} already there"
+            )
         return "\n".join(lines)
 
     emit(as_json, payload, text)
