@@ -25,7 +25,7 @@ from heatlog.archive import (
     thermogram_from_log,
     trace,
 )
-from heatlog.demo import make_demo_files
+from heatlog.demo import run_demo
 from heatlog.errors import HeatlogError
 from heatlog.logformat import decode, parse_header
 from heatlog.probes import parse_probe
@@ -77,7 +77,7 @@ def test_record_pulled_run_checks_the_manifest_checksum_and_header(archive, tmp_
 
 @pytest.fixture
 def demo(archive, tmp_path):
-    make_demo_files(tmp_path / "demo")
+    run_demo(tmp_path / "demo")  # the simulated board logs and pulls the invented runs
     imported = import_path(archive, tmp_path / "demo" / "dissolution.toml", "2026-12-01")
     return archive, tmp_path / "demo", imported
 
@@ -119,7 +119,8 @@ def test_changed_raw_file_is_a_clean_error_naming_it(demo):
     archive, folder, imported = demo
     reduce_run(archive, imported.run_id)
     log = folder / "dissolution.csv"
-    log.write_text(log.read_text(encoding="utf-8").replace("0.0,", "0.5,", 1), encoding="utf-8")
+    text = log.read_text(encoding="utf-8")
+    log.write_text(text.rstrip("\n") + "1\n", encoding="utf-8")  # one digit more in the last cell
     for action in (
         lambda: trace(archive, imported.run_id),
         lambda: reduce_run(archive, imported.run_id),
