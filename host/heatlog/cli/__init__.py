@@ -45,6 +45,7 @@ _COMMAND_MODULES: tuple[tuple[str, str], ...] = (
     ("energetics", "hess"),
     ("demo", "demo"),
     ("profile", "profile"),
+    ("report", "report"),
 )
 
 
