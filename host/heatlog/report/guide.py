@@ -151,10 +151,7 @@ class LiveGuide:
         self._t.append(t)
         self._y.append(y)
         s = replace(self._state, time_s=t, temp_C=y, n=len(self._t))
-        if s.phase in ("settling", "stable"):
-            s = self._fore(s)
-        else:
-            s = self._after(s)
+        s = self._fore(s) if s.phase in ("settling", "stable") else self._after(s)
         self._state = s
         return s
 
