@@ -27,10 +27,12 @@ CAUTION = (
 def demo(out: Path, as_json: bool) -> None:
     """Calibrate a probe, find a cup's heat capacity and measure a dissolution enthalpy (invented data)."""
     from heatlog.demo import run_demo
+    from heatlog.report.sources import write_report
 
     result = run_demo(out)
     payload = result.to_dict()
     (out / "results.json").write_text(json.dumps(jsonable(payload), indent=2), encoding="utf-8")
+    write_report(result.run, out / "report.html")
 
     def text() -> str:
         d = payload
@@ -53,7 +55,7 @@ def demo(out: Path, as_json: bool) -> None:
                 f"  Hess's law (infinite dilution): {run.hess.predicted:+.2f} ± {run.hess.u_predicted:.2f} kJ/mol; "
                 f"z = {run.hess.z:.1f}: {run.hess.verdict}"
             )
-        lines.append(f"  files and results.json in {out}")
+        lines.append(f"  files, results.json and report.html in {out}")
         lines.append(CAUTION)
         return "\n".join(lines)
 

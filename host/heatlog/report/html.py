@@ -127,7 +127,7 @@ def methods_used(inputs: ReportInputs) -> list[str]:
     keys: list[str] = []
     red = inputs.run.reduction if inputs.run is not None else inputs.reduction
     if red is not None:
-        keys += [red.method, f"drift-{red.drift.model}"]
+        keys += [red.method, *red.methods, f"drift-{red.drift.model}"]
     run = inputs.run
     if run is not None:
         if any(spec.cp is None for spec in run.spec.contents):
@@ -146,6 +146,8 @@ def methods_used(inputs: ReportInputs) -> list[str]:
         keys.append("calibration-fit")
     keys.append("gum")
     names = [METHOD_NAMES.get(k, k) for k in dict.fromkeys(keys)]
+    if red is not None:
+        names[0] += " — gives the result; the other corrections are shown for comparison"
     if run is not None and run.predicted is not None:
         sources = sorted({c.note for c in run.predicted.components if c.note})
         names += [f"ΔfH° source: {s}" for s in sources]
@@ -330,7 +332,12 @@ def _probe_section(probe: ProbeFile | None, fit: CalibrationFit | None) -> str:
         ]
         rows += [(f"fit: {k}", str(v)) for k, v in probe.fit.items()]
         parts.append(_kv(rows))
-    if fit is not None:
+    if fit is None:
+        parts.append(
+            '<p class="note">Calibration points not given (<code>--probe-points</code>): the '
+            "calibration curve is not plotted.</p>"
+        )
+    else:
         tab = fit.u_table()
         parts.append(
             _kv(
