@@ -293,15 +293,25 @@ class LiveGuide:
     def thermogram(self) -> Thermogram:
         return Thermogram(self.time_s, self.temp_C, metadata={"source": "live run"})
 
-    def csv_text(self, note: str = "") -> str:
-        """The readings as a CSV (``time_s,temp_C``) that ``heatlog reduce`` reads."""
+    def csv_text(self, note: str = "", *, keep_settling: bool = False) -> str:
+        """The readings as a CSV (``time_s,temp_C``) that ``heatlog reduce`` reads.
+
+        Readings from before the stable fore-period window (the settling of probe and cup) are
+        left out unless ``keep_settling``: ``heatlog reduce`` would otherwise take the settling
+        as the first event. A comment line says how many were left out.
+        """
         lines = [f"# heatlog live run{': ' + note if note else ''}"]
+        lo = 0
+        if not keep_settling and self._fore_from is not None:
+            lo = int(np.searchsorted(self.time_s, self._fore_from))
+            if lo:
+                lines.append(f"# {lo} settling readings before {self._fore_from:.3f} s left out")
         if self._state.start_signal_s is not None:
             lines.append(f"# start signal at {self._state.start_signal_s:.3f} s")
         if self._state.event_s is not None:
             lines.append(f"# event detected at {self._state.event_s:.3f} s")
         lines.append("time_s,temp_C")
-        lines += [f"{t:.3f},{y:.6f}" for t, y in zip(self._t, self._y, strict=True)]
+        lines += [f"{t:.3f},{y:.6f}" for t, y in zip(self._t[lo:], self._y[lo:], strict=True)]
         return "\n".join(lines) + "\n"
 
     def render(self, width: int = 72, height: int = 12, color: bool = False) -> str:
