@@ -56,8 +56,8 @@ def _spec_rows(spec: RunSpec) -> list[tuple[str, str]]:
     if spec.heat_capacity is not None:
         hc = spec.heat_capacity
         rows.append(("calorimeter constant given", f"{hc.value:g} ± {hc.u:g} J/K"))
-    for p in spec.calibrations:
-        rows.append(("calibration run file", str(p)))
+    for cal in spec.calibrations:
+        rows.append(("calibration run file", str(cal)))
     e = spec.electrical
     if e is not None:
         if e.power_W is not None:
@@ -73,14 +73,15 @@ def _spec_rows(spec: RunSpec) -> list[tuple[str, str]]:
             rows.append(("molar mass", f"{s.molar_mass_g_per_mol:g} g/mol"))
         if s.reaction is not None:
             rows.append(("reaction", s.reaction))
-    if spec.profile is not None:
-        p = spec.profile
-        rows.append(("kind", p.kind))
-        rows.append(("heat capacity C", f"{p.heat_capacity.value:g} ± {p.heat_capacity.u:g} J/K"))
-        if p.loss is not None:
-            rows.append(("heat-loss coefficient G", f"{p.loss.value:g} ± {p.loss.u:g} W/K"))
-        if p.sample_g is not None:
-            rows.append(("sample mass", f"{p.sample_g.value:g} ± {p.sample_g.u:g} g"))
+    prof = spec.profile
+    if prof is not None:
+        hc = prof.heat_capacity
+        rows.append(("kind", prof.kind))
+        rows.append(("heat capacity C", f"{hc.value:g} ± {hc.u:g} J/K"))
+        if prof.loss is not None:
+            rows.append(("heat-loss coefficient G", f"{prof.loss.value:g} ± {prof.loss.u:g} W/K"))
+        if prof.sample_g is not None:
+            rows.append(("sample mass", f"{prof.sample_g.value:g} ± {prof.sample_g.u:g} g"))
     return rows
 
 
