@@ -160,10 +160,19 @@ def test_step_progress_reports_slow_steps(monkeypatch):
     [
         (["missing.toml"], "no such run file"),
         (["missing.csv"], "missing.csv"),
+        (["log.csv", "--out", "no/such/folder/r.html"], "cannot write the report"),
+        (["log.csv", "--probe-points", "log.csv"], "missing column"),
     ],
 )
-def test_one_line_errors(args, fragment, tmp_path, monkeypatch):
+def test_one_line_errors(args, fragment, demo, tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)
+    from heatlog.runfile import read_run_log
+
+    th = read_run_log(demo.run.spec.log)
+    lines = ["time_s,temp_C"] + [
+        f"{t:.1f},{y:.5f}" for t, y in zip(th.time_s, th.temp_C, strict=True)
+    ]
+    (tmp_path / "log.csv").write_text("\n".join(lines) + "\n")
     r = CliRunner().invoke(main, ["report", *args])
     assert r.exit_code != 0
     assert fragment in r.output and "Traceback" not in r.output

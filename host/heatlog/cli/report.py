@@ -77,7 +77,7 @@ def report(
     name of every method used, the probe's calibration provenance and the safety cautions.
     """
     from heatlog.report.html import render_html
-    from heatlog.report.sources import report_inputs
+    from heatlog.report.sources import report_inputs, save_text
 
     enabled = sys.stderr.isatty() if progress is None else progress
     say = StepProgress(enabled)
@@ -86,7 +86,7 @@ def report(
     )
     text = render_html(inputs, say)
     target = out if out is not None else run.with_suffix(".html")
-    target.write_text(text, encoding="utf-8")
+    save_text(target, text)
     say.close()
     red = inputs.run.reduction if inputs.run is not None else inputs.reduction
     payload: dict[str, object] = {"report": str(target), "bytes": len(text.encode("utf-8"))}

@@ -276,13 +276,16 @@ def result_rows(inputs: ReportInputs) -> list[tuple[str, str]]:
             rows.append(("Q per gram of sample", _pm(p.budget_per_g, ".4g")))
         rate, t_rate, u_rate = p.peak_rate()
         rows.append(
-            ("peak heat-release rate", f"{rate:.4g} ± {u_rate:.2g} W at {t_rate / 3600:.3g} h")
+            (
+                "peak heat-release rate",
+                f"{rate:.4g} W, u = {u_rate:.2g} W, at {t_rate / 3600:.3g} h",
+            )
         )
         m = p.metrics
         rows.append(
             (
                 "lowest temperature" if m.side == "below" else "peak temperature",
-                f"{m.peak_C:.2f} ± {m.u_peak_C:.2g} °C at {m.time_to_peak_s / 3600:.3g} h",
+                f"{m.peak_C:.2f} °C, u = {m.u_peak_C:.2g} °C, at {m.time_to_peak_s / 3600:.3g} h",
             )
         )
         if not p.complete:

@@ -48,6 +48,17 @@ def _figure(rows: int = 1, height: float = 4.2, sharex: bool = True) -> tuple[Fi
     return fig, list(axes)
 
 
+def _finish(ax, xlabel: str | None, ylabel: str, title: str | None = None) -> None:
+    """Axis labels, optional title, a small legend and a light grid."""
+    if xlabel is not None:
+        ax.set_xlabel(xlabel)
+    ax.set_ylabel(ylabel)
+    if title is not None:
+        ax.set_title(title)
+    ax.legend(fontsize="small")
+    ax.grid(alpha=0.3)
+
+
 def _thin(t: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return downsample_extrema(np.asarray(t), np.asarray(y), PLOT_BUCKETS)
 
@@ -113,11 +124,7 @@ def residuals_figure(reduction: Reduction) -> Figure:
             ax.plot([tt[0], tt[-1]], [sign * K_PLOT * s * 1e3] * 2, ":", color=c, lw=1)
     ax.axhline(0.0, color="black", lw=0.8)
     ax.plot([], [], ":", color="grey", label="±2σ of the period's readings")
-    ax.set_xlabel("time / s")
-    ax.set_ylabel("reading − fit / mK")
-    ax.set_title(f"Drift-fit residuals ({fit.model} drift)")
-    ax.legend(fontsize="small")
-    ax.grid(alpha=0.3)
+    _finish(ax, "time / s", "reading − fit / mK", f"Drift-fit residuals ({fit.model} drift)")
     return fig
 
 
@@ -148,10 +155,7 @@ def calibration_figure(fit: CalibrationFit, title: str = "") -> Figure:
     axr.plot(grid, K_PLOT * u_fit, "--", color=BAND, lw=1, label="+U(k=2): curve only")
     axr.plot(fit.temp_C, fit.residuals_K * 1e3, "o", color=FORE, ms=4, label="residuals")
     axr.axhline(0.0, color="black", lw=0.8)
-    axr.set_xlabel("temperature / °C")
-    axr.set_ylabel("fit − point / mK")
-    axr.legend(fontsize="small")
-    axr.grid(alpha=0.3)
+    _finish(axr, "temperature / °C", "fit − point / mK")
     return fig
 
 
@@ -177,20 +181,16 @@ def profile_figure(result: ProfileResult, title: str = "") -> Figure:
     ax_p.fill_between(th, p - K_PLOT * up, p + K_PLOT * up, color=BAND, alpha=0.3, label="±U(k=2)")
     ax_p.plot(th, p, color=AFTER, lw=1.2, label="heat-release rate P(t)")
     ax_p.axhline(0.0, color="black", lw=0.6)
-    ax_p.set_ylabel(f"P / {rate_unit}")
-    ax_p.set_title(title or f"Heat-release profile ({result.settings.kind})")
-    ax_p.legend(fontsize="small")
-    ax_p.grid(alpha=0.3)
+    _finish(
+        ax_p, None, f"P / {rate_unit}", title or f"Heat-release profile ({result.settings.kind})"
+    )
     th, q, uq = _thin_with(hours, h.heat_J * scale, h.u_heat_J * scale)
     ax_q.fill_between(th, q - K_PLOT * uq, q + K_PLOT * uq, color=BAND, alpha=0.3, label="±U(k=2)")
     ax_q.plot(th, q, color=FORE, lw=1.5, label="cumulative heat Q(t)")
     if not result.complete:
         t_gap = hours[min(h.first_incomplete, hours.size - 1)]
         ax_q.axvline(t_gap, color="black", ls=":", label="after a skipped gap: incomplete")
-    ax_q.set_xlabel("time since start / h")
-    ax_q.set_ylabel(f"Q / {q_unit}")
-    ax_q.legend(fontsize="small")
-    ax_q.grid(alpha=0.3)
+    _finish(ax_q, "time since start / h", f"Q / {q_unit}")
     return fig
 
 

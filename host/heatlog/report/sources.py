@@ -13,6 +13,7 @@ from collections.abc import Callable
 from pathlib import Path
 
 from heatlog.csvtable import read_columns
+from heatlog.errors import InputError
 from heatlog.probes import fit_resistance, load_probe
 from heatlog.probes.fitting import CalibrationFit
 from heatlog.probes.probefile import ProbeFile
@@ -196,5 +197,16 @@ def write_report(
     )
     text = render_html(inputs, progress)
     out = Path(path)
-    out.write_text(text, encoding="utf-8")
+    save_text(out, text)
     return out
+
+
+def save_text(path: Path, text: str) -> None:
+    """Write the report; a path that cannot be written ends in one clear line."""
+    try:
+        path.write_text(text, encoding="utf-8")
+    except OSError as exc:
+        raise InputError(
+            f"cannot write the report to {path} ({exc.strerror or exc}); check the folder exists "
+            "and is writable, or give another --out"
+        ) from None
