@@ -196,3 +196,16 @@ def test_demo_writes_report(tmp_path):
     html = (out / "report.html").read_text(encoding="utf-8")
     d = json.loads(r.stdout)
     assert f"{d['dissolution_run']['delta_t_K']:+.5f} K" in html
+    assert 'id="fig-calibration"' in html and "do not reproduce" not in html
+
+
+def test_points_that_do_not_match_the_probe_file_are_flagged(demo, demo_points, tmp_path):
+    lines = demo_points.read_text(encoding="utf-8").splitlines()
+    head = [i for i, line in enumerate(lines) if line.startswith("temp_C")][0]
+    t, r = lines[head + 1].split(",")[:2]
+    lines[head + 1] = f"{t},{float(r) * 1.01}"  # one point 1 % off
+    points = tmp_path / "other.csv"
+    points.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    out = tmp_path / "m.html"
+    _report([str(demo.out / "dissolution.toml"), "--out", str(out), "--probe-points", str(points)])
+    assert "do not reproduce the probe file" in out.read_text(encoding="utf-8")

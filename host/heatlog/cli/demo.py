@@ -3,11 +3,15 @@
 from __future__ import annotations
 
 import json
+from importlib import resources
 from pathlib import Path
 
 import click
 
 from heatlog.cli.output import emit, json_option, jsonable
+
+# The bundled calibration points of the demo probe, plotted in the demo's report.
+EXAMPLE_POINTS = Path(str(resources.files("heatlog") / "data/examples/ntc_10k_calibration.csv"))
 
 CAUTION = (
     "Caution: ammonium nitrate is an oxidiser and cold packs can chill skin; heaters and hot water "
@@ -32,7 +36,7 @@ def demo(out: Path, as_json: bool) -> None:
     result = run_demo(out)
     payload = result.to_dict()
     (out / "results.json").write_text(json.dumps(jsonable(payload), indent=2), encoding="utf-8")
-    write_report(result.run, out / "report.html")
+    write_report(result.run, out / "report.html", probe_points=EXAMPLE_POINTS)
 
     def text() -> str:
         d = payload
