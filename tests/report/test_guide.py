@@ -56,8 +56,11 @@ def test_signals_come_at_sensible_times(delta_K, tau_s, seed):
     t, y, truth = _run(delta_K, tau_s, seed)
     g, s = _feed_until_enough(t, y)
     o = OPTIONS
-    # start: only once the transient's own rate (3 K/60 s · e^(−t/60 s)) is below the drift limit
-    settled_s = TRANSIENT_S * math.log(TRANSIENT_K / TRANSIENT_S * 60.0 / o.max_drift_K_per_min)
+    # start: only once the transient's own rate (3 K/60 s · e^(−t/60 s)) is below the limit on
+    # the change of the drift rate (the transient's rate is itself that change, give or take)
+    settled_s = TRANSIENT_S * math.log(
+        TRANSIENT_K / TRANSIENT_S * 60.0 / o.max_drift_change_K_per_min
+    )
     assert s.start_signal_s is not None
     assert settled_s < s.start_signal_s < EVENT_S
     # the event is found within a few readings of its true start (plus the probe lag)
@@ -85,8 +88,8 @@ def test_noisy_fore_period_is_never_stable():
 
 
 def test_steep_drift_is_never_stable():
-    # 4 K below the jacket with k = 3e-4/s: about 70 mK/min of drift
-    t, y, _ = _run(2.0, 20.0, 4, start_C=18.0)
+    # 6 K below the jacket with k = 3e-4/s: about 110 mK/min of drift
+    t, y, _ = _run(2.0, 20.0, 4, start_C=16.0)
     g = LiveGuide(OPTIONS)
     g.feed_many(t[t < EVENT_S], y[t < EVENT_S])
     assert g.state.start_signal_s is None
@@ -143,3 +146,28 @@ def test_bad_samples_and_options_are_clean_errors():
         g.feed(1.0, float("nan"))
     with pytest.raises(InputError, match="window_s"):
         GuideOptions(window_s=0.0)
+
+
+def test_a_steady_drift_is_accepted_once_the_window_is_full():
+    # no settling transient; 0.5 K below the jacket with k = 4e-4/s: a steady ~12 mK/min drift,
+    # which Regnault–Pfaundler corrects exactly, so the start signal waits only for the window
+    r = synthetic_run(
+        releases=(Release(EVENT_S, -3.8, 35.0),),
+        duration_s=2400.0,
+        dt_s=2.0,
+        k_per_s=4e-4,
+        jacket_C=22.5,
+        start_C=22.0,
+        probe_lag_s=3.0,
+        noise_K=0.002,
+        seed=21,
+    )
+    g, s = _feed_until_enough(r.thermogram.time_s, r.thermogram.temp_C)
+    assert s.start_signal_s is not None
+    assert OPTIONS.window_s * 0.95 <= s.start_signal_s <= OPTIONS.window_s + 10.0
+    # the last fore-period window (centred half a window before the event) against the model's
+    # own drift, dT/dt = k(T∞ − T) = k·0.5 K·e^(−kt)
+    centre = EVENT_S - OPTIONS.window_s / 2
+    assert s.drift_K_per_min == pytest.approx(60 * 4e-4 * 0.5 * math.exp(-4e-4 * centre), rel=0.1)
+    assert s.enough
+    assert abs(s.delta_t_K - r.truth.delta_t_K[0]) <= max(3 * s.u_delta_t_K, 0.005)

@@ -11,12 +11,13 @@ practice, no source):
 
 1. ``settling`` → ``stable`` ("stable — start now"). Over the last ``window_s`` seconds (default
    180 s) a straight line is fitted to the readings. The fore-period is stable when the window is
-   full, the residual standard deviation (noise) is at most ``max_noise_K`` (default 5 mK), and
-   the drift rate is below ``max_drift_K_per_min`` (default 10 mK/min) *with its uncertainty*:
+   full, the residual standard deviation (noise) is at most ``max_noise_K`` (default 5 mK), the
+   drift rate is below ``max_drift_K_per_min`` (default 50 mK/min) *with its uncertainty*:
    |b| + 2·u(b) ≤ max_drift, u(b) the least-squares standard error of the slope; and the drift
    is steady: the rates b₁, b₂ of lines fitted to the first and second half of the window differ
-   by |b₂ − b₁| + 2·u(b₂ − b₁) ≤ max_drift. A steady drift below that limit is what the
-   corrections (Regnault–Pfaundler, Dickinson) assume for the fore-period.
+   by |b₂ − b₁| + 2·u(b₂ − b₁) ≤ ``max_drift_change_K_per_min`` (default 5 mK/min). A steady
+   drift is what the corrections (Regnault–Pfaundler, Dickinson) assume for the fore-period; a
+   small one keeps the exchange correction, and its uncertainty, small.
 2. ``stable`` → ``event``: once stable, a reading that leaves the extrapolated fore-period line
    by more than max(``event_sigmas``·σ, ``min_event_K``) (defaults 8σ and 5 mK), three readings
    in a row, marks the event at the first of them.
@@ -51,7 +52,8 @@ class GuideOptions:
     """Thresholds of the guide's signals; defaults are common practice, no source."""
 
     window_s: float = 180.0
-    max_drift_K_per_min: float = 0.010
+    max_drift_K_per_min: float = 0.050
+    max_drift_change_K_per_min: float = 0.005
     max_noise_K: float = 0.005
     event_sigmas: float = 8.0
     min_event_K: float = 0.005
@@ -197,12 +199,12 @@ class LiveGuide:
         _, b1, u_b1, _, _ = _line(t[half], y[half])
         _, b2, u_b2, _, _ = _line(t[~half], y[~half])
         change, u_change = 60.0 * (b2 - b1), 60.0 * math.hypot(u_b1, u_b2)
-        steady = abs(change) + 2.0 * u_change <= o.max_drift_K_per_min
+        steady = abs(change) + 2.0 * u_change <= o.max_drift_change_K_per_min
         criteria = {
             "drift": f"|{drift * 1e3:.2f}| + 2·{u_drift * 1e3:.2f} mK/min ≤ "
             f"{o.max_drift_K_per_min * 1e3:g} mK/min",
             "steady": f"|{change * 1e3:.2f}| + 2·{u_change * 1e3:.2f} mK/min ≤ "
-            f"{o.max_drift_K_per_min * 1e3:g} mK/min (second-half minus first-half drift rate)",
+            f"{o.max_drift_change_K_per_min * 1e3:g} mK/min (second-half minus first-half rate)",
             "noise": f"{sigma * 1e3:.2f} mK ≤ {o.max_noise_K * 1e3:g} mK",
             "window": f"last {o.window_s:g} s",
             "source": "thresholds: common practice, no source",
