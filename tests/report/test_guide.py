@@ -171,3 +171,29 @@ def test_a_steady_drift_is_accepted_once_the_window_is_full():
     assert s.drift_K_per_min == pytest.approx(60 * 4e-4 * 0.5 * math.exp(-4e-4 * centre), rel=0.1)
     assert s.enough
     assert abs(s.delta_t_K - r.truth.delta_t_K[0]) <= max(3 * s.u_delta_t_K, 0.005)
+
+
+def test_an_event_before_the_stable_signal_is_found_and_not_called_enough():
+    # the release starts at 330 s, while the settling transient still changes the drift
+    r = synthetic_run(
+        releases=(Release(330.0, 2.0, 20.0),),
+        duration_s=1400.0,
+        dt_s=2.0,
+        k_per_s=3e-4,
+        jacket_C=22.0,
+        start_C=21.9,
+        noise_K=0.002,
+        resolution_K=0.001,
+        probe_lag_s=3.0,
+        seed=1,
+    )
+    t = r.thermogram.time_s
+    y = r.thermogram.temp_C + TRANSIENT_K * np.exp(-t / TRANSIENT_S)
+    states = list(guide_stream(zip(t, y, strict=True), OPTIONS))
+    s = states[-1]
+    assert s.start_signal_s is None
+    assert s.event_s is not None and 330.0 <= s.event_s <= 350.0
+    event_state = next(x for x in states if x.phase == "event")
+    assert "before the fore-period was stable" in event_state.message
+    # with an unsteady fore-period the uncertainty stays large, so no "enough" is given
+    assert not s.enough

@@ -20,11 +20,14 @@ practice, no source):
    small one keeps the exchange correction, and its uncertainty, small.
 2. ``stable`` → ``event``: once stable, a reading that leaves the extrapolated fore-period line
    by more than max(``event_sigmas``·σ, ``min_event_K``) (defaults 8σ and 5 mK), three readings
-   in a row, marks the event at the first of them.
+   in a row, marks the event at the first of them. A release started before the stable signal
+   is still caught (see :meth:`LiveGuide._early_event`: a jump of the recent rate above the
+   settling rate) and the state says the correction will be less certain.
 3. ``event`` → ``after``: every ``reduce_every_s`` seconds of data (default 10 s, and not before
    the event is 120 s old) the readings from the start of the stable fore-period window on are
-   reduced with :func:`heatlog.reduce.reduce_thermogram`; the running ΔT and u(ΔT) are reported
-   once the reduction finds an after-period.
+   reduced with :func:`heatlog.reduce.reduce_thermogram` (the detected event nearest the
+   guide's is reduced); the running ΔT and u(ΔT) are reported once the reduction finds an
+   after-period.
 4. ``after`` → ``enough`` ("enough after-period — you may stop"): the after-period found by the
    reduction has lasted ``min_after_s`` (default 300 s), u(ΔT) ≤ ``target_u_K`` (default 5 mK),
    and the estimate has settled: it moved by no more than u(ΔT) since the previous reduction.
@@ -40,11 +43,13 @@ import numpy as np
 
 from heatlog.errors import InputError, ReductionError
 from heatlog.reduce import reduce_thermogram
-from heatlog.reduce.events import MIN_PERIOD_S
+from heatlog.reduce.events import MIN_PERIOD_S, detect_events, reading_noise
+from heatlog.reduce.reduction import block_means, detect_resolution
 from heatlog.thermogram import Thermogram
 
 PHASES = ("settling", "stable", "event", "after", "enough")
 _DEPARTURES = 3  # readings in a row off the fore-period line that make an event
+_JUMP_S = 20.0  # span of the "recent rate" used to spot an event before the stable signal
 
 
 @dataclass(frozen=True)
@@ -214,6 +219,14 @@ class LiveGuide:
             and steady
             and sigma <= o.max_noise_K
         )
+        if s.phase == "settling" and not stable and self._early_event():
+            return replace(
+                s,
+                phase="event",
+                event_s=self._departures[0],
+                message=f"event at {self._departures[0]:.0f} s, before the fore-period was "
+                "stable: the correction will be less certain; keep logging",
+            )
         s = replace(
             s,
             drift_K_per_min=drift,
@@ -223,6 +236,8 @@ class LiveGuide:
             criteria=criteria,
         )
         if stable:
+            if s.phase == "settling":
+                self._departures.clear()
             self._line = (a, b, u_b, sigma, tm)
             first = s.start_signal_s is None
             if first:
@@ -246,6 +261,33 @@ class LiveGuide:
             return replace(s, message="fore-period no longer steady (" + ", ".join(why) + "): wait")
         return replace(s, message="settling: " + ", ".join(why) + " too large")
 
+    def _early_event(self) -> bool:
+        """A release started while still settling. Reference: a line through the window's
+        readings older than ``_JUMP_S`` seconds. An event is when the rate over the last
+        ``_JUMP_S`` seconds is over 3× the reference rate (plus the drift limit) and the newest
+        reading is off the extrapolated reference line by max(event_sigmas·σ, min_event_K), in
+        the same direction, three readings in a row. A settling transient slows down, so its
+        recent rate stays below the reference rate."""
+        o = self.options
+        t, y = self.time_s, self.temp_C  # all readings, the newest included
+        recent = t >= t[-1] - _JUMP_S
+        ref = (t >= t[-1] - o.window_s) & ~recent
+        if np.count_nonzero(recent) < 4 or np.count_nonzero(ref) < 5:
+            return False
+        a, b, _, sigma, tm = _line(t[ref], y[ref])
+        _, b_recent, _, _, _ = _line(t[recent], y[recent])
+        dev = float(y[-1] - (a + b * (t[-1] - tm)))
+        jump = (
+            abs(b_recent) > 3.0 * abs(b) + o.max_drift_K_per_min / 60.0
+            and abs(dev) > max(o.event_sigmas * sigma, o.min_event_K)
+            and math.copysign(1.0, b_recent) == math.copysign(1.0, dev)
+        )
+        if not jump:
+            self._departures.clear()
+            return False
+        self._departures.append(float(t[-1]))
+        return len(self._departures) >= _DEPARTURES
+
     # ----- event and after-period -----------------------------------------------------------
     def _after(self, s: GuideState) -> GuideState:
         o = self.options
@@ -258,8 +300,9 @@ class LiveGuide:
         self._last_reduce = t_now
         t, y = self.time_s, self.temp_C
         lo = int(np.searchsorted(t, self._fore_from if self._fore_from is not None else t[0]))
+        t, y = t[lo:], y[lo:]
         try:
-            red = reduce_thermogram(Thermogram(t[lo:], y[lo:]))
+            red = reduce_thermogram(Thermogram(t, y), event_index=_nearest_event(t, y, s.event_s))
         except (ReductionError, InputError) as exc:
             return replace(
                 s, reduced_at_s=t_now, message=f"release under way; no after-period yet ({exc})"
@@ -318,6 +361,16 @@ class LiveGuide:
 
     def render(self, width: int = 72, height: int = 12, color: bool = False) -> str:
         return render_terminal(self.time_s, self.temp_C, self._state, width, height, color)
+
+
+def _nearest_event(t: np.ndarray, y: np.ndarray, event_s: float) -> int:
+    """Index of the detected event (as :func:`reduce_thermogram` numbers them) whose onset is
+    nearest the guide's event; a settling transient in the data may be detected as event 0."""
+    tb, yb = block_means(t, y)
+    events, _ = detect_events(tb, yb, noise_K=reading_noise(yb), resolution_K=detect_resolution(y))
+    if not events:
+        return 0
+    return int(np.argmin([abs(e.onset_s - event_s) for e in events]))
 
 
 def guide_stream(
