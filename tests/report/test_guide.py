@@ -135,6 +135,9 @@ def test_terminal_rendering_is_plain_text_with_the_curve_and_state():
     assert f"{y.max():8.3f}" in lines[0]
     coloured = g.render(60, 8, color=True)
     assert "\x1b[32m" in coloured
+    # the guide's own view leaves the settling transient off: its top is the after-period's
+    top = float(coloured.splitlines()[0].split("│")[0])
+    assert top == pytest.approx(y[t >= EVENT_S].max(), abs=1e-3)
 
 
 def test_bad_samples_and_options_are_clean_errors():

@@ -360,7 +360,12 @@ class LiveGuide:
         return "\n".join(lines) + "\n"
 
     def render(self, width: int = 72, height: int = 12, color: bool = False) -> str:
-        return render_terminal(self.time_s, self.temp_C, self._state, width, height, color)
+        """The terminal view; once the fore-period is stable, the settling is left off the plot."""
+        t, y = self.time_s, self.temp_C
+        if self._fore_from is not None:
+            lo = int(np.searchsorted(t, self._fore_from))
+            t, y = t[lo:], y[lo:]
+        return render_terminal(t, y, self._state, width, height, color)
 
 
 def _nearest_event(t: np.ndarray, y: np.ndarray, event_s: float) -> int:
