@@ -56,6 +56,7 @@ _COMMAND_MODULES: tuple[tuple[str, str], ...] = (
     ("device", "sim"),
     ("archive", "probes"),
     ("archive", "runs"),
+    ("report", "report"),
 )
 
 

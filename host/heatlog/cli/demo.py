@@ -3,11 +3,15 @@
 from __future__ import annotations
 
 import json
+from importlib import resources
 from pathlib import Path
 
 import click
 
 from heatlog.cli.output import emit, json_option, jsonable
+
+# The bundled calibration points of the demo probe, plotted in the demo's report.
+EXAMPLE_POINTS = Path(str(resources.files("heatlog") / "data/examples/ntc_10k_calibration.csv"))
 
 CAUTION = (
     "Caution: ammonium nitrate is an oxidiser and cold packs can chill skin; heaters and hot water "
@@ -36,10 +40,12 @@ def demo(out: Path, as_json: bool) -> None:
     an electrical calibration and an ammonium nitrate dissolution, pulls and verifies them,
     applies the probe calibration and reduces both runs; prints the result beside the truth."""
     from heatlog.demo import run_demo
+    from heatlog.report.sources import write_report
 
     result = run_demo(out, say=(lambda s: None) if as_json else (lambda s: click.echo(s, err=True)))
     payload = result.to_dict()
     (out / "results.json").write_text(json.dumps(jsonable(payload), indent=2), encoding="utf-8")
+    write_report(result.run, out / "report.html", probe_points=EXAMPLE_POINTS)
 
     def text() -> str:
         d = payload
@@ -65,7 +71,7 @@ def demo(out: Path, as_json: bool) -> None:
                 f"  Hess's law (infinite dilution): {run.hess.predicted:+.2f} ± {run.hess.u_predicted:.2f} kJ/mol; "
                 f"z = {run.hess.z:.1f}: {run.hess.verdict}"
             )
-        lines.append(f"  files and results.json in {out}")
+        lines.append(f"  files, results.json and report.html in {out}")
         lines.append(CAUTION)
         return "\n".join(lines)
 

@@ -1,0 +1,1 @@
+"""Reports: plots (matplotlib), a self-contained HTML report and the guided live run."""
