@@ -44,7 +44,8 @@ import numpy as np
 from heatlog.errors import InputError, ReductionError
 from heatlog.reduce import reduce_thermogram
 from heatlog.reduce.events import MIN_PERIOD_S, detect_events, reading_noise
-from heatlog.reduce.reduction import block_means, detect_resolution
+from heatlog.reduce.reduction import MAX_POINTS, detect_resolution
+from heatlog.reduce.sampling import block_means
 from heatlog.thermogram import Thermogram
 
 PHASES = ("settling", "stable", "event", "after", "enough")
@@ -371,7 +372,7 @@ class LiveGuide:
 def _nearest_event(t: np.ndarray, y: np.ndarray, event_s: float) -> int:
     """Index of the detected event (as :func:`reduce_thermogram` numbers them) whose onset is
     nearest the guide's event; a settling transient in the data may be detected as event 0."""
-    tb, yb = block_means(t, y)
+    tb, yb, _ = block_means(t, y, MAX_POINTS)
     events, _ = detect_events(tb, yb, noise_K=reading_noise(yb), resolution_K=detect_resolution(y))
     if not events:
         return 0

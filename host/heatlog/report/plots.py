@@ -25,7 +25,8 @@ from heatlog.probes.fitting import CalibrationFit
 from heatlog.profile import ProfileResult, downsample_extrema
 from heatlog.reduce import Reduction
 from heatlog.reduce.correction import dickinson_time, main_period
-from heatlog.reduce.reduction import block_means
+from heatlog.reduce.reduction import MAX_POINTS
+from heatlog.reduce.sampling import block_means
 from heatlog.thermogram import Thermogram
 
 #: Buckets for :func:`downsample_extrema`: about two readings per pixel column of a 1200-px plot.
@@ -86,7 +87,7 @@ def thermogram_figure(thermogram: Thermogram, reduction: Reduction, title: str =
     ax.plot(fore_x, fit.fore(fore_x), "--", color=FORE, lw=1, label="fore-period extrapolated")
     ax.plot(after_t, fit.after(after_t), color=AFTER, lw=2, label=f"after-period fit ({fit.model})")
     ax.plot(after_x, fit.after(after_x), "--", color=AFTER, lw=1, label="after-period extrapolated")
-    tb, yb = block_means(t, y)
+    tb, yb, _ = block_means(t, y, MAX_POINTS)
     x = dickinson_time(main_period(tb, yb, fit, t0, ta), fit)
     if not (t0 <= x <= ta) or not math.isfinite(x):
         x = 0.5 * (t0 + ta)
