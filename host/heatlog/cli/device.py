@@ -269,6 +269,16 @@ erase_cmd.name = "erase"
               help="Folder of probe files named <probe id>.toml.")  # fmt: skip
 @click.option("--seconds", type=float, default=None, help="Stop after this many seconds.")
 @click.option("--count", type=int, default=None, help="Stop after this many readings.")
+@click.option("--guide", is_flag=True, help="Guide the run on one channel: when the fore-period "
+              "is stable enough to start, the running ΔT and when the after-period is enough.")  # fmt: skip
+@click.option("--channel", type=click.IntRange(min=0), default=0, show_default=True,
+              help="Channel the guide follows.")  # fmt: skip
+@click.option("--target-u", type=click.FloatRange(min=0.0, min_open=True), default=None,
+              help="Standard uncertainty of ΔT, K, at which the after-period is enough "
+              "(default 0.005; common practice, no source).")  # fmt: skip
+@click.option("--save", type=click.Path(dir_okay=False, path_type=Path), default=None,
+              help="With --guide: write the guided readings as a CSV that `heatlog reduce` reads.")  # fmt: skip
+@click.option("--stop-when-enough", is_flag=True, help="With --guide: stop at the enough signal.")
 @json_option
 def watch(
     port: str,
@@ -277,34 +287,88 @@ def watch(
     probes: Path | None,
     seconds: float | None,
     count: int | None,
+    guide: bool,
+    channel: int,
+    target_u: float | None,
+    save: Path | None,
+    stop_when_enough: bool,
     as_json: bool,
 ) -> None:
-    """Show live readings (raw and, with --probes, calibrated) until Ctrl-C, --seconds or --count."""
+    """Show live readings (raw and, with --probes, calibrated) until Ctrl-C, --seconds or --count.
+
+    With --guide (needs --probes) the run is guided: a signal when the fore-period is stable
+    enough to start the experiment, the running corrected ΔT with its uncertainty after the
+    event, and a signal when the after-period is long enough; --save keeps the readings."""
     from heatlog.device.live import LiveDecoder
     from heatlog.logformat import LogCorrupt
+    from heatlog.report.guide import GuideOptions, LiveGuide
 
+    if guide and probes is None:
+        raise click.UsageError("--guide needs --probes to turn readings into temperatures")
+    if save is not None and not guide:
+        raise click.UsageError("--save goes with --guide")
+    live_guide = (
+        LiveGuide(GuideOptions(target_u_K=target_u) if target_u else None) if guide else None
+    )
+    signals: dict[str, float | None] = {"start_s": None, "event_s": None, "enough_s": None}
     b = _board(port, baud, timeout)
     readings: list[dict[str, Any]] = []
     with b.link:
         dec = LiveDecoder(b.get_config(), b.stream(True), probes)
+        if live_guide is not None and channel >= len(dec.channels):
+            b.stream(False)
+            raise click.BadParameter(
+                f"the board has {len(dec.channels)} channel(s)", param_hint="--channel"
+            )
         try:
             end = float("inf") if seconds is None else seconds
-            for payload in b.live_records(end):
+            for record in b.live_records(end):
                 try:
-                    r = dec.decode(payload)
+                    r = dec.decode(record)
                 except LogCorrupt:
                     continue
                 readings.append(r)
-                if not as_json:
-                    click.echo(dec.line(r))
+                if live_guide is None:
+                    if not as_json:
+                        click.echo(dec.line(r))
+                elif r["temp_C"][channel] is not None:
+                    state = live_guide.feed(r["offset_s"], r["temp_C"][channel])
+                    for key, value, words in (
+                        ("start_s", state.start_signal_s, "STABLE — start now"),
+                        ("event_s", state.event_s, "event detected"),
+                        ("enough_s", state.enough_signal_s, "ENOUGH after-period — you may stop"),
+                    ):
+                        if value is not None and signals[key] is None:
+                            signals[key] = value
+                            if not as_json:
+                                click.echo(f"{r['offset_s']:10.1f} s  {words}: {state.message}")
+                    if not as_json and sys.stdout.isatty():
+                        click.echo("\x1b[H\x1b[2J" + live_guide.render(color=True))
+                    if stop_when_enough and state.enough:
+                        break
                 if count is not None and len(readings) >= count:
                     break
         except KeyboardInterrupt:
             pass
         finally:
             b.stream(False)
+    payload: dict[str, Any] = {"readings": readings, "channels": dec.channels_meta()}
+    if live_guide is not None:
+        payload["guide"] = {"signals": signals, "state": live_guide.state.to_dict()}
+        if save is not None:
+            text = live_guide.csv_text(f"heatlog watch --guide, channel {channel}")
+            try:
+                save.write_text(text, encoding="utf-8")
+            except OSError as exc:
+                raise click.FileError(str(save), hint=exc.strerror or "cannot write") from None
+            payload["guide"]["saved"] = str(save)
     if as_json:
-        emit(True, {"readings": readings, "channels": dec.channels_meta()}, "")
+        emit(True, payload, "")
+    elif live_guide is not None:
+        st = live_guide.state
+        click.echo(f"guide: {st.message}")
+        if save is not None:
+            click.echo(f"readings saved to {save}; reduce them with `heatlog reduce {save}`")
 
 
 @click.command("sim")
