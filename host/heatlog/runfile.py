@@ -57,6 +57,7 @@ from heatlog.energetics.heat import (
     SIGN_CONVENTION,
     Content,
     as_input,
+    carry_calibration,
     heat,
     molar_enthalpy,
     specific_enthalpy,
@@ -445,12 +446,17 @@ def evaluate_run(
             (Component("C_cal", c_cal.value, c_cal.u, 1.0, "J/K", note="given in the run file"),),
         )
     )
-    q = heat(dt, c_cal, list(contents))
+
+    def carried(b: Budget) -> Budget:
+        # a constant from calibration runs brings its own inputs (and the shared water c_p)
+        return carry_calibration(b, c_cal) if isinstance(c_cal, Budget) else b
+
+    q = carried(heat(dt, c_cal, list(contents)))
     result = RunResult(spec, red, mean_temp, contents, c_cal=c_budget, heat_J=q)
     sample = spec.sample
     if sample is None:
         return result
-    spec_h = specific_enthalpy(dt, c_cal, list(contents), sample.mass_g)
+    spec_h = carried(specific_enthalpy(dt, c_cal, list(contents), sample.mass_g))
     mm = _molar_mass(sample)
     molar = predicted = comparison = None
     if mm is not None:
@@ -460,7 +466,7 @@ def evaluate_run(
             "mol",
             note=f"{sample.name}: m/M, M = {mm:.4f} g/mol",
         )
-        molar = molar_enthalpy(dt, c_cal, list(contents), n)
+        molar = carried(molar_enthalpy(dt, c_cal, list(contents), n))
         if sample.reaction is not None:
             predicted = hess.reaction_enthalpy(sample.reaction)
             comparison = hess.compare(molar, predicted)

@@ -146,3 +146,16 @@ def test_calibration_loop_is_refused(tmp_path):
     )
     with pytest.raises(InputError):
         run_file(tmp_path / "a.toml")
+
+
+def test_water_cp_shared_with_the_calibration_is_one_input_and_cancels(tmp_path):
+    # Same 200 g of water in calibration and run: C_cal = Q/ΔT_cal − m·c_p, so
+    # q = (m·c_p + C_cal + m_s·c_s)·ΔT = (Q/ΔT_cal + m_s·c_s)·ΔT does not depend on c_p(water)
+    # (JCGM 100, 5.1: one input quantity, one row with the summed sensitivity).
+    run_path, _ = _calorimeter_runs(tmp_path, c_cal=35.0, dh_kj=17.2, seed=9)
+    res = run_file(run_path)
+    rows = {c.name: c for c in res.molar.components}
+    assert [n for n in rows if n == "c_p(water)"] == ["c_p(water)"]
+    assert rows["c_p(water)"].contribution < 1e-6 * res.molar.u
+    assert "calibration: ΔT" in rows and "ΔT" in rows  # two separate temperature rises
+    assert any(n.startswith("calibration: ") and "V" in n for n in rows)  # heater voltage

@@ -56,6 +56,38 @@ def substitute(outer: Budget, name: str, inner: Budget) -> Budget:
     return replace(outer, components=tuple(out))
 
 
+def carry_calibration(outer: Budget, c_cal: Budget) -> Budget:
+    """Expand the component ``C_cal`` of ``outer`` into the calibration's own inputs, keeping
+    a heat capacity that calibration and measurement share as one input.
+
+    A c_p used in both (the water's, from IAPWS-95) is one quantity, not two independent ones:
+    its error moves C_cal and the measured heat in opposite directions and cancels exactly when
+    the water masses are equal. Its rows are merged by adding their sensitivities (JCGM 100,
+    5.1: one input, one row). Every other calibration input (its ΔT, energy, masses) is a
+    separate measurement and appears as "calibration: …".
+    """
+    shared = {c.name for c in outer.components if c.name.startswith("c_p(")}
+    inner = replace(
+        c_cal,
+        components=tuple(
+            c if c.name in shared else replace(c, name=f"calibration: {c.name}")
+            for c in c_cal.components
+        ),
+    )
+    merged: dict[str, Component] = {}
+    for c in substitute(outer, "C_cal", inner).components:
+        if c.name in merged:
+            first = merged[c.name]
+            merged[c.name] = replace(
+                first,
+                sensitivity=first.sensitivity + c.sensitivity,
+                note="; ".join(filter(None, (first.note, "also in the calibration: one input"))),
+            )
+        else:
+            merged[c.name] = c
+    return replace(outer, components=tuple(merged.values()))
+
+
 def _check_contents(contents: Sequence[Content]) -> None:
     names = [c.name for c in contents]
     if len(set(names)) != len(names):
