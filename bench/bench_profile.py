@@ -22,7 +22,12 @@ import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "host"))
 
-from bench_reduce import best_of  # noqa: E402  (bench/ is the script's own folder)
+from bench_reduce import interleaved_best  # noqa: E402  (bench/ is the script's own folder)
+
+
+def best_of(func) -> float:
+    return interleaved_best([func])[0]
+
 
 from heatlog.csvtable import read_columns  # noqa: E402
 from heatlog.gum import Input  # noqa: E402
