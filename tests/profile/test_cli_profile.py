@@ -7,7 +7,7 @@ import pytest
 from click.testing import CliRunner
 
 from heatlog.cli import main
-from heatlog.profile.synthetic import HydrationCurve, PlateauDecay, long_run
+from heatlog.profile.synthetic import HydrationCurve, PlateauDecay, long_run, warmer_run
 
 
 def _write(path, columns: dict[str, np.ndarray]) -> None:
@@ -23,14 +23,7 @@ def _write(path, columns: dict[str, np.ndarray]) -> None:
 
 @pytest.fixture(scope="module")
 def warmer_csv(tmp_path_factory):
-    run = long_run(
-        PlateauDecay(1.5, 5 * 3600.0, 2 * 3600.0),
-        duration_s=12 * 3600.0,
-        dt_s=20.0,
-        heat_capacity_J_per_K=60.0,
-        loss_W_per_K=0.06,
-        env_C=20.0,
-    )
+    run = warmer_run()
     path = tmp_path_factory.mktemp("warmer") / "warmer.csv"
     _write(path, {"time_s": run.time_s, "temp_C": run.temp_C, "room_C": run.env_C})
     return path, run

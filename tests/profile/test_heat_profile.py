@@ -21,6 +21,7 @@ from heatlog.profile import (
     reading_noise,
 )
 from heatlog.profile.synthetic import HydrationCurve, PlateauDecay, long_run
+from heatlog.profile.synthetic import warmer_run as invented_warmer
 
 DAY = 86400.0
 
@@ -46,16 +47,8 @@ def cement_run():
 @pytest.fixture(scope="module")
 def warmer_run():
     # Invented hand warmer: 1.5 W for 5 h, then decaying with τ = 2 h, in a 60 J/K pouch.
-    return long_run(
-        PlateauDecay(1.5, 5 * 3600.0, 2 * 3600.0),
-        duration_s=14 * 3600.0,
-        dt_s=10.0,
-        heat_capacity_J_per_K=60.0,
-        loss_W_per_K=0.06,
-        env_C=20.0,
-        noise_K=0.02,
-        resolution_K=0.01,
-        seed=3,
+    return invented_warmer(
+        duration_s=14 * 3600.0, dt_s=10.0, noise_K=0.02, resolution_K=0.01, seed=3
     )
 
 

@@ -10,7 +10,7 @@ from heatlog.energetics.hess import Comparison
 from heatlog.gum import Input
 from heatlog.probes import fit_resistance
 from heatlog.profile import ProfileSettings, analyse_profile
-from heatlog.profile.synthetic import PlateauDecay, long_run
+from heatlog.profile.synthetic import warmer_run
 from heatlog.report import plots
 from heatlog.runfile import read_run_log
 
@@ -68,14 +68,7 @@ def test_calibration_figure_has_points_curve_and_band(demo_points):
 
 
 def test_profile_figure_downsamples_and_bands():
-    run = long_run(
-        PlateauDecay(1.5, 5 * 3600.0, 2 * 3600.0),
-        duration_s=24 * 3600.0,
-        dt_s=2.0,  # 43 201 samples: more than the plot keeps
-        heat_capacity_J_per_K=60.0,
-        loss_W_per_K=0.06,
-        env_C=20.0,
-    )
+    run = warmer_run(duration_s=24 * 3600.0, dt_s=2.0)  # 43 201 samples: more than the plot keeps
     settings = ProfileSettings(
         heat_capacity=Input(60.0, 1.0, "J/K"),
         loss=Input(0.06, 0.003, "W/K"),

@@ -11,7 +11,7 @@ from click.testing import CliRunner
 
 from heatlog.cli import main
 from heatlog.cli.report import StepProgress
-from heatlog.profile.synthetic import PlateauDecay, long_run
+from heatlog.profile.synthetic import warmer_run
 from heatlog.report.html import ReportInputs, render_html
 from heatlog.report.sources import write_report
 
@@ -102,14 +102,7 @@ def test_csv_log_is_reduced_only(demo, tmp_path):
 
 
 def test_profile_run_file_report(tmp_path):
-    run = long_run(
-        PlateauDecay(1.5, 5 * 3600.0, 2 * 3600.0),
-        duration_s=12 * 3600.0,
-        dt_s=20.0,
-        heat_capacity_J_per_K=60.0,
-        loss_W_per_K=0.06,
-        env_C=20.0,
-    )
+    run = warmer_run()
     csv = tmp_path / "warmer.csv"
     np.savetxt(
         csv,

@@ -123,3 +123,18 @@ def long_run(
     if resolution_K > 0:
         read = np.round(read / resolution_K) * resolution_K
     return LongRun(t, read, env(t), source.heat(t), true_t, c, g)
+
+
+def warmer_run(*, duration_s: float = 12 * 3600.0, dt_s: float = 20.0, **options: float) -> LongRun:
+    """The invented hand warmer the tests and examples share: 1.5 W for 5 h, then decaying with
+    τ = 2 h, in a 60 J/K pouch losing 0.06 W/K to air at 20 °C (``options`` go to
+    :func:`long_run`: noise_K, resolution_K, seed)."""
+    return long_run(
+        PlateauDecay(1.5, 5 * 3600.0, 2 * 3600.0),
+        duration_s=duration_s,
+        dt_s=dt_s,
+        heat_capacity_J_per_K=60.0,
+        loss_W_per_K=0.06,
+        env_C=20.0,
+        **options,  # type: ignore[arg-type]
+    )
