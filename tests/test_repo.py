@@ -37,16 +37,16 @@ def _tracked_files() -> list[Path]:
 
 
 def test_no_file_cites_a_source_talk():
-    pattern = re.compile(r"\b(transcript|lecture|episode|source talk)\b", re.I)
+    # The words are stored reversed so that this file does not itself trip the check.
+    words = [w[::-1] for w in ("tpircsnart", "erutcel", "edosipe", "klat ecruos")]
+    pattern = re.compile(r"\b(" + "|".join(words) + r")\b", re.I)
     hits = []
     for path in _tracked_files():
-        if path.suffix in {".bin", ".png", ".svg"} or not path.is_file():
+        if path.suffix in {".bin", ".png"} or not path.is_file():
             continue
         try:
             text = path.read_text(encoding="utf-8")
         except UnicodeDecodeError:
-            continue
-        if path.name == "test_repo.py":
             continue
         if pattern.search(text):
             hits.append(str(path.relative_to(ROOT)))
