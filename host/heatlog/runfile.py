@@ -45,7 +45,7 @@ from __future__ import annotations
 import math
 import tomllib
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
@@ -61,6 +61,7 @@ from heatlog.energetics.heat import (
     heat,
     molar_enthalpy,
     specific_enthalpy,
+    substitute,
 )
 from heatlog.errors import InputError
 from heatlog.gum import Budget, Component, Input
@@ -295,7 +296,7 @@ def read_log_arrays(
         resistance = chain.to_resistance(reading)
         meta["count_step_K"] = float(np.median(chain.reading(probe.model, reading).step_K))
     temp = probe.model.resistance_to_temperature(resistance)
-    meta.update(probe_id=probe.id, probe_u_K=probe.uncertainty_K)
+    meta.update(probe_id=probe.id, probe_u_K=probe.uncertainty_K, probe_file=probe)
     return time_s, np.asarray(temp, dtype=np.float64), extras, meta
 
 
@@ -365,11 +366,42 @@ def _contents(spec: RunSpec, mean_temp_C: float) -> tuple[Content, ...]:
     return tuple(out)
 
 
+def with_probe_curve(red: Reduction, probe: ProbeFile | None) -> Reduction:
+    """Add the probe calibration curve's share of u(ΔT) to the reduction's budget.
+
+    The rise runs from the fore-period line at the event start, T₁, to T₁ + ΔT; the curve's
+    error in that difference is split into the probe's independent modes
+    (:meth:`ProbeFile.curve_modes`), one budget row each, so that two rises read with the same
+    probe (a calibration and a measurement) stay correlated in a combined budget.
+    """
+    if probe is None or not math.isfinite(red.delta_t_K):
+        return red
+    t1 = float(red.drift.fore(red.event_start_s))
+    ends = probe.model.temperature_to_resistance(np.array([t1, t1 + red.delta_t_K]))
+    modes = probe.curve_modes(float(ends[0]), float(ends[1]))
+    if not modes:
+        return red
+    rows = tuple(
+        Component(
+            f"probe {probe.id} curve mode {i + 1}",
+            0.0,
+            1.0,
+            k,
+            "",
+            note=f"calibration curve ({probe.calibration_date}), {t1:.2f} → {t1 + red.delta_t_K:.2f} °C",
+        )
+        for i, k in enumerate(modes)
+    )
+    budget = replace(red.budget, components=red.budget.components + rows)
+    return replace(red, budget=budget, u_delta_t_K=budget.u)
+
+
 def reduce_with_settings(thermogram: Thermogram, r: Mapping[str, Any]) -> Reduction:
     """Reduce with a run file's ``[reduce]`` settings (method, event, event_start_s,
-    after_start_s, resolution_K; the resolution defaults to the log's count step)."""
+    after_start_s, resolution_K; the resolution defaults to the log's count step), with the
+    probe calibration curve in the budget when the log was read through a probe file."""
     resolution = r.get("resolution_K", thermogram.metadata.get("count_step_K"))
-    return reduce_thermogram(
+    red = reduce_thermogram(
         thermogram,
         method=str(r.get("method", "auto")),
         event_index=int(r.get("event", 0)),
@@ -377,6 +409,7 @@ def reduce_with_settings(thermogram: Thermogram, r: Mapping[str, Any]) -> Reduct
         after_start_s=r.get("after_start_s"),
         resolution_K=None if resolution is None else float(resolution),
     )
+    return with_probe_curve(red, thermogram.metadata.get("probe_file"))
 
 
 def _energy(e: ElectricalSpec) -> Budget:
@@ -421,6 +454,7 @@ def evaluate_run(
         c = calorimeter.electrical_calibration(
             _energy(spec.electrical), as_input(dt), list(contents)
         )
+        c = substitute(c, "ΔT", dt)  # ΔT's own parts, so a later run can share its probe rows
         return RunResult(spec, red, mean_temp, contents, c_cal=c)
 
     c_cal: Budget | Input | None = spec.heat_capacity
@@ -448,7 +482,9 @@ def evaluate_run(
     )
 
     def carried(b: Budget) -> Budget:
-        # a constant from calibration runs brings its own inputs (and the shared water c_p)
+        # ΔT brings its own parts; a constant from calibration runs brings its inputs, the
+        # water c_p and the probe curve rows it shares with this run merging into one row each
+        b = substitute(b, "ΔT", dt)
         return carry_calibration(b, c_cal) if isinstance(c_cal, Budget) else b
 
     q = carried(heat(dt, c_cal, list(contents)))

@@ -144,3 +144,50 @@ def test_missing_file_and_folder(tmp_path):
 def test_beta_file_keeps_t25():
     probe = ProbeFile("b", Beta(2252.0, 3891.0, T25_C=30.0), dt.date(2026, 1, 1), "x", 0.1)
     assert parse_probe(probe_to_toml(probe)).model.T25_C == 30.0
+
+
+def test_curve_modes_split_the_difference_uncertainty_like_the_coefficient_covariance():
+    # The curve's error in T(r2) − T(r1) is gᵀΣg (JCGM 100, 5.2); checked against refits drawn
+    # from the coefficient distribution (JCGM 101 style Monte Carlo), on the invented example.
+    import datetime as dt
+    from importlib import resources
+    from pathlib import Path
+
+    import numpy as np
+
+    from heatlog.csvtable import read_columns
+    from heatlog.probes import SteinhartHart, fit_resistance, probe_from_fit
+
+    pts = read_columns(
+        Path(str(resources.files("heatlog") / "data" / "examples" / "ntc_10k_calibration.csv")),
+        ["temp_C", "resistance_ohm"],
+    )
+    fit = fit_resistance(pts["temp_C"], pts["resistance_ohm"], "steinhart-hart", ref_u_K=0.01)
+    probe = probe_from_fit(fit, "p", reference="invented", calibration_date=dt.date(2026, 1, 1))
+    r1, r2 = (float(probe.model.temperature_to_resistance(t)) for t in (21.0, 24.0))
+    modes = probe.curve_modes(r1, r2)
+    assert len(modes) == 3
+    rng = np.random.default_rng(4)
+    theta = rng.multivariate_normal(list(probe.model.coefficients().values()), fit.covariance, 4000)
+    diffs = [
+        float(SteinhartHart(*c).resistance_to_temperature(r2))
+        - float(SteinhartHart(*c).resistance_to_temperature(r1))
+        for c in theta
+    ]
+    assert np.sqrt(np.sum(np.square(modes))) == pytest.approx(np.std(diffs), rel=0.05)
+    assert np.sqrt(np.sum(np.square(modes))) < 0.5 * float(fit.u_fit(22.5)[0])  # offsets cancel
+    assert probe.curve_modes(r1, r1) == pytest.approx([0.0, 0.0, 0.0], abs=1e-15)
+
+
+def test_a_broken_covariance_table_is_a_clean_error():
+    from heatlog.errors import CalibrationError
+    from heatlog.probes import parse_probe
+
+    text = (
+        'id = "x"\nkind = "thermistor"\nmodel = "beta"\ncalibration_date = 2026-01-01\n'
+        'reference = "r"\nvalid_range_C = [0.0, 80.0]\nuncertainty_K = 0.1\n'
+        "[coefficients]\nR25 = 10000.0\nbeta = 3950.0\n"
+        '[fit]\nfitted = ["R25", "beta"]\ncovariance = [[1.0, 0.0]]\n'
+    )
+    with pytest.raises(CalibrationError, match="covariance"):
+        parse_probe(text)

@@ -56,17 +56,23 @@ def substitute(outer: Budget, name: str, inner: Budget) -> Budget:
     return replace(outer, components=tuple(out))
 
 
+#: Budget rows that name one physical input wherever they appear: a heat capacity from a table and
+#: the modes of a probe's calibration curve (``runfile.with_probe_curve``).
+SHARED_PREFIXES = ("c_p(", "probe ")
+
+
 def carry_calibration(outer: Budget, c_cal: Budget) -> Budget:
     """Expand the component ``C_cal`` of ``outer`` into the calibration's own inputs, keeping
     a heat capacity that calibration and measurement share as one input.
 
     A c_p used in both (the water's, from IAPWS-95) is one quantity, not two independent ones:
     its error moves C_cal and the measured heat in opposite directions and cancels exactly when
-    the water masses are equal. Its rows are merged by adding their sensitivities (JCGM 100,
-    5.1: one input, one row). Every other calibration input (its ΔT, energy, masses) is a
-    separate measurement and appears as "calibration: …".
+    the water masses are equal; so does a probe's calibration curve when both rises were read
+    with it. Such rows (:data:`SHARED_PREFIXES`) are merged by adding their sensitivities
+    (JCGM 100, 5.1: one input, one row). Every other calibration input (the parts of its ΔT, its
+    energy, masses) is a separate measurement and appears as "calibration: …".
     """
-    shared = {c.name for c in outer.components if c.name.startswith("c_p(")}
+    shared = {c.name for c in outer.components if c.name.startswith(SHARED_PREFIXES)}
     inner = replace(
         c_cal,
         components=tuple(

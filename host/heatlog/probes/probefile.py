@@ -32,6 +32,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+import numpy as np
 import tomli_w
 
 from heatlog.errors import CalibrationError, HeatlogError
@@ -71,6 +72,28 @@ class ProbeFile:
     @property
     def valid_range_C(self) -> tuple[float, float]:
         return (self.model.t_min_C, self.model.t_max_C)
+
+    def curve_modes(self, r_from: float, r_to: float) -> list[float]:
+        """Independent parts of the calibration curve's error in T(r_to) − T(r_from), in K.
+
+        The fitted coefficients' covariance Σ (stored by ``probe fit``) is split into independent
+        modes, Σ = Σ_i λ_i v_i v_iᵀ; with g = ∂T/∂θ(r_to) − ∂T/∂θ(r_from) the change owes
+        g·v_i·√λ_i to mode i, and the squares add up to gᵀΣg (JCGM 100, 5.2 for correlated
+        inputs). Offsets common to both ends cancel. Two differences read with the same probe
+        share the modes, so their errors are correlated exactly as the curve makes them. Empty
+        when the file holds no covariance (written by hand or by an older heatlog).
+        """
+        cov = self.fit.get("covariance")
+        fitted = self.fit.get("fitted")
+        if not cov or not fitted:
+            return []
+        sigma = np.asarray(cov, dtype=np.float64)
+        names = list(self.model.coefficients())
+        cols = [names.index(k) for k in fitted]
+        sens = self.model.coefficient_sensitivities(np.array([r_from, r_to], dtype=np.float64))
+        g = sens[1, cols] - sens[0, cols]
+        lam, vec = np.linalg.eigh(0.5 * (sigma + sigma.T))
+        return [float(g @ vec[:, i] * math.sqrt(max(lam[i], 0.0))) for i in range(lam.size)]
 
     def to_dict(self) -> dict[str, Any]:
         doc: dict[str, Any] = {
@@ -115,6 +138,9 @@ def probe_from_fit(
         "max_u_fit_K": float(max(table["u_fit_K"])),
         "ref_u_K": fit.ref_u_K,
         "fitted": list(fit.fitted),
+        # Σ of the fitted coefficients, in "fitted" order: what a temperature *difference* from
+        # this probe owes to its calibration curve (see ProbeFile.curve_modes)
+        "covariance": [[float(v) for v in row] for row in np.atleast_2d(fit.covariance)],
     }
     probe = ProbeFile(probe_id, fit.model, calibration_date, reference, float(u), summary)
     return parse_probe(probe_to_toml(probe), "fitted probe")  # one validation path
@@ -185,6 +211,7 @@ def parse_probe(text: str, where: str = "probe file") -> ProbeFile:
     for key, table in (("coefficients", coeffs), ("constants", constants), ("fit", fit)):
         if not isinstance(table, dict):
             raise CalibrationError(f"{where}: [{key}] must be a table")
+    _check_covariance(fit, where)
     bad_const = sorted(set(constants) - set(_CONSTANTS))
     if bad_const:
         raise CalibrationError(f"{where}: unknown constant(s) {', '.join(bad_const)}")
@@ -193,6 +220,29 @@ def parse_probe(text: str, where: str = "probe file") -> ProbeFile:
     except HeatlogError as exc:
         raise CalibrationError(f"{where}: {exc}") from None
     return ProbeFile(probe_id, model, date, doc["reference"].strip(), u, fit)
+
+
+def _check_covariance(fit: dict[str, Any], where: str) -> None:
+    """[fit] covariance, when present, is a square table of numbers matching [fit] fitted."""
+    cov, fitted = fit.get("covariance"), fit.get("fitted")
+    if cov is None:
+        return
+    n = len(fitted) if isinstance(fitted, list) else -1
+    ok = (
+        isinstance(cov, list)
+        and len(cov) == n
+        and all(isinstance(row, list) and len(row) == n for row in cov)
+        and all(
+            isinstance(v, int | float) and not isinstance(v, bool) and math.isfinite(v)
+            for row in cov
+            for v in row
+        )
+    )
+    if not ok:
+        raise CalibrationError(
+            f"{where}: [fit] covariance must be a {max(n, 0)}×{max(n, 0)} table of numbers matching "
+            "[fit] fitted; refit the probe or delete both keys"
+        )
 
 
 def load_probe(path: str | Path) -> ProbeFile:
