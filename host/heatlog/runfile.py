@@ -66,7 +66,7 @@ from heatlog.energetics.heat import (
 from heatlog.errors import InputError
 from heatlog.gum import Budget, Component, Input
 from heatlog.probes import ProbeFile, chain_from_spec, load_probe
-from heatlog.profile import ProfileSettings, settings_from_table
+from heatlog.profile import ProfileResult, ProfileSettings, analyse_profile, settings_from_table
 from heatlog.reduce import Reduction, reduce_thermogram
 from heatlog.thermogram import Thermogram, read_thermogram_csv
 
@@ -528,3 +528,21 @@ def run_file(path: str | Path, _seen: Sequence[Path] = ()) -> RunResult:
         raise InputError(f"{spec.path}: calibration run files refer to each other in a loop")
     thermogram = read_run_log(spec.log)
     return evaluate_run(spec, thermogram, calibrate=lambda p: run_file(p, (*_seen, here)))
+
+
+def profile_run(spec: RunSpec) -> ProfileResult:
+    """Read the log of a run file with a ``[profile]`` table (its environment and flag columns
+    too) and compute the long-run heat profile (``heatlog profile RUN.toml``)."""
+    if spec.profile is None:
+        raise InputError(f"{spec.path}: the run file has no [profile] table")
+    cols = spec.profile_columns
+    extra = [c for c in (cols.get("env"), cols.get("flags")) if c]
+    time_s, temp, extras, _ = read_log_arrays(spec.log, extra)
+    return analyse_profile(
+        time_s,
+        temp,
+        spec.profile,
+        env_C=extras.get(cols["env"]) if "env" in cols else None,
+        flags=extras.get(cols["flags"]) if "flags" in cols else None,
+        where=str(spec.log.file),
+    )

@@ -14,7 +14,7 @@ from heatlog.profile import KINDS, GapPolicy, ProfileResult, ProfileSettings, Th
 from heatlog.profile.analysis import DEFAULT_U_ENV_K, DEFAULT_U_TEMP_K, analyse_profile
 from heatlog.profile.logcheck import DEFAULT_GAP_FACTOR
 from heatlog.profile.maturity import DEFAULT_ACTIVATION_K, DEFAULT_DATUM_C, DEFAULT_REFERENCE_C
-from heatlog.runfile import load_run, read_log_arrays
+from heatlog.runfile import load_run, profile_run
 
 CAUTION = (
     "Caution: hand warmers, cold packs, heaters and wet cement can injure skin; follow the "
@@ -242,14 +242,7 @@ def profile(
     """
     if file.lower().endswith(".toml"):
         spec = load_run(file)
-        if spec.profile is None:
-            raise InputError(f"{file}: the run file has no [profile] table")
-        settings = spec.profile
-        cols = spec.profile_columns
-        extra = [c for c in (cols.get("env"), cols.get("flags")) if c]
-        time_s, temp, extras, _ = read_log_arrays(spec.log, extra)
-        env = extras.get(cols["env"]) if "env" in cols else None
-        flags = extras.get(cols["flags"]) if "flags" in cols else None
+        result = profile_run(spec)
         source = str(spec.log.file)
     else:
         if heat_capacity is None:
@@ -288,7 +281,7 @@ def profile(
         env = lookup[env_col.lower()] if env_col else None
         flags = lookup[flags_col.lower()] if flags_col else None
         source = file
-    result = analyse_profile(time_s, temp, settings, env_C=env, flags=flags, where=source)
+        result = analyse_profile(time_s, temp, settings, env_C=env, flags=flags, where=source)
     payload = result.to_dict()
     payload["file"] = file
     payload["caution"] = CAUTION

@@ -17,10 +17,9 @@ from heatlog.errors import InputError
 from heatlog.probes import fit_resistance, load_probe
 from heatlog.probes.fitting import CalibrationFit
 from heatlog.probes.probefile import ProbeFile
-from heatlog.profile import analyse_profile
 from heatlog.reduce import reduce_thermogram
 from heatlog.report.html import ReportInputs, cautions_for, render_html
-from heatlog.runfile import RunResult, RunSpec, load_run, read_log_arrays, read_run_log, run_file
+from heatlog.runfile import RunResult, RunSpec, load_run, profile_run, read_run_log, run_file
 from heatlog.thermogram import Thermogram, read_thermogram_csv
 
 Progress = Callable[[str], None]
@@ -156,20 +155,8 @@ def report_inputs(
 
 
 def _profile_inputs(spec: RunSpec, probe_points: Path | None, say: Progress) -> ReportInputs:
-    assert spec.profile is not None
-    cols = spec.profile_columns
-    say("reading the log")
-    extra = [c for c in (cols.get("env"), cols.get("flags")) if c]
-    time_s, temp, extras, _ = read_log_arrays(spec.log, extra)
-    say("computing the heat profile")
-    result = analyse_profile(
-        time_s,
-        temp,
-        spec.profile,
-        env_C=extras.get(cols["env"]) if "env" in cols else None,
-        flags=extras.get(cols["flags"]) if "flags" in cols else None,
-        where=str(spec.log.file),
-    )
+    say("reading the log and computing the heat profile")
+    result = profile_run(spec)
     probe = load_probe(spec.log.probe) if spec.log.probe is not None else None
     return ReportInputs(
         title=spec.title,
