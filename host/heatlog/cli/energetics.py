@@ -16,6 +16,7 @@ from typing import Any
 import click
 
 from heatlog.cli.output import emit, json_option
+from heatlog.energetics.hess import CORROSIVE_SPECIES
 from heatlog.errors import InputError
 
 CAUTION_HOT = (
@@ -29,7 +30,6 @@ CAUTION_CORROSIVE = (
 CAUTION_GENERAL = (
     "Caution: handle the chemicals as their safety data sheets and your local rules require."
 )
-_CORROSIVE_SPECIES = ("H+", "OH-", "HCl", "NaOH", "KOH", "HNO3", "H2SO4", "CH3COOH", "CaO")
 
 _number = click.FLOAT
 
@@ -401,7 +401,7 @@ def hess(
     if measured is not None and u_measured is not None:
         cmp = compare(_inp(measured, u_measured, "kJ/mol", "--measured"), b)
         payload["comparison"] = cmp.to_dict()
-    corrosive = any(any(s in c.name for s in _CORROSIVE_SPECIES) for c in b.components)
+    corrosive = any(any(s in c.name for s in CORROSIVE_SPECIES) for c in b.components)
     caution = CAUTION_CORROSIVE if corrosive else CAUTION_GENERAL
     payload["caution"] = caution
 

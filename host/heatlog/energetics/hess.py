@@ -35,6 +35,11 @@ ALIASES = {
 }
 
 
+#: Species whose presence in a reaction calls for the acids-and-bases caution (common practice,
+#: no source): matched as text in reaction and species names.
+CORROSIVE_SPECIES = ("H+", "OH-", "HCl", "NaOH", "KOH", "HNO3", "H2SO4", "CH3COOH", "CaO")
+
+
 @dataclass(frozen=True)
 class FormationEntry:
     species: Species

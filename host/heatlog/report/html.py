@@ -16,6 +16,7 @@ from collections.abc import Callable, Iterable
 from dataclasses import dataclass, field
 
 from heatlog import __version__
+from heatlog.energetics.hess import CORROSIVE_SPECIES
 from heatlog.gum import Budget
 from heatlog.probes.fitting import CalibrationFit
 from heatlog.probes.probefile import ProbeFile
@@ -70,7 +71,6 @@ CORROSIVE_CAUTION = (
 SALT_CAUTION = (
     "Ammonium nitrate is an oxidiser; keep it away from fuels and heat. Cold packs can chill skin."
 )
-_CORROSIVE = ("H+", "OH-", "HCl", "NaOH", "KOH", "HNO3", "H2SO4", "CH3COOH", "CaO")
 
 _STYLE = """
 body{font-family:system-ui,-apple-system,"Segoe UI",sans-serif;max-width:1000px;margin:2em auto;
@@ -162,7 +162,7 @@ def cautions_for(run: RunResult | None, profile: ProfileResult | None) -> tuple[
             out.append(HOT_CAUTION)
         reaction = run.spec.sample.reaction if run.spec.sample is not None else None
         text = f"{reaction or ''} {run.spec.sample.name if run.spec.sample else ''}"
-        if any(s in text for s in _CORROSIVE):
+        if any(s in text for s in CORROSIVE_SPECIES):
             out.append(CORROSIVE_CAUTION)
         if "NH4NO3" in text:
             out.append(SALT_CAUTION)
