@@ -147,3 +147,24 @@ def test_esp32_microvolt_ratio(mid_uv):
     board = fw.to_celsius(ch["model"], fw.ratio_ohms(raw, ch["r_fixed_ohm"]))
     got = _host_model(ch["model"]).resistance_to_temperature(chain.to_resistance(raw))
     assert float(got) == pytest.approx(board, abs=1e-6)
+
+
+def test_export_and_live_decoding_use_the_chain_the_log_names():
+    # An ESP32 board (invented values): Q15 ratios on the microvolt divider and the ADS1115, a
+    # sum of N MAX31865 codes. The CSV export and the live decoder must read every channel
+    # through Channel.chain_spec, as the archive and run files do.
+    from heatlog.device.export import calibrate
+    from heatlog.device.live import channels_from_config
+
+    cfg = json.loads((FIRMWARE / "config.esp32.example.json").read_text())
+    table = channels.table(cfg)
+    raw = [13107, 16384, N * 7620]  # ratios 0.4 and 0.5; Pt100 at 0 °C (MAX31865 datasheet)
+    log = _log(table, raw)
+    _, cols, _ = calibrate(log, {})
+    for i, col in enumerate(cols):
+        _, chain = _chain(log, i)
+        assert col.meta["chain"] == log.header.channels[i].chain_spec(N)
+        assert col.resistance[0] == pytest.approx(chain.to_resistance(raw[i]), rel=1e-12)
+    assert cols[0].resistance[0] == pytest.approx(22000 * 0.4 / 0.6, rel=1e-4)
+    live, _ = channels_from_config(cfg)
+    assert [c.chain_spec(N) for c in live] == [c.chain_spec(N) for c in log.header.channels]

@@ -1,9 +1,9 @@
 """Turn a pulled run file into a CSV (time_s, raw and calibrated columns per channel) and a JSON
 metadata file, applying probe files found by the probe ids in the log's channel table.
 
-Raw values (firmware/LOGFORMAT.md) → resistance: on-chip ADC divider = sum of n 12-bit codes
-→ ``VoltageDivider(bits=12, oversample=n)``; ADS1115 = Q15 ratio → the same divider formula at
-16 bits (raw·2); MAX31865 = sum of n 15-bit codes → ``MAX31865Chain`` on the mean code. The
+Raw values (firmware/LOGFORMAT.md) → resistance through the reading chain the log's channel
+table names (:meth:`heatlog.logformat.Channel.chain_spec`: a sum of n 12-bit divider codes, a
+Q15 ratio from an ADS1115 or an ESP32 microvolt divider, or a sum of n MAX31865 codes). The
 first calibrated channel is also written as ``temp_C`` so ``heatlog reduce FILE.csv`` reads it.
 Records with a probe fault are left out of the CSV and counted in the metadata.
 """
@@ -20,19 +20,14 @@ import numpy as np
 from heatlog.device.archive import safe_name
 from heatlog.errors import HeatlogError
 from heatlog.logformat import Channel, RunLog, read_log
-from heatlog.probes import MAX31865Chain, VoltageDivider, load_probe
+from heatlog.probes import Chain, chain_from_spec, load_probe
 from heatlog.probes.probefile import ProbeFile
 
 
-def chain_for(ch: Channel, oversample: int) -> tuple[Any, float, str | None]:
-    """(chain, factor applied to the raw value first, run-file chain spec or None)."""
-    side = "high" if ch.mode == 1 else "low"
-    if ch.kind_code == 1:
-        spec = f"divider:rs={ch.ref_ohm:g},side={side},bits=12,oversample={oversample}"
-        return VoltageDivider(ch.ref_ohm, side, bits=12, oversample=oversample), 1.0, spec
-    if ch.kind_code == 2:
-        return VoltageDivider(ch.ref_ohm, side, bits=16, oversample=1), 2.0, None
-    return MAX31865Chain(ch.ref_ohm), 1.0 / oversample, None
+def chain_for(ch: Channel, oversample: int) -> tuple[Chain, str]:
+    """The reading chain for a logged channel's raw values, and its run-file spec."""
+    spec = ch.chain_spec(oversample)
+    return chain_from_spec(spec), spec
 
 
 @dataclass(frozen=True)
@@ -53,7 +48,7 @@ def calibrate(
     out = []
     for i, ch in enumerate(log.header.channels):
         raw = log.raw[keep, i]
-        chain, factor, spec = chain_for(ch, log.header.oversample)
+        chain, spec = chain_for(ch, log.header.oversample)
         meta: dict[str, Any] = {
             "index": i,
             "kind": ch.kind,
@@ -63,11 +58,7 @@ def calibrate(
         }
         r = temp = None
         try:
-            r = (
-                np.asarray(chain.to_resistance(raw * factor), dtype=float)
-                if raw.size
-                else np.zeros(0)
-            )
+            r = np.asarray(chain.to_resistance(raw), dtype=float) if raw.size else np.zeros(0)
             probe = probes.get(ch.probe_id)
             if probe is None:
                 meta["calibrated"] = f"no probe file for {ch.probe_id!r}"

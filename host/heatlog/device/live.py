@@ -15,7 +15,7 @@ import numpy as np
 from heatlog.device.commands import BadReply
 from heatlog.device.export import chain_for, load_probes
 from heatlog.errors import HeatlogError
-from heatlog.logformat import KIND_NAMES, Channel, decode_record
+from heatlog.logformat import KIND_NAMES, MODE_NTC_HIGH, MODE_UV_RATIO, Channel, decode_record
 
 _KIND_CODES = {v: k for k, v in KIND_NAMES.items()}
 
@@ -32,7 +32,12 @@ def channels_from_config(cfg: dict[str, Any]) -> tuple[list[Channel], int]:
         ref = ch.get("r_ref_ohm" if code == 3 else "r_fixed_ohm")
         if isinstance(ref, bool) or not isinstance(ref, int | float) or not ref > 0:
             raise BadReply("get config: channel without a positive resistor value")
-        mode = int(ch.get("wires", 4)) if code == 3 else (1 if ch.get("ntc_side") == "high" else 0)
+        if code == 3:
+            mode = int(ch.get("wires", 4))
+        else:  # the same mode bits the board writes into a run header (LOGFORMAT.md)
+            mode = MODE_NTC_HIGH if ch.get("ntc_side") == "high" else 0
+            if code == 1 and ch.get("excitation_pin") is not None:
+                mode |= MODE_UV_RATIO  # ESP32: Q15 ratio against the measured excitation
         out.append(
             Channel(ch["kind"], code, mode, 0, 0, float(ref), str(ch.get("probe_id", ""))[:16])
         )
@@ -62,12 +67,10 @@ class LiveDecoder:
             probe = self.probes.get(c.probe_id)
             t = None
             if probe is not None:
-                chain, factor, _ = chain_for(c, self.oversample)
+                chain, _ = chain_for(c, self.oversample)
                 try:
                     t = float(
-                        probe.model.resistance_to_temperature(
-                            np.asarray(chain.to_resistance(v * factor))
-                        )
+                        probe.model.resistance_to_temperature(np.asarray(chain.to_resistance(v)))
                     )
                 except HeatlogError:
                     t = None
