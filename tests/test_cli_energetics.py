@@ -72,13 +72,21 @@ def test_reaction_reference_and_reduce_json(tmp_path):
     r_args = [
         "calibrate", "reaction", "--reference", "tris-hcl", "--amount", "0.5", "--u-amount",
         "0.0002", "--reduce-json", str(red), "--water-g", "100", "--u-water-g", "0.05", "--cp",
-        "4.15", "--u-cp", "0.01", "--json",
+        "4.15", "--u-cp", "0.01", "--temp", "25", "--json",
     ]  # fmt: skip
     r = run(*r_args)
     assert r.exit_code == 0, r.output
     data = json.loads(r.output)
     assert data["value"] == pytest.approx(50.0, abs=1e-9)
     assert data["reference"]["source"].startswith("Prosen & Kilday")
+    assert data["reference"]["concentration"] == pytest.approx(5.0)  # 0.5 g per 100 g
+    # at 20 °C the same rise means a larger C_cal: ΔH(20 °C) = −252.935 J/g (PROSEN1973 ΔCp)
+    r20 = run(*[a if a != "25" else "20" for a in r_args])
+    assert json.loads(r20.output)["value"] == pytest.approx(0.5 * 252.935 / (122.88 / 465) - 415)
+    missing = run(*[a for a in r_args if a not in ("--temp", "25")])
+    assert missing.exit_code != 0 and "--temp" in missing.output
+    cold = run(*[a if a != "25" else "15" for a in r_args])
+    assert cold.exit_code != 0 and "293.15–303.15 K" in cold.output
     assert "eye protection" in data["caution"]
     text = run(*[a for a in r_args if a != "--json"]).output
     assert "Reference: tris" in text and "Prosen & Kilday" in text
@@ -126,11 +134,17 @@ def test_hess_text_json_and_compare():
         (["calibrate", "electrical", "--voltage", "12", "--power", "18"], "exactly one"),
         (["calibrate", "electrical", "--power", "18", "--u-power", "0.1", "--seconds", "300",
           "--u-seconds", "1"], "--delta-t"),
-        (["calibrate", "reaction", "--reference", "kcl", "--amount", "0.02", "--u-amount", "0",
-          "--delta-t", "0.5", "--u-delta-t", "0.01", "--water-g", "400", "--u-water-g", "0.1"],
+        (["calibrate", "reaction", "--reference", "kcl", "--amount", "0.0444", "--u-amount", "0",
+          "--delta-t", "0.5", "--u-delta-t", "0.01", "--water-g", "400", "--u-water-g", "0.1",
+          "--temp", "25"],
          "sign of ΔT"),
+        (["calibrate", "reaction", "--reference", "kcl", "--amount", "0.8", "--u-amount", "0",
+          "--delta-t", "-0.5", "--u-delta-t", "0.01", "--water-g", "400", "--u-water-g", "0.1",
+          "--temp", "25"],
+         "0.02–0.5 mol/kg"),
         (["calibrate", "reaction", "--reference", "tris-hcl", "--amount", "0.5", "--u-amount",
-          "0", "--reduce-json", "missing.json"], "no such file"),
+          "0", "--reduce-json", "missing.json", "--temp", "25", "--water-g", "100"],
+         "no such file"),
         (["calibrate", "combine", "150"], "VALUE:U"),
         (["calibrate", "electrical", "--power", "nan", "--u-power", "0.1", "--seconds", "300",
           "--u-seconds", "1", "--delta-t", "2", "--u-delta-t", "0.01"], "finite"),

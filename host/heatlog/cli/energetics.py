@@ -50,8 +50,9 @@ def _contents_options(f: Callable[..., Any]) -> Callable[..., Any]:
                      help="Mass of liquid in the calorimeter (water unless --solute or --cp), g."),
         click.option("--u-water-g", type=_number, default=0.0, show_default=True,
                      help="Standard uncertainty of that mass, g."),
-        click.option("--temp", "temp_c", type=_number, default=25.0, show_default=True,
-                     help="Mean temperature of the run, °C (for c_p)."),
+        click.option("--temp", "temp_c", type=_number, default=None,
+                     help="Mean temperature of the run, °C (for c_p; default 25; required with "
+                          "--reference, whose enthalpy depends on it)."),
         click.option("--solute", default=None,
                      help="Solute of a dilute solution (Laliberté 2009 model), e.g. NaCl."),
         click.option("--molality", type=_number, default=None, help="Solute molality, mol/kg."),
@@ -66,6 +67,7 @@ def _contents_options(f: Callable[..., Any]) -> Callable[..., Any]:
 def _contents(water_g, u_water_g, temp_c, solute, molality, cp, u_cp) -> list[Any]:
     from heatlog.energetics import Content, given_cp, solution_cp, water_cp_input
 
+    temp_c = 25.0 if temp_c is None else temp_c
     _inp(temp_c, 0.0, "°C", "--temp")
     if not (math.isfinite(water_g) and water_g >= 0):
         raise InputError(f"--water-g must be a finite number ≥ 0, got {water_g}")
@@ -136,7 +138,9 @@ def _report(as_json: bool, budget: Any, caution: str, extra: dict[str, Any] | No
         ref = payload.get("reference")
         if ref:
             lines.append(
-                f"Reference: {ref['process']}, ΔH = {ref['dh']:g} ± {ref['u_dh']:g} {ref['unit']} "
+                f"Reference: {ref['process']}, ΔH = {ref['dh']:.5g} {ref['unit']}, "
+                f"u = {ref['u_dh']:.2g} {ref['unit']} (k = 1) at {ref['temperature_C']:g} °C and "
+                f"{ref['concentration']:.4g} {ref['concentration_unit']} "
                 f"({ref['conditions']}; {ref['source']})"
             )
         if budget.unit == "J/K" and budget.value < 0:
@@ -308,29 +312,56 @@ def mixing(
     help="Amount of reference substance: g for tris-hcl, mol for kcl, else as --per.",
 )
 @click.option("--u-amount", type=_number, required=True, help="Standard uncertainty of --amount.")
+@click.option(
+    "--final-conc",
+    type=_number,
+    default=None,
+    help="Final concentration of the reference process: mol/kg for kcl, g per kg for tris-hcl "
+    "(default: --amount per kg of --water-g).",
+)
 @_delta_t_options
 @_contents_options
 @json_option
 def reaction_cmd(
-    reference, dh, u_dh, per, amount, u_amount, delta_t, u_delta_t, reduce_json,
+    reference, dh, u_dh, per, amount, u_amount, final_conc, delta_t, u_delta_t, reduce_json,
     water_g, u_water_g, temp_c, solute, molality, cp, u_cp, as_json,
 ) -> None:  # fmt: skip
-    """Calibrate with a reaction or dissolution of known enthalpy (q = −ΔH·amount)."""
+    """Calibrate with a reaction or dissolution of known enthalpy (q = −ΔH·amount).
+
+    A reference process is taken at the run's mean temperature (--temp) and final concentration,
+    inside the range its published temperature and concentration dependence covers."""
     from heatlog.energetics import REFERENCE_PROCESSES, reaction_calibration
 
     if (reference is None) == (dh is None):
         raise InputError("give exactly one of --reference or --dh")
     extra: dict[str, Any] = {}
+    where: dict[str, Any] = {}
     if reference is not None:
         process = REFERENCE_PROCESSES[reference]
         unit = process.per
         caution = CAUTION_CORROSIVE if process.hazard == "acid" else CAUTION_GENERAL
+        if temp_c is None:
+            raise InputError(
+                f"give --temp, the run's mean temperature: the enthalpy of {reference} depends on it"
+            )
+        conc = (
+            process.concentration(amount, water_g)
+            if final_conc is None
+            else _inp(final_conc, 0.0, process.conc_unit, "--final-conc").value
+        )
+        ref_b = process.enthalpy(temp_c, conc)
+        where = {"t_c": temp_c, "concentration": conc}
         extra = {
             "reference": {
                 "process": process.description,
-                "dh": process.dh.value,
-                "u_dh": process.dh.u,
+                "dh": ref_b.value,
+                "u_dh": ref_b.u,
+                "dh_25C_certified": process.dh.value,
+                "u_dh_25C_certified": process.dh.u,
                 "unit": process.dh.unit,
+                "temperature_C": temp_c,
+                "concentration": conc,
+                "concentration_unit": process.conc_unit,
                 "conditions": process.conditions,
                 "source": process.source,
             }
@@ -348,6 +379,7 @@ def reaction_cmd(
         _inp(amount, u_amount, unit, "--amount"),
         _delta_t(delta_t, u_delta_t, reduce_json),
         contents,
+        **where,
     )
     _report(as_json, b, caution, extra)
 
