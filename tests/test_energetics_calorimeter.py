@@ -10,10 +10,10 @@ from heatlog.energetics.calorimeter import (
     combine_calibrations,
     electrical_calibration,
     electrical_energy,
+    kcl_phi_l,
     logged_energy,
     mixing_calibration,
     power_energy,
-    kcl_phi_l,
     reaction_calibration,
 )
 from heatlog.energetics.heat import (

@@ -70,7 +70,10 @@ KNOWN_SPREAD = {
     ("Ca(OH)2", "s"): 1.0,  # NBS −986.09, CRC −985.2
     ("CaCO3", "s"): 1.0,  # NBS −1206.92 (calcite), CRC −1207.6
     ("NH3", "g"): 0.6,
-    ("ZnO", "s"): 2.3,  # NBS −348.28, CODATA −350.46, CRC −350.5 (the row's u says so)  # NBS −46.11, CODATA −45.94, chemicals' default (ATcT) −45.56
+    (
+        "ZnO",
+        "s",
+    ): 2.3,  # NBS −348.28, CODATA −350.46, CRC −350.5 (the row's u says so)  # NBS −46.11, CODATA −45.94, chemicals' default (ATcT) −45.56
 }
 LOOKUP = {"s": Hfs, "l": Hfl, "g": Hfg}
 

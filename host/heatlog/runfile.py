@@ -26,6 +26,7 @@ RUN.toml`` evaluates it. The layout, with every key optional unless marked::
     name = "NH4NO3"  mass_g = 8.0  u_mass_g = 0.002
     molar_mass_g_per_mol = 80.043                  # or taken from the reaction's first reactant
     reaction = "NH4NO3(s) -> NH4+(aq) + NO3-(aq)"  # for the Hess's-law comparison
+    formation_table = "my_dhf.csv"  # your own cited ΔfH rows, in front of the NBS 1982 table
     [profile]                    # a long run: heat-release profile (``heatlog profile RUN.toml``)
     heat_capacity_J_per_K = 2500.0  u_heat_capacity_J_per_K = 50.0     # box + contents + sample
     loss_W_per_K = 0.03  u_loss_W_per_K = 0.002    # or: cooling_fit_after_s = 200000.0
@@ -102,6 +103,7 @@ class SampleSpec:
     mass_g: Input
     molar_mass_g_per_mol: float | None = None
     reaction: str | None = None
+    formation_table: Path | None = None  # the user's ΔfH rows (hess.load_formation_table)
 
 
 @dataclass(frozen=True)
@@ -229,6 +231,9 @@ def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
             if "molar_mass_g_per_mol" not in s
             else _number(s, "molar_mass_g_per_mol", w),
             reaction=None if s.get("reaction") is None else str(s["reaction"]),
+            formation_table=None
+            if s.get("formation_table") is None
+            else _path(base, s["formation_table"], w),
         )
     if electrical is not None and sample is not None:
         raise InputError(
@@ -323,6 +328,7 @@ class RunResult:
     specific: Budget | None = None
     hess: hess.Comparison | None = None
     predicted: Budget | None = None
+    hess_warning: str | None = None  # why no prediction could be made (the measurement stands)
 
     def to_dict(self) -> dict[str, Any]:
         out: dict[str, Any] = {"title": self.spec.title, "run_file": str(self.spec.path)}
@@ -352,8 +358,13 @@ class RunResult:
             out["hess"] = {
                 "predicted_kJ_per_mol": self.predicted.value,
                 "u_predicted_kJ_per_mol": self.predicted.u,
+                "U_predicted_kJ_per_mol": self.predicted.expanded,
+                "coverage_factor": self.predicted.k,
+                "reference_temperature_C": 25.0,
                 "comparison": self.hess.to_dict(),
             }
+        if self.hess_warning is not None:
+            out["hess_warning"] = self.hess_warning
         out["sign_convention"] = SIGN_CONVENTION
         return out
 
@@ -495,6 +506,7 @@ def evaluate_run(
     spec_h = carried(specific_enthalpy(dt, c_cal, list(contents), sample.mass_g))
     mm = _molar_mass(sample)
     molar = predicted = comparison = None
+    warning: str | None = None
     if mm is not None:
         n = Input(
             sample.mass_g.value / mm,
@@ -504,8 +516,13 @@ def evaluate_run(
         )
         molar = carried(molar_enthalpy(dt, c_cal, list(contents), n))
         if sample.reaction is not None:
-            predicted = hess.reaction_enthalpy(sample.reaction)
-            comparison = hess.compare(molar, predicted)
+            # A table that lacks a species costs the prediction, never the measured result.
+            try:
+                table = hess.load_formation_table(sample.formation_table)
+                predicted = hess.reaction_enthalpy(sample.reaction, table)
+                comparison = hess.compare(molar, predicted)
+            except hess.MissingSpecies as exc:
+                warning = f"no Hess's-law prediction: {exc}"
     return RunResult(
         spec,
         red,
@@ -517,6 +534,7 @@ def evaluate_run(
         specific=spec_h,
         hess=comparison,
         predicted=predicted,
+        hess_warning=warning,
     )
 
 

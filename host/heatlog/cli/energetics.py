@@ -413,20 +413,44 @@ def combine(results: tuple[str, ...], as_json: bool) -> None:
 @click.argument("reaction_text", metavar="REACTION")
 @click.option("--measured", type=_number, default=None, help="Your measured ΔH, kJ/mol.")
 @click.option("--u-measured", type=_number, default=None, help="Its standard uncertainty, kJ/mol.")
+@click.option(
+    "--table",
+    "table_path",
+    type=click.Path(dir_okay=False, path_type=Path),
+    default=None,
+    help="Your own ΔfH rows: CSV with species, phase, dHf_kJ_per_mol, u_kJ_per_mol, source "
+    "(used in front of the packaged table).",
+)
+@click.option(
+    "--compilation",
+    type=click.Choice(["nbs1982", "codata1989"]),
+    default="nbs1982",
+    show_default=True,
+    help="Packaged table: NBS 1982 (every species), or the CODATA 1989 alternative (few salts).",
+)
 @json_option
 def hess(
-    reaction_text: str, measured: float | None, u_measured: float | None, as_json: bool
+    reaction_text: str,
+    measured: float | None,
+    u_measured: float | None,
+    table_path: Path | None,
+    compilation: str,
+    as_json: bool,
 ) -> None:
     """Predict a reaction's standard enthalpy (298.15 K) by Hess's law from the cited table.
 
     Example: heatlog hess "NH4NO3(s) -> NH4+(aq) + NO3-(aq)"
     """
     from heatlog.energetics import compare, reaction, reaction_enthalpy
+    from heatlog.energetics.hess import load_formation_table
 
-    r = reaction(reaction_text)
-    b = reaction_enthalpy(r)
-    payload: dict[str, Any] = {"reaction": str(r), "budget": b.to_dict()}
+    table = load_formation_table(table_path, compilation)
+    r = reaction(reaction_text, table)
+    b = reaction_enthalpy(r, table)
+    payload: dict[str, Any] = {"reaction": str(r), "table": table.name, "budget": b.to_dict()}
     payload["value"], payload["unit"], payload["standard_uncertainty"] = b.value, b.unit, b.u
+    payload["u_value"], payload["U_value"] = b.u, b.expanded
+    payload["coverage_factor"] = b.k
     cmp = None
     if (measured is None) != (u_measured is None):
         raise InputError("give both --measured and --u-measured, or neither")
@@ -438,12 +462,12 @@ def hess(
     payload["caution"] = caution
 
     def text() -> str:
-        lines = [b.table()]
+        lines = [b.table(), f"table: {table.name}"]
         if cmp is not None:
             lines.append(
-                f"measured {cmp.measured:.4g} ± {cmp.u_measured:.2g} kJ/mol vs predicted "
-                f"{cmp.predicted:.4g} ± {cmp.u_predicted:.2g}: difference {cmp.difference:+.3g} "
-                f"kJ/mol, z = {cmp.z:.2f} — {cmp.verdict}"
+                f"measured {cmp.measured:.4g} kJ/mol, u = {cmp.u_measured:.2g} (k = 1), vs "
+                f"predicted {cmp.predicted:.4g} kJ/mol, u = {cmp.u_predicted:.2g} (k = 1): "
+                f"difference {cmp.difference:+.3g} kJ/mol, z = {cmp.z:.2f} — {cmp.verdict}"
             )
         lines.append(caution)
         return "\n".join(lines)

@@ -29,7 +29,6 @@ from heatlog.energetics.water import CP_RELATIVE_U, water_cp
 from heatlog.errors import CalibrationError, InputError, RangeError
 from heatlog.gum import Budget, Component, Input, propagate, rectangular
 
-
 #: Ends of the temperature range a reference process may be used in, and the two ways the
 #: final concentration is stated.
 KELVIN = 273.15
@@ -214,6 +213,7 @@ REFERENCE_PROCESSES: dict[str, ReferenceProcess] = {
         ),
     )
 }
+
 
 def _positive(name: str, x: Input) -> Input:
     if not (math.isfinite(x.value) and x.value > 0):

@@ -46,6 +46,7 @@ COLUMNS = ("species", "phase", "dHf_kJ_per_mol", "u_kJ_per_mol", "source")
 class MissingSpecies(InputError):
     """A species no table in use holds: a prediction cannot be made (the measurement stands)."""
 
+
 # Names a user may type instead of a formula.
 ALIASES = {
     "urea": "CO(NH2)2",
@@ -75,9 +76,7 @@ class FormationTable:
         """This table's rows in front of ``other``'s: a species this table holds (in any phase)
         hides the other's rows for it, so one prediction never mixes two values of a species."""
         mine = {(e.species.formula, e.species.charge) for e in self.entries}
-        rest = tuple(
-            e for e in other.entries if (e.species.formula, e.species.charge) not in mine
-        )
+        rest = tuple(e for e in other.entries if (e.species.formula, e.species.charge) not in mine)
         return FormationTable(self.entries + rest, f"{self.name} + {other.name}")
 
     def _matches(self, sp: Species) -> list[FormationEntry]:
@@ -135,7 +134,9 @@ def _parse_table(text: str, where: str, *, user: bool = False) -> FormationTable
     seen: dict[tuple[str, int, str | None], int] = {}
     for i, row in enumerate(rows, start=1):
         if None in row or any(row.get(c) is None for c in COLUMNS):
-            raise _row_error(where, i, f"needs exactly the {len(COLUMNS)} columns {', '.join(COLUMNS)}")
+            raise _row_error(
+                where, i, f"needs exactly the {len(COLUMNS)} columns {', '.join(COLUMNS)}"
+            )
         phase = row["phase"].strip()
         if phase not in PHASES:
             raise _row_error(where, i, f"phase {phase!r} is not one of {', '.join(PHASES)}")
@@ -154,8 +155,10 @@ def _parse_table(text: str, where: str, *, user: bool = False) -> FormationTable
             raise _row_error(where, i, f"dHf_kJ_per_mol must be a finite number, got {value}")
         if not (math.isfinite(u) and u >= 0) or (user and u == 0):
             raise _row_error(
-                where, i, f"u_kJ_per_mol must be a {'positive' if user else 'non-negative'} "
-                f"standard uncertainty, got {row['u_kJ_per_mol']!r}"
+                where,
+                i,
+                f"u_kJ_per_mol must be a {'positive' if user else 'non-negative'} "
+                f"standard uncertainty, got {row['u_kJ_per_mol']!r}",
             )
         source = row["source"].strip()
         if not source:
@@ -301,8 +304,11 @@ class Comparison:
             "unit": self.unit,
             "difference": self.difference,
             "u_difference": self.u_difference,
+            "U_difference": 2.0 * self.u_difference,
+            "coverage_factor": 2.0,
             "z": self.z,
             "verdict": self.verdict,
+            "uncertainty_convention": "u_* standard uncertainties (k = 1); U_* expanded, k = 2",
             "note": "z = |measured − predicted| / √(u_measured² + u_predicted²), inputs uncorrelated",
         }
 

@@ -86,7 +86,9 @@ CACL2_G, CACL2_CP, CACL2_M = 10.0, 0.67, 110.98
 CACL2_DH_KJ = -81.0  # invented, near the literature value from memory (releases heat)
 
 
-def _cup(extra_J_per_K: float, start_C: float, room_C: float = ROOM_C, cp_at_C: float = 22.0) -> Vessel:
+def _cup(
+    extra_J_per_K: float, start_C: float, room_C: float = ROOM_C, cp_at_C: float = 22.0
+) -> Vessel:
     c = CUP_C_J_PER_K + WATER_G * float(water_cp(cp_at_C)) + extra_J_per_K
     return Vessel(c, K_PER_S * c, room_C, start_C, stir_W=STIR_W, probe_lag_s=3.0)
 
