@@ -67,6 +67,7 @@ def demo(out: Path, as_json: bool) -> None:
             f"  ΔH(NH4NO3, dissolution) = {run.molar.value:+.2f} kJ/mol, U(k={run.molar.k:g}) = "
             f"{run.molar.expanded:.2f} kJ/mol (simulator's truth "
             f"{d['true_enthalpy_kJ_per_mol']:+.2f} kJ/mol, {-_heat(d):.1f} J absorbed)",
+            f"  ΔH refers to {run.enthalpy_temp_C:.2f} °C ({run.enthalpy_temp_basis})",
         ]
         if run.hess is not None:
             lines.append(

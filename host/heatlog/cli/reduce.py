@@ -60,6 +60,12 @@ def _run_text(result: RunResult) -> str:
         )
     if result.molar is not None:
         lines += ["", result.molar.table()]
+        if result.enthalpy_temp_C is not None:
+            lines.append(
+                f"ΔH refers to {result.enthalpy_temp_C:.2f} °C ({result.enthalpy_temp_basis})"
+            )
+    if result.molar_25 is not None:
+        lines.append(_budget_line("ΔH moved to 25 °C (Kirchhoff, given ΔrCp)", result.molar_25))
     if result.hess is not None:
         h = result.hess
         lines.append(

@@ -257,6 +257,15 @@ def result_rows(inputs: ReportInputs) -> list[tuple[str, str]]:
             rows.append(("heat taken up by calorimeter + contents, q", _pm(run.heat_J, ".5g")))
         if run.molar is not None:
             rows.append(("ΔH per mole (system)", _pm(run.molar, "+.3f")))
+            if run.enthalpy_temp_C is not None:
+                rows.append(
+                    (
+                        "temperature ΔH refers to",
+                        f"{run.enthalpy_temp_C:.2f} °C ({run.enthalpy_temp_basis})",
+                    )
+                )
+        if run.molar_25 is not None:
+            rows.append(("ΔH at 25 °C (Kirchhoff, given ΔrCp)", _pm(run.molar_25, "+.3f")))
         if run.specific is not None:
             rows.append(("ΔH per gram of sample (system)", _pm(run.specific, "+.4g")))
         if run.hess_warning is not None:
