@@ -128,6 +128,8 @@ def _report(as_json: bool, budget: Any, caution: str, extra: dict[str, Any] | No
         "value": budget.value,
         "unit": budget.unit,
         "standard_uncertainty": budget.u,
+        "expanded_uncertainty": budget.expanded,
+        "coverage_factor": budget.k,
         "budget": budget.to_dict(),
         "caution": caution,
     }
