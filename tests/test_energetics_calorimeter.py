@@ -300,7 +300,7 @@ def test_limiting_reagent():
 
 def test_kirchhoff_correction():
     # Neutralisation measured at 20 °C with ΔCp = +215 J/(K·mol) (magnitude from Singh et al.
-    # 1976 as listed in REFERENCES.md; positive for H+ + OH- → H2O, negative for the
+    # 1976, docs/REFERENCES.md: SINGH1976; positive for H+ + OH- → H2O, negative for the
     # ionisation of water): ΔH(25) = ΔH(20) + 0.215·5 kJ/mol.
     b = kirchhoff(Input(-56.89, 0.3), Input(20.0, 0.1), Input(215.0, 10.0))
     assert b.value == pytest.approx(-56.89 + 1.075)

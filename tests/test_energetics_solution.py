@@ -31,7 +31,8 @@ CAS = {
 
 
 def test_nacl_half_molal_at_25c():
-    # REFERENCES.md: 4.034 J/(g·K), Laliberté model (thermo) / CoolProp INCOMP; tol 0.005
+    # 4.034 J/(g·K): Laliberté model (thermo) and CoolProp INCOMP (docs/REFERENCES.md:
+    # LALIBERTE2009, COOLPROP-INCOMP); tol 0.005
     x = solution_cp("NaCl", 0.5, 25.0)
     assert x.value == pytest.approx(4.034, abs=0.005)
     assert 0 < x.u < 0.01
