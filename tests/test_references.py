@@ -10,10 +10,10 @@ SKIP = {".git", ".venv", "node_modules", "__pycache__", ".pytest_cache", "build"
 
 
 def _files():
+    suffixes = {".py", ".md", ".toml", ".json", ".csv", ".txt", ".html"}
     for p in ROOT.rglob("*"):
-        if p.is_file() and not SKIP & set(p.relative_to(ROOT).parts):
-            if p.suffix in {".py", ".md", ".toml", ".json", ".csv", ".txt", ".html"}:
-                yield p
+        if p.is_file() and p.suffix in suffixes and not SKIP & set(p.relative_to(ROOT).parts):
+            yield p
 
 
 def test_every_references_citation_points_to_the_file_in_the_repository():
