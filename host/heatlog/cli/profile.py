@@ -117,14 +117,20 @@ def _quantity(value: float | None, u: float, unit: str) -> Input | None:
 )
 @click.option("--u-heat-capacity", type=click.FloatRange(min=0.0), default=0.0, show_default=True)
 @click.option("--loss", type=float, default=None, help="Heat-loss coefficient G, W/K.")
-@click.option("--u-loss", type=click.FloatRange(min=0.0), default=0.0, show_default=True)
+@click.option(
+    "--u-loss",
+    type=click.FloatRange(min=0.0),
+    default=None,
+    help="Standard uncertainty of G, W/K; required with --loss (0 is accepted and flagged).",
+)
 @click.option(
     "--cooling-fit",
     "cooling_after",
     type=float,
     default=None,
     metavar="SECONDS",
-    help="Fit G/C by Newton's law on the tail after this time (no heat released there).",
+    help="Fit G/C by Newton's law on the tail starting this many seconds after the segment "
+    "start (the time base of everything printed); no heat may be released there.",
 )
 @click.option("--sample-g", type=float, default=None, help="Sample (binder) mass, g.")
 @click.option("--u-sample-g", type=click.FloatRange(min=0.0), default=0.0, show_default=True)
@@ -216,7 +222,7 @@ def profile(
     heat_capacity: float | None,
     u_heat_capacity: float,
     loss: float | None,
-    u_loss: float,
+    u_loss: float | None,
     cooling_after: float | None,
     sample_g: float | None,
     u_sample_g: float,
@@ -249,6 +255,11 @@ def profile(
             raise InputError(
                 "give the heat capacity of box, contents and sample (--heat-capacity J/K)"
             )
+        if loss is not None and u_loss is None:
+            raise InputError(
+                "give the standard uncertainty of the heat-loss coefficient (--u-loss W/K); "
+                "--u-loss 0 accepts a G without uncertainty and flags the result"
+            )
         if env_col is not None and env_temp is not None:
             raise InputError("give either --env-col or --env-temp, not both")
         th = None
@@ -256,7 +267,7 @@ def profile(
             th = Thresholds(threshold, band, "given")
         settings = ProfileSettings(
             heat_capacity=Input(heat_capacity, u_heat_capacity, "J/K"),
-            loss=_quantity(loss, u_loss, "W/K"),
+            loss=_quantity(loss, u_loss or 0.0, "W/K"),
             cooling_fit_after_s=cooling_after,
             env_C=env_temp,
             u_env_K=u_env_temp,

@@ -61,7 +61,7 @@ class ProfileSettings:
 
     heat_capacity: Input
     loss: Input | None = None
-    cooling_fit_after_s: float | None = None
+    cooling_fit_after_s: float | None = None  # seconds from the segment start
     env_C: float | None = None
     u_env_K: float = DEFAULT_U_ENV_K
     sample_g: Input | None = None
@@ -254,12 +254,28 @@ def _notes(
         notes.append("no sample mass given: per-gram figures omitted (--sample-g)")
     if settings.heat_capacity.u == 0:
         notes.append("u(C) not given and taken as 0: the budget is too small (--u-heat-capacity)")
-    if heat.loss.u_G_W_per_K == 0 and heat.loss.G_W_per_K > 0:
-        notes.append("u(G) not given and taken as 0: the budget is too small (--u-loss)")
+    if heat.loss.u_G_W_per_K == 0:
+        notes.append(
+            "u(G) explicitly set to 0: the budget leaves out the heat-loss coefficient's "
+            "uncertainty and is too small unless G is exact"
+        )
     notes.append(
         "C must be the heat capacity of everything that warms: box, contents and the sample itself"
     )
     return notes
+
+
+def _fit_notes(fit: CoolingFit | None, t0: float) -> list[str]:
+    if fit is None:
+        return []
+    k, u_stat, u_rel = fit.rate_per_s, fit.u_rate_per_s, fit.u_release_per_s
+    notes = [
+        f"cooling fit from {fit.start_s - t0:g} s to {fit.end_s - t0:g} s after the segment start: "
+        f"k = G/C = {k:.4g} 1/s, u = {fit.u_total_per_s:.2g} 1/s (k=1; statistical "
+        f"{u_stat:.2g}, release still under way {u_rel:.2g}); "
+        f"residual rms {fit.residual_K:.2g} K = {fit.residual_ratio:.2g}× the reading noise"
+    ]
+    return notes + [f"WARNING: {w}" for w in fit.warnings]
 
 
 def analyse_profile(
@@ -296,7 +312,21 @@ def analyse_profile(
     if s.loss is not None:
         loss: HeatLoss = given_loss(s.loss)
     else:
-        fit = cooling_fit(seg.time_s, seg.temp_C, seg.env_C, start_s=s.cooling_fit_after_s)
+        after = float(s.cooling_fit_after_s or 0.0)
+        if not (math.isfinite(after) and 0.0 <= after < seg.duration_s):
+            raise InputError(
+                f"{where}: the cooling fit starts {after:g} s after the segment start (time is "
+                f"counted from the segment start, as printed), but segment {s.segment} lasts "
+                f"{seg.duration_s:g} s; give a start inside it"
+            )
+        fit = cooling_fit(
+            seg.time_s,
+            seg.temp_C,
+            seg.env_C,
+            start_s=seg.time_s[0] + after,
+            resolution_K=s.resolution_K,
+            origin_s=float(seg.time_s[0]),
+        )
         loss = loss_from_cooling(fit, s.heat_capacity)
     heat = heat_profile(
         seg,
@@ -335,7 +365,7 @@ def analyse_profile(
         safety=tuple(safety_flags(seg.time_s, seg.temp_C, kind=s.kind, skip=skip)),
         maturity=mat,
         cooling=fit,
-        notes=tuple(_notes(check, s.segment, heat, s)),
+        notes=tuple(_notes(check, s.segment, heat, s) + _fit_notes(fit, seg.time_s[0])),
     )
 
 
@@ -434,6 +464,11 @@ def settings_from_table(
     if c is None:
         raise InputError(f"{w}: needs heat_capacity_J_per_K (box, contents and sample)")
     loss = quantity("loss_W_per_K", "W/K")
+    if loss is not None and "u_loss_W_per_K" not in table:
+        raise InputError(
+            f"{w}: loss_W_per_K needs its standard uncertainty u_loss_W_per_K "
+            "(write u_loss_W_per_K = 0 to accept a G without uncertainty; the result is flagged)"
+        )
     mass = quantity("sample_mass_g", "g")
     columns = {k: str(table[f"{k}_col"]) for k in ("env", "flags") if table.get(f"{k}_col")}
     env = num("env_temp_C")

@@ -71,6 +71,7 @@ class LongRun:
     true_temp_C: np.ndarray
     heat_capacity_J_per_K: float
     loss_W_per_K: float
+    probe_tau_s: float = 0.0
 
 
 def long_run(
@@ -85,8 +86,13 @@ def long_run(
     noise_K: float = 0.0,
     resolution_K: float = 0.0,
     seed: int = 0,
+    probe_tau_s: float = 0.0,
 ) -> LongRun:
     """Integrate the box balance and sample it every ``dt_s`` from 0 to ``duration_s``.
+
+    With ``probe_tau_s`` > 0 the logged readings come from a probe that lags the contents with
+    that first-order time constant (τ·dT_p/dt = T − T_p, as the simulator's probe), integrated
+    with the box; ``true_temp_C`` stays the contents' temperature.
 
     ``start_C`` defaults to the environment at t = 0. Readings get Gaussian noise (``noise_K``)
     and are rounded to ``resolution_K``; the truth arrays are the exact values.
@@ -103,26 +109,30 @@ def long_run(
     t = np.arange(0.0, duration_s + 0.5 * dt_s, dt_s)
     y0 = float(env(np.zeros(1))[0]) if start_C is None else start_C
 
+    tau = float(probe_tau_s)
+
     def rhs(time: float, y: np.ndarray) -> np.ndarray:
         tt = np.array([time])
-        return (source.power(tt) - g * (y - env(tt))) / c
+        dy = (source.power(tt)[0] - g * (y[0] - env(tt)[0])) / c
+        return np.array([dy, (y[0] - y[1]) / tau if tau > 0 else dy])
 
+    step = max(dt_s, 600.0) if tau <= 0 else min(max(dt_s, 600.0), tau)
     sol = solve_ivp(
         rhs,
         (0.0, t[-1]),
-        [y0],
+        [y0, y0],
         method="DOP853",
         t_eval=t,
         rtol=1e-11,
         atol=1e-10,
-        max_step=max(dt_s, 600.0),
+        max_step=step,
     )
     true_t = sol.y[0]
     rng = np.random.default_rng(seed)
-    read = true_t + (rng.normal(0.0, noise_K, t.size) if noise_K > 0 else 0.0)
+    read = sol.y[1] + (rng.normal(0.0, noise_K, t.size) if noise_K > 0 else 0.0)
     if resolution_K > 0:
         read = np.round(read / resolution_K) * resolution_K
-    return LongRun(t, read, env(t), source.heat(t), true_t, c, g)
+    return LongRun(t, read, env(t), source.heat(t), true_t, c, g, tau)
 
 
 def warmer_run(*, duration_s: float = 12 * 3600.0, dt_s: float = 20.0, **options: float) -> LongRun:
