@@ -150,3 +150,84 @@ def test_u_loss_is_required_or_explicitly_zero(tmp_path):
     )
     r = CliRunner().invoke(main, ["profile", str(toml)])
     assert r.exit_code == 2 and "u_loss_W_per_K" in r.output
+
+
+def _pack(probe_tau_s=15.0, seed=3):
+    """Invented fast cold pack: −60 W for 60 s, then decaying over 60 s, after a 5-min baseline,
+    in a 400 J/K pouch losing 0.2 W/K to air at 22 °C; read by a probe lagging by τ."""
+    return long_run(
+        PlateauDecay(-60.0, 60.0, 60.0, 300.0),
+        duration_s=2 * 3600.0,
+        dt_s=2.0,
+        heat_capacity_J_per_K=400.0,
+        loss_W_per_K=0.2,
+        env_C=22.0,
+        noise_K=0.01,
+        seed=seed,
+        probe_tau_s=probe_tau_s,
+    )
+
+
+def _pack_settings(tau=None):
+    return ProfileSettings(
+        heat_capacity=Input(400.0, 4.0, "J/K"),
+        loss=Input(0.2, 0.004, "W/K"),
+        env_C=22.0,
+        u_env_K=0.02,
+        u_temp_K=0.02,
+        kind="pack",
+        probe_tau=tau,
+    )
+
+
+def _along_curve(run):
+    """80 instants from the event's start to the end, log-spaced (dense where Q changes)."""
+    t = 300.0 + np.geomspace(2.0, run.time_s[-1] - 300.0, 80)
+    return np.unique(np.searchsorted(run.time_s, t))[:-1]
+
+
+def test_probe_lag_corrected_and_budgeted():
+    """Without τ the k = 2 band misses the truth along half the curve and a warning names
+    --probe-tau; with τ = 15 s (u 1.5 s) it covers every point and u(τ) is a budget row."""
+    run = _pack()
+    idx = _along_curve(run)
+    raw = analyse_profile(run.time_s, run.temp_C, _pack_settings())
+    fixed = analyse_profile(run.time_s, run.temp_C, _pack_settings(Input(15.0, 1.5, "s")))
+
+    def coverage(r):
+        err = np.abs(r.heat.heat_J[idx] - run.true_heat_J[idx])
+        return float(np.mean(err <= 2.0 * r.heat.u_heat_J[idx]))
+
+    assert coverage(raw) < 0.7
+    assert any("--probe-tau" in n for n in raw.notes)
+    assert coverage(fixed) == 1.0
+    names = [c.name for c in fixed.heat.budget(int(idx[5])).components]
+    assert "probe time constant τ" in names
+    assert fixed.to_dict()["probe_lag"]["probe_time_constant_s"] == 15.0
+
+
+def test_probe_tau_from_the_probe_file_and_cli(tmp_path):
+    from heatlog.probes.probefile import load_probe
+
+    run = _pack()
+    path = tmp_path / "pack.csv"
+    _write(path, {"time_s": run.time_s, "temp_C": run.temp_C})
+    probe = tmp_path / "ntc.toml"
+    probe.write_text(
+        'id = "ntc-9"\nkind = "thermistor"\nmodel = "beta"\ncalibration_date = 2026-11-30\n'
+        'reference = "invented"\nvalid_range_C = [-20.0, 80.0]\nuncertainty_K = 0.05\n'
+        "time_constant_s = 15.0\nu_time_constant_s = 1.5\n"
+        "[coefficients]\nR25 = 10000.0\nbeta = 3950.0\n"
+    )
+    assert load_probe(probe).time_constant_s == 15.0
+    base = ["profile", str(path), "--heat-capacity", "400", "--u-heat-capacity", "4",
+            "--loss", "0.2", "--u-loss", "0.004", "--env-temp", "22", "--kind", "pack"]  # fmt: skip
+    r = CliRunner().invoke(main, [*base, "--probe", str(probe), "--json"])
+    assert r.exit_code == 0, r.output
+    d = json.loads(r.output)
+    assert d["probe_lag"]["source"] == "probe file ntc-9"
+    r = CliRunner().invoke(main, [*base, "--probe-tau", "15"])
+    assert r.exit_code == 2 and "--u-probe-tau" in r.output
+    probe.write_text(probe.read_text().replace("u_time_constant_s = 1.5\n", ""))
+    r = CliRunner().invoke(main, [*base, "--probe", str(probe)])
+    assert r.exit_code == 2 and "together" in r.output and r.output.count("\n") == 1

@@ -14,6 +14,7 @@ from heatlog.profile import KINDS, GapPolicy, ProfileResult, ProfileSettings, Th
 from heatlog.profile.analysis import DEFAULT_U_ENV_K, DEFAULT_U_TEMP_K, analyse_profile
 from heatlog.profile.logcheck import DEFAULT_GAP_FACTOR
 from heatlog.profile.maturity import DEFAULT_ACTIVATION_K, DEFAULT_DATUM_C, DEFAULT_REFERENCE_C
+from heatlog.probes.probefile import load_probe
 from heatlog.runfile import load_run, profile_run
 
 CAUTION = (
@@ -92,6 +93,32 @@ def _text(result: ProfileResult, source: str) -> str:
 
 def _quantity(value: float | None, u: float, unit: str) -> Input | None:
     return None if value is None else Input(value, u, unit)
+
+
+def _probe_tau(tau: float | None, u_tau: float | None, probe_path: str | None) -> Input | None:
+    """τ from --probe-tau (with --u-probe-tau) or from a probe file's time_constant_s."""
+    if tau is not None and probe_path is not None:
+        raise InputError("give --probe-tau or --probe, not both")
+    if tau is not None:
+        if u_tau is None:
+            raise InputError("give the standard uncertainty of --probe-tau (--u-probe-tau s)")
+        return Input(tau, u_tau, "s", note="--probe-tau")
+    if u_tau is not None:
+        raise InputError("--u-probe-tau needs --probe-tau")
+    if probe_path is None:
+        return None
+    probe = load_probe(probe_path)
+    if probe.time_constant_s is None:
+        raise InputError(
+            f"{probe_path}: the probe file has no time_constant_s; measure it with "
+            "'heatlog probe tau PLUNGE.csv' or give --probe-tau"
+        )
+    return Input(
+        probe.time_constant_s,
+        probe.u_time_constant_s or 0.0,
+        "s",
+        note=f"probe file {probe.id}",
+    )
 
 
 @click.command("profile")
@@ -210,6 +237,26 @@ def _quantity(value: float | None, u: float, unit: str) -> Input | None:
     show_default=True,
     help="Reference temperature for equivalent age, °C (cement).",
 )
+@click.option(
+    "--probe-tau",
+    type=click.FloatRange(min=0.0),
+    default=None,
+    metavar="SECONDS",
+    help="The probe's time constant: its lag is corrected (T + τ·dT/dt) and u(τ) budgeted.",
+)
+@click.option(
+    "--u-probe-tau",
+    type=click.FloatRange(min=0.0),
+    default=None,
+    help="Standard uncertainty of --probe-tau, s (required with it).",
+)
+@click.option(
+    "--probe",
+    "probe_path",
+    type=click.Path(dir_okay=False, path_type=str),
+    default=None,
+    help="Probe file whose time_constant_s (heatlog probe tau) corrects the lag.",
+)
 @json_option
 def profile(
     file: str,
@@ -239,6 +286,9 @@ def profile(
     activation: float,
     u_activation: float,
     reference: float,
+    probe_tau: float | None,
+    u_probe_tau: float | None,
+    probe_path: str | None,
     as_json: bool,
 ) -> None:
     """Cumulative heat Q(t), rate P(t), metrics, safety flags (and maturity for cement) of a long
@@ -262,6 +312,7 @@ def profile(
             )
         if env_col is not None and env_temp is not None:
             raise InputError("give either --env-col or --env-temp, not both")
+        tau = _probe_tau(probe_tau, u_probe_tau, probe_path)
         th = None
         if threshold is not None or band is not None:
             th = Thresholds(threshold, band, "given")
@@ -284,6 +335,7 @@ def profile(
             activation_K=activation,
             u_activation_K=u_activation,
             reference_C=reference,
+            probe_tau=tau,
         )
         optional = [c for c in (env_col, flags_col) if c]
         data = read_columns(Path(file), [time_col, temp_col, *optional], what="log")

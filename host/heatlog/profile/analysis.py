@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -27,7 +27,8 @@ from heatlog.profile.heatloss import (
     given_loss,
     loss_from_cooling,
 )
-from heatlog.profile.logcheck import DEFAULT_GAP_FACTOR, GapPolicy, LogCheck, check_log
+from heatlog.profile.lag import LagCorrection, correct_lag, smoothed_slope
+from heatlog.profile.logcheck import DEFAULT_GAP_FACTOR, GapPolicy, LogCheck, Segment, check_log
 from heatlog.profile.maturity import (
     DEFAULT_ACTIVATION_K,
     DEFAULT_DATUM_C,
@@ -77,6 +78,7 @@ class ProfileSettings:
     activation_K: float = DEFAULT_ACTIVATION_K
     u_activation_K: float = 0.0
     reference_C: float = DEFAULT_REFERENCE_C
+    probe_tau: Input | None = None  # the probe's time constant (s) with its uncertainty
 
     def __post_init__(self) -> None:
         if self.kind not in KINDS:
@@ -210,6 +212,7 @@ class ProfileResult:
             )
         if self.cooling is not None:
             out["cooling_fit"] = self.cooling.to_dict()
+        out["probe_lag"] = None if self.heat.lag is None else self.heat.lag.to_dict()
         if self.maturity is not None:
             out["maturity"] = self.maturity.to_dict()
             out["heat_at_ages"] = self.heat_at_hours(CEMENT_AGES_H)
@@ -265,6 +268,37 @@ def _notes(
     return notes
 
 
+#: A probe time constant typical of a thermistor in a thin sheath in still liquid, used only to
+#: size the warning when none is given (common practice, no source).
+TYPICAL_PROBE_TAU_S = 10.0
+
+
+def _lag_notes(
+    lagc: LagCorrection | None, seg: Segment, settings: ProfileSettings, heat: HeatProfile
+) -> list[str]:
+    if lagc is not None:
+        return [
+            f"probe lag corrected with τ = {lagc.tau.value:g} s, u = {lagc.tau.u:.2g} s (k=1) "
+            f"({lagc.tau.note or 'given'}); slope smoothed over {lagc.window_s:.3g} s; the "
+            f"correction reaches {lagc.max_shift_K:.2g} K"
+        ]
+    t = seg.time_s
+    if t.size < 9:
+        return []
+    slope = smoothed_slope(t, seg.temp_C, 7 * float(np.median(np.diff(t))))
+    shift = TYPICAL_PROBE_TAU_S * float(np.max(np.abs(slope)))
+    dq = settings.heat_capacity.value * shift
+    u_q = float(np.max(heat.u_heat_J))
+    if shift <= 0.2 * math.hypot(settings.u_temp_K, heat.u_reading_K) and dq <= 0.2 * u_q:
+        return []
+    return [
+        f"WARNING: probe time constant not given, so its lag is neither corrected nor in the "
+        f"budget: the curve moves up to {60 * float(np.max(np.abs(slope))):.2g} K/min, so a "
+        f"τ of {TYPICAL_PROBE_TAU_S:g} s would shift readings by up to {shift:.2g} K and Q by up "
+        f"to {dq:.2g} J; give --probe-tau (or time_constant_s in the probe file)"
+    ]
+
+
 def _fit_notes(fit: CoolingFit | None, t0: float) -> list[str]:
     if fit is None:
         return []
@@ -308,6 +342,10 @@ def analyse_profile(
             f"segment(s) numbered from 0"
         )
     seg = check.segments[s.segment]
+    lagc = None
+    if s.probe_tau is not None:
+        lagc = correct_lag(seg.time_s, seg.temp_C, s.probe_tau)
+        seg = replace(seg, temp_C=lagc.corrected_C)
     fit = None
     if s.loss is not None:
         loss: HeatLoss = given_loss(s.loss)
@@ -336,6 +374,7 @@ def analyse_profile(
         resolution_K=s.resolution_K,
         rate_window_s=s.rate_window_s,
         gap_policy=s.gap_policy,
+        lag=lagc,
     )
     skip = seg.excluded(s.gap_policy)
     u_t = math.hypot(s.u_temp_K, heat.u_reading_K)
@@ -365,7 +404,11 @@ def analyse_profile(
         safety=tuple(safety_flags(seg.time_s, seg.temp_C, kind=s.kind, skip=skip)),
         maturity=mat,
         cooling=fit,
-        notes=tuple(_notes(check, s.segment, heat, s) + _fit_notes(fit, seg.time_s[0])),
+        notes=tuple(
+            _notes(check, s.segment, heat, s)
+            + _fit_notes(fit, seg.time_s[0])
+            + _lag_notes(lagc, seg, s, heat)
+        ),
     )
 
 
@@ -423,6 +466,8 @@ _TABLE_KEYS = {
     "activation_K",
     "u_activation_K",
     "reference_C",
+    "probe_time_constant_s",
+    "u_probe_time_constant_s",
 }
 
 
@@ -464,6 +509,9 @@ def settings_from_table(
     if c is None:
         raise InputError(f"{w}: needs heat_capacity_J_per_K (box, contents and sample)")
     loss = quantity("loss_W_per_K", "W/K")
+    tau = quantity("probe_time_constant_s", "s")
+    if tau is not None and "u_probe_time_constant_s" not in table:
+        raise InputError(f"{w}: probe_time_constant_s needs u_probe_time_constant_s")
     if loss is not None and "u_loss_W_per_K" not in table:
         raise InputError(
             f"{w}: loss_W_per_K needs its standard uncertainty u_loss_W_per_K "
@@ -513,6 +561,7 @@ def settings_from_table(
         activation_K=DEFAULT_ACTIVATION_K if act is None else act,
         u_activation_K=num("u_activation_K") or 0.0,
         reference_C=DEFAULT_REFERENCE_C if ref is None else ref,
+        probe_tau=None if tau is None else replace(tau, note="run file"),
     )
     return settings, columns
 

@@ -169,7 +169,9 @@ def plunge_fit(time_s: np.ndarray, temp_C: np.ndarray) -> PlungeFit:
         try:
             cov = s2 * np.linalg.inv(res.jac.T @ res.jac)
         except np.linalg.LinAlgError:
-            raise ReductionError("the plunge fit is degenerate; log the step with more samples")
+            raise ReductionError(
+                "the plunge fit is degenerate; log the step with more samples"
+            ) from None
         return res.x, cov, math.sqrt(s2)
 
     p, cov, rms = fit(np.ones(t.size, dtype=bool), p0)

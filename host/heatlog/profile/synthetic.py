@@ -42,19 +42,22 @@ class HydrationCurve:
 
 @dataclass(frozen=True)
 class PlateauDecay:
-    """P = P₀ for t < t_on, then P₀·e^(−(t − t_on)/τ); heat in J (negative P₀ for a cold pack)."""
+    """P = P₀ for t < t_on, then P₀·e^(−(t − t_on)/τ); heat in J (negative P₀ for a cold pack).
+
+    ``start_s`` delays the whole release (nothing before it), leaving a quiet baseline."""
 
     power_W: float = 1.0
     plateau_s: float = 4.0 * 3600.0
     tau_s: float = 2.0 * 3600.0
+    start_s: float = 0.0
 
     def power(self, t: np.ndarray) -> np.ndarray:
-        tt = np.asarray(t, dtype=np.float64)
+        tt = np.asarray(t, dtype=np.float64) - self.start_s
         late = np.exp(-np.maximum(tt - self.plateau_s, 0.0) / self.tau_s)
-        return self.power_W * np.where(tt < self.plateau_s, 1.0, late)
+        return self.power_W * np.where(tt < 0, 0.0, np.where(tt < self.plateau_s, 1.0, late))
 
     def heat(self, t: np.ndarray) -> np.ndarray:
-        tt = np.asarray(t, dtype=np.float64)
+        tt = np.maximum(np.asarray(t, dtype=np.float64) - self.start_s, 0.0)
         early = np.minimum(tt, self.plateau_s)
         late = np.maximum(tt - self.plateau_s, 0.0)
         return self.power_W * (early + self.tau_s * (1.0 - np.exp(-late / self.tau_s)))
