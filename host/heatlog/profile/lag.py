@@ -135,9 +135,9 @@ def plunge_fit(time_s: np.ndarray, temp_C: np.ndarray) -> PlungeFit:
     """Fit a first-order step response to a plunge test (see the module docstring).
 
     u(τ) combines the fit's covariance (scaled by the residual variance) with the misfit of the
-    first-order model: τ refitted on the response from 10 % of the step onwards (a real probe in
-    a sheath has a faster second time constant and a plunge is not instantaneous), the change
-    taken as a standard uncertainty. A step under 20 times the reading noise, or fewer than 5
+    first-order model: τ refitted on the response from 10 %, 30 % and 50 % of the step onwards
+    (a real probe in a sheath has a second time constant and a plunge is not instantaneous),
+    the largest change taken as a standard uncertainty. A step under 20 times the reading noise, or fewer than 5
     samples within 3τ, is refused.
     """
     t = np.asarray(time_s, dtype=np.float64)
@@ -185,14 +185,17 @@ def plunge_fit(time_s: np.ndarray, temp_C: np.ndarray) -> PlungeFit:
             "log the plunge faster"
         )
     warnings = []
-    late = (t < t0) | (_step(p, t) - p[0]) / (p[1] - p[0]) >= 0.1
     u_model = 0.0
-    if np.count_nonzero(late & (t >= t0)) >= 5:
+    done = (_step(p, t) - p[0]) / (p[1] - p[0])
+    for level in (0.1, 0.3, 0.5):
+        late = (t < t0) | (done >= level)
+        if np.count_nonzero(late & (t >= t0)) < 5:
+            continue
         try:
             p_late, _, _ = fit(late, p)
-            u_model = abs(float(p_late[3]) - tau)
         except ReductionError:
-            u_model = 0.0
+            continue
+        u_model = max(u_model, abs(float(p_late[3]) - tau))
     u_tau = math.hypot(math.sqrt(max(float(cov[3, 3]), 0.0)), u_model)
     floor = max(noise, 1e-3)
     if rms > 3.0 * floor:
