@@ -48,10 +48,15 @@ def _text(result: ProfileResult, source: str) -> str:
         b = result.budget_per_g
         lines.append(
             f"  Q/m = {b.value:.4g} J/g, u = {b.u:.2g} J/g, U(k=2) = {b.expanded:.2g} J/g; "
-            f"peak rate {d['peak_rate_mW_per_g']:.3g} mW/g at {_h(d['time_of_peak_rate_s'])}"
+            f"peak rate {d['peak_rate_mW_per_g']:.3g} mW/g, "
+            f"u = {1e3 * d['u_peak_rate_W'] / s.sample_g.value:.2g} mW/g (k=1), at "
+            f"{_h(d['time_of_peak_rate_s'])} (window {result.peak.window_s:.3g} s)"
         )
     else:
-        lines.append(f"  peak rate {d['peak_rate_W']:.3g} W at {_h(d['time_of_peak_rate_s'])}")
+        lines.append(
+            f"  peak rate {d['peak_rate_W']:.3g} W, u = {d['u_peak_rate_W']:.2g} W (k=1), at "
+            f"{_h(d['time_of_peak_rate_s'])} (window {result.peak.window_s:.3g} s)"
+        )
     lines.append(
         f"  {'lowest' if m.side == 'below' else 'peak'} {m.peak_C:.2f} ± {m.u_peak_C:.2g} °C at {_h(m.time_to_peak_s, m.u_time_to_peak_s)}"
     )
@@ -87,6 +92,7 @@ def _text(result: ProfileResult, source: str) -> str:
     lines += ["", result.budget.table(), ""]
     lines += [f"{f.level.upper()}: {f.message} [{f.source}]" for f in result.safety]
     lines += [f"note: {n}" for n in result.notes]
+    lines += [f"WARNING: {w}" for w in result.peak.warnings]
     lines.append(CAUTION)
     return "\n".join(lines)
 

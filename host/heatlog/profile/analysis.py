@@ -13,6 +13,7 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
+from functools import cached_property
 from typing import Any
 
 import numpy as np
@@ -37,6 +38,7 @@ from heatlog.profile.maturity import (
     maturity,
 )
 from heatlog.profile.metrics import DEFAULT_THRESHOLDS, KINDS, Metrics, Thresholds, metrics
+from heatlog.profile.peakrate import PeakRate, peak_rate
 from heatlog.profile.safety import SafetyFlag, safety_flags
 from heatlog.thermogram import Thermogram
 
@@ -169,13 +171,16 @@ class ProfileResult:
             out["equivalent_age_h"] = self.maturity.equivalent_age_h[idx].tolist()
         return out
 
+    @cached_property
+    def peak(self) -> PeakRate:
+        """The peak rate with a window fitted to the event (:mod:`heatlog.profile.peakrate`)."""
+        sign = -1.0 if self.settings.kind == "pack" else 1.0
+        return peak_rate(self.heat, sign, self.settings.rate_window_s)
+
     def peak_rate(self) -> tuple[float, float, float]:
         """Largest |P| (W, signed), its time from the segment start (s) and its uncertainty (W)."""
-        h = self.heat
-        rate = np.where(np.isfinite(h.rate_W), h.rate_W, 0.0)
-        sign = -1.0 if self.settings.kind == "pack" else 1.0
-        i = int(np.argmax(sign * rate))
-        return float(rate[i]), float(h.time_s[i] - h.time_s[0]), float(h.u_rate_at(i)[0])
+        p = self.peak
+        return p.rate_W, p.time_s, p.u_rate_W
 
     def to_dict(self) -> dict[str, Any]:
         s = self.settings
@@ -195,10 +200,11 @@ class ProfileResult:
             "peak_rate_W": rate,
             "u_peak_rate_W": u_rate,
             "time_of_peak_rate_s": t_rate,
+            "peak_rate": self.peak.to_dict(),
             "profile": heat,
             "metrics": self.metrics.to_dict(),
             "safety": [f.to_dict() for f in self.safety],
-            "notes": list(self.notes),
+            "notes": list(self.notes) + [f"WARNING: {w}" for w in self.peak.warnings],
         }
         if self.budget_per_g is not None and s.sample_g is not None:
             out.update(
