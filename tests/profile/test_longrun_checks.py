@@ -285,3 +285,23 @@ def test_cement_peak_rate_not_the_noise_maximum():
     r = analyse_profile(run.time_s, run.temp_C, s)
     assert abs(r.peak.rate_W - true_peak) <= 2.0 * r.peak.u_rate_W
     assert np.nanmax(r.heat.rate_W) > true_peak * 1.02  # what the fixed window reported
+
+
+@pytest.mark.parametrize("factor, flagged", [(1.0, False), (0.9, True), (1.1, True)])
+def test_q_drifting_after_the_release_flags_a_wrong_G(factor, flagged):
+    """The cold pack's release is over after 10 min; with G 10 % off Q(t) keeps moving over the
+    last half hour and the warning names the G that levels it (0.2 W/K, the truth)."""
+    run = _pack(probe_tau_s=0.0)
+    s = ProfileSettings(
+        heat_capacity=Input(400.0, 4.0, "J/K"),
+        loss=Input(0.2 * factor, 0.004, "W/K"),
+        env_C=22.0,
+        u_env_K=0.02,
+        u_temp_K=0.02,
+        kind="pack",
+    )
+    r = analyse_profile(run.time_s, run.temp_C, s)
+    assert (r.drift is not None) is flagged
+    if flagged:
+        assert r.drift.G_levelling_W_per_K == pytest.approx(0.2, rel=0.02)
+        assert any("G is wrong" in n for n in r.to_dict()["notes"])

@@ -40,6 +40,7 @@ from heatlog.profile.maturity import (
 from heatlog.profile.metrics import DEFAULT_THRESHOLDS, KINDS, Metrics, Thresholds, metrics
 from heatlog.profile.peakrate import PeakRate, peak_rate
 from heatlog.profile.safety import SafetyFlag, safety_flags
+from heatlog.profile.tailcheck import TailDrift, tail_drift
 from heatlog.thermogram import Thermogram
 
 METHOD = (
@@ -172,10 +173,23 @@ class ProfileResult:
         return out
 
     @cached_property
+    def drift(self) -> TailDrift | None:
+        """Q(t) still drifting at the end in step with the loss integral (not for cement)."""
+        return None if self.settings.kind == "cement" else tail_drift(self.heat)
+
+    @cached_property
     def peak(self) -> PeakRate:
         """The peak rate with a window fitted to the event (:mod:`heatlog.profile.peakrate`)."""
         sign = -1.0 if self.settings.kind == "pack" else 1.0
         return peak_rate(self.heat, sign, self.settings.rate_window_s)
+
+    @property
+    def warnings(self) -> list[str]:
+        """Warnings found on the result (peak rate, Q drifting at the end)."""
+        out = list(self.peak.warnings)
+        if self.drift is not None:
+            out.append(self.drift.message())
+        return out
 
     def peak_rate(self) -> tuple[float, float, float]:
         """Largest |P| (W, signed), its time from the segment start (s) and its uncertainty (W)."""
@@ -204,7 +218,8 @@ class ProfileResult:
             "profile": heat,
             "metrics": self.metrics.to_dict(),
             "safety": [f.to_dict() for f in self.safety],
-            "notes": list(self.notes) + [f"WARNING: {w}" for w in self.peak.warnings],
+            "notes": list(self.notes) + [f"WARNING: {w}" for w in self.warnings],
+            "tail_drift": None if self.drift is None else self.drift.to_dict(),
         }
         if self.budget_per_g is not None and s.sample_g is not None:
             out.update(
