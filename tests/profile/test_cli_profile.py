@@ -167,13 +167,39 @@ def test_run_file_form(warmer_csv, tmp_path):
         (["--loss", "0.06", "--u-loss", "0.002", "--env-temp", "20"], "--heat-capacity"),
         (["--heat-capacity", "60", "--env-temp", "20"], "--cooling-fit"),
         (["--heat-capacity", "60", "--loss", "0.06", "--u-loss", "0"], "--env-temp"),
-        (["--heat-capacity", "60", "--loss", "0.06", "--u-loss", "0.002", "--env-col", "nope"], "missing column"),
         (
-            ["--heat-capacity", "60", "--loss", "0.06", "--u-loss", "0.002", "--env-temp", "20", "--cooling-fit", "5"],
+            ["--heat-capacity", "60", "--loss", "0.06", "--u-loss", "0.002", "--env-col", "nope"],
+            "missing column",
+        ),
+        (
+            [
+                "--heat-capacity",
+                "60",
+                "--loss",
+                "0.06",
+                "--u-loss",
+                "0.002",
+                "--env-temp",
+                "20",
+                "--cooling-fit",
+                "5",
+            ],
             "not both",
         ),
         (
-            ["--heat-capacity", "60", "--loss", "0.06", "--u-loss", "0.002", "--env-temp", "20", "--band", "45", "40"],
+            [
+                "--heat-capacity",
+                "60",
+                "--loss",
+                "0.06",
+                "--u-loss",
+                "0.002",
+                "--env-temp",
+                "20",
+                "--band",
+                "45",
+                "40",
+            ],
             "must lie below",
         ),
         (
@@ -194,7 +220,10 @@ def test_one_line_errors(warmer_csv, extra, fragment):
 @pytest.mark.parametrize(
     "table, fragment",
     [
-        ("heat_capacity_J_per_K = 60.0\nloss_W_per_K = 0.06\nu_loss_W_per_K = 0.0\n", "needs env_temp_C or env_col"),
+        (
+            "heat_capacity_J_per_K = 60.0\nloss_W_per_K = 0.06\nu_loss_W_per_K = 0.0\n",
+            "needs env_temp_C or env_col",
+        ),
         ("loss_W_per_K = 0.06\nenv_temp_C = 20.0\n", "needs heat_capacity_J_per_K"),
         ("heat_capacity_J_per_K = 60.0\nloss = 0.06\nenv_temp_C = 20.0\n", "does not know"),
         ("heat_capacity_J_per_K = 'x'\n", "must be a number"),

@@ -138,6 +138,10 @@ NOISE_FLOOR_K = 1e-3
 #: Relative change of k when a decaying release term is added above which the fit is refused
 #: (common practice, no source).
 REFUSE_RELEASE_REL = 0.05
+#: Excess over the environment at the fit's start, in reading noises, below which a cooling
+#: fit is refused, and at which the stretch is ended (common practice, no source).
+MIN_EXCESS_NOISE = 20.0
+END_EXCESS_NOISE = 5.0
 #: Decay times tried for a residual release term.
 RELEASE_GRID = 40
 
@@ -228,33 +232,36 @@ def _newton_rate(ts: np.ndarray, ys: np.ndarray, es: np.ndarray) -> tuple[float,
 
 
 def _release_term(
-    ts: np.ndarray, ys: np.ndarray, es: np.ndarray, rms0: float
+    ts: np.ndarray, ys: np.ndarray, es: np.ndarray, rms0: float, k0: float
 ) -> tuple[float, float] | None:
     """k with a decaying residual release added, when that term is significant.
 
     Fits y = a − k·x + b·(1 − e^(−(t − t_a)/τ_r)) (the integral of a release P₀·e^(−(t − t_a)/τ_r)
     over C) for τ_r on a log grid, keeping the best; linear in (a, k, b) at each τ_r. Returns
     (k, τ_r) when the extra term lowers the residual sum beyond the F test at 99 % (2 and n − 4
-    degrees of freedom; ISO 3534-1 terms, scipy.stats), else None.
+    degrees of freedom, the level divided by the grid's size since the best τ_r is picked;
+    scipy.stats) and moves k by more than twice its own standard uncertainty, else None.
     """
     x = _cumtrapz(ys - es, ts)
     tt = ts - ts[0]
     span = float(tt[-1])
     step = float(np.median(np.diff(ts)))
-    best: tuple[float, float, float] | None = None
+    best: tuple[float, float, float, float] | None = None
     for tau_r in np.geomspace(max(3.0 * step, span / 300.0), 3.0 * span, RELEASE_GRID):
         design = np.column_stack([np.ones_like(x), -x, -np.expm1(-tt / tau_r)])
-        beta, _, rms = _least_squares(design, ys)
+        beta, cov, rms = _least_squares(design, ys)
         if best is None or rms < best[2]:
-            best = (float(beta[1]), float(tau_r), rms)
+            best = (float(beta[1]), float(tau_r), rms, math.sqrt(float(cov[1, 1])))
     assert best is not None
     n = ts.size
     rss0, rss1 = rms0**2 * (n - 2), best[2] ** 2 * (n - 4)
     if n <= 6 or rss1 <= 0:
         return None
     f_stat = ((rss0 - rss1) / 2.0) / (rss1 / (n - 4))
-    if f_stat <= float(f_dist.ppf(0.99, 2, n - 4)):
+    if f_stat <= float(f_dist.ppf(1.0 - 0.01 / RELEASE_GRID, 2, n - 4)):
         return None
+    if abs(best[0] - k0) <= 2.0 * best[3]:
+        return None  # the release term and the cooling are not told apart on this stretch
     return best[0], best[1]
 
 
@@ -270,7 +277,9 @@ def cooling_fit(
 ) -> CoolingFit:
     """Fit k = G/C on a stretch with no heat released (see the module docstring).
 
-    The fit is y = a − k·x with y = T, x = ∫(T − T_env)dt from ``start_s`` (on the same clock as
+    The stretch must start at least 20 reading noises from the environment and is ended where
+    the excess (smoothed over 11 samples) sinks below 5 noises. The fit is y = a − k·x with
+    y = T, x = ∫(T − T_env)dt from ``start_s`` (on the same clock as
     ``time_s``; messages count from ``origin_s``); the intercept absorbs the noise of the first reading. Heat still released during
     the stretch (a cement's slow tail) biases k low, so the fit is checked twice: its residuals
     against the reading noise (:func:`residual_check`: refused far above it, warned above it),
@@ -289,7 +298,23 @@ def cooling_fit(
             f"need {MIN_FIT_ROWS} — choose an earlier start"
         )
     ts, ys, es = t[sel], y[sel], env[sel]
-    excess = float(ys[0] - es[0])
+    noise = reading_noise(ys)
+    floor = max(math.hypot(noise, resolution_K / math.sqrt(12.0)), NOISE_FLOOR_K)
+    kernel = min(11, ys.size)
+    smooth = np.convolve(ys - es, np.ones(kernel) / kernel, mode="same")
+    excess = float(smooth[kernel // 2])
+    if abs(excess) < MIN_EXCESS_NOISE * floor:
+        raise ReductionError(
+            f"the cooling fit from {max(lo, t[0]) - origin_s:g} s starts only {abs(excess):.2g} K from the "
+            f"environment, {abs(excess) / floor:.0f}× the reading noise ({floor:.2g} K); it needs "
+            f"{MIN_EXCESS_NOISE:g}× — start the fit earlier (but after the release has ended)"
+        )
+    # end where the excess sinks into the noise: the integral of noise alone is a random walk
+    # that a regression would mistake for cooling
+    live = np.flatnonzero(np.abs(smooth) >= END_EXCESS_NOISE * floor)
+    last = int(live[-1]) + 1 if live.size else ys.size
+    if last >= MIN_FIT_ROWS:
+        ts, ys, es = ts[:last], ys[:last], es[:last]
     k, u_k, rms = _newton_rate(ts, ys, es)
     if not k > 0 or u_k > abs(k):
         raise ReductionError(
@@ -297,10 +322,9 @@ def cooling_fit(
             f"{lo - origin_s:g} s does not cool towards the environment (heat still released, or too little "
             "excess)"
         )
-    noise = reading_noise(ys)
     ratio, warn = residual_check(rms, noise, resolution_K, "cooling fit")
     warnings = [warn] if warn else []
-    rel = _release_term(ts, ys, es, rms)
+    rel = _release_term(ts, ys, es, rms, k)
     u_rel = 0.0
     subs: tuple[float, ...] = ()
     if rel is not None:

@@ -116,23 +116,37 @@ def long_run(
 
     def rhs(time: float, y: np.ndarray) -> np.ndarray:
         tt = np.array([time])
-        dy = (source.power(tt)[0] - g * (y[0] - env(tt)[0])) / c
-        return np.array([dy, (y[0] - y[1]) / tau if tau > 0 else dy])
+        return (source.power(tt) - g * (y - env(tt))) / c
 
-    step = max(dt_s, 600.0) if tau <= 0 else min(max(dt_s, 600.0), tau)
+    # with a lagging probe, the contents are sampled m times finer and the probe follows them
+    # exactly for a temperature linear within each fine step
+    m = 1 if tau <= 0 else max(1, int(np.ceil(4.0 * dt_s / tau)))
+    fine = np.linspace(0.0, t[-1], (t.size - 1) * m + 1)
     sol = solve_ivp(
         rhs,
         (0.0, t[-1]),
-        [y0, y0],
+        [y0],
         method="DOP853",
-        t_eval=t,
+        t_eval=fine,
         rtol=1e-11,
         atol=1e-10,
-        max_step=step,
+        max_step=max(dt_s, 600.0),
     )
-    true_t = sol.y[0]
+    contents = sol.y[0]
+    probe = contents
+    if tau > 0:
+        h = fine[1] - fine[0]
+        decay = float(np.exp(-h / tau))
+        probe = np.empty_like(contents)
+        probe[0] = contents[0]
+        for i in range(contents.size - 1):
+            slope_tau = (contents[i + 1] - contents[i]) / h * tau
+            probe[i + 1] = (
+                contents[i + 1] - slope_tau + (probe[i] - contents[i] + slope_tau) * decay
+            )
+    true_t = contents[::m]
     rng = np.random.default_rng(seed)
-    read = sol.y[1] + (rng.normal(0.0, noise_K, t.size) if noise_K > 0 else 0.0)
+    read = probe[::m] + (rng.normal(0.0, noise_K, t.size) if noise_K > 0 else 0.0)
     if resolution_K > 0:
         read = np.round(read / resolution_K) * resolution_K
     return LongRun(t, read, env(t), source.heat(t), true_t, c, g, tau)
