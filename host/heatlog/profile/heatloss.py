@@ -240,7 +240,8 @@ def _release_term(
     over C) for τ_r on a log grid, keeping the best; linear in (a, k, b) at each τ_r. Returns
     (k, τ_r) when the extra term lowers the residual sum beyond the F test at 99 % (2 and n − 4
     degrees of freedom, the level divided by the grid's size since the best τ_r is picked;
-    scipy.stats) and moves k by more than twice its own standard uncertainty, else None.
+    scipy.stats; docs/REFERENCES.md: SCIPY) and moves k by more than twice its own standard
+    uncertainty, else None.
     """
     x = _cumtrapz(ys - es, ts)
     tt = ts - ts[0]

@@ -1,17 +1,18 @@
 """The probe's own time constant: correcting its lag and measuring it from a plunge test.
 
 A probe in a sheath follows the contents with a first-order lag, τ·dT_p/dt = T − T_p, so the
-contents' temperature is recovered as T ≈ T_p + τ·dT_p/dt (first-order sensor model, JCGM 100
-treats the correction as any other: applied, and its uncertainty in the budget). The slope is
-taken from a local quadratic fit over a window of about τ (Savitzky–Golay, scipy.signal), never
-from sample-by-sample differences, which only amplify noise.
+contents' temperature is recovered as T ≈ T_p + τ·dT_p/dt (first-order sensor model; the GUM
+treats the correction as any other: applied, and its uncertainty in the budget;
+docs/REFERENCES.md: JCGM100). The slope is taken from a local quadratic fit over a window of
+about τ (Savitzky–Golay through scipy.signal; docs/REFERENCES.md: SAVGOL), never from
+sample-by-sample differences, which only amplify noise.
 
 The uncertainty of τ enters the heat as ∂Q/∂τ = C·(s(t) − s(0)) + G·(T_p(t) − T_p(0)), with s the
 smoothed slope; the budget in :mod:`heatlog.profile.heat` carries it.
 
 :func:`plunge_fit` measures τ from a plunge test: a probe moved from one stirred bath (or air)
-into another, its reading fitted as a first-order step response
-T(t) = T_f + (T_i − T_f)·exp(−(t − t₀)/τ) for t ≥ t₀ (T_i before), with t₀ free.
+into another, its reading fitted as a first-order step response (scipy.optimize.least_squares; docs/REFERENCES.md:
+SCIPY), T(t) = T_f + (T_i − T_f)·exp(−(t − t₀)/τ) for t ≥ t₀ (T_i before), with t₀ free.
 
 Pure: arrays in, frozen dataclasses out.
 """
