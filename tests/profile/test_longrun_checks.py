@@ -305,3 +305,40 @@ def test_q_drifting_after_the_release_flags_a_wrong_G(factor, flagged):
     if flagged:
         assert r.drift.G_levelling_W_per_K == pytest.approx(0.2, rel=0.02)
         assert any("G is wrong" in n for n in r.to_dict()["notes"])
+
+
+_NTC = (
+    'id = "ntc-9"\nkind = "thermistor"\nmodel = "beta"\ncalibration_date = 2026-11-30\n'
+    'reference = "invented"\nvalid_range_C = [-20.0, 80.0]\nuncertainty_K = 0.05\n'
+    "time_constant_s = 15.0\nu_time_constant_s = 1.5\n"
+    "[coefficients]\nR25 = 10000.0\nbeta = 3950.0\n"
+)
+
+
+def test_run_file_takes_tau_from_the_logs_probe_file(tmp_path):
+    """A raw (ohm) log read through a probe file with time_constant_s: the lag is corrected."""
+    from heatlog.probes.probefile import parse_probe
+
+    run = _pack()
+    probe = parse_probe(_NTC)
+    ohm = probe.model.temperature_to_resistance(run.temp_C)
+    _write(tmp_path / "pack.csv", {"time_s": run.time_s, "ohm": ohm})
+    (tmp_path / "ntc.toml").write_text(_NTC)
+    toml = tmp_path / "pack.toml"
+    table = (
+        "heat_capacity_J_per_K = 400.0\nu_heat_capacity_J_per_K = 4.0\nloss_W_per_K = 0.2\n"
+        'u_loss_W_per_K = 0.004\nenv_temp_C = 22.0\nkind = "pack"\n'
+    )
+    toml.write_text(
+        '[log]\nfile = "pack.csv"\nraw_col = "ohm"\nprobe = "ntc.toml"\n[profile]\n' + table
+    )
+    r = CliRunner().invoke(main, ["profile", str(toml), "--json"])
+    assert r.exit_code == 0, r.output
+    lag = json.loads(r.output)["probe_lag"]
+    assert lag["probe_time_constant_s"] == 15.0 and lag["source"] == "ntc-9"
+    toml.write_text(
+        f'[log]\nfile = "pack.csv"\nraw_col = "ohm"\nprobe = "ntc.toml"\n[profile]\n{table}'
+        "probe_time_constant_s = 12.0\n"
+    )
+    r = CliRunner().invoke(main, ["profile", str(toml)])
+    assert r.exit_code == 2 and "u_probe_time_constant_s" in r.output

@@ -49,7 +49,7 @@ def _text(result: ProfileResult, source: str) -> str:
         lines.append(
             f"  Q/m = {b.value:.4g} J/g, u = {b.u:.2g} J/g, U(k=2) = {b.expanded:.2g} J/g; "
             f"peak rate {d['peak_rate_mW_per_g']:.3g} mW/g, "
-            f"u = {1e3 * d['u_peak_rate_W'] / s.sample_g.value:.2g} mW/g (k=1), at "
+            f"u = {1e3 * d['u_peak_rate_W'] / d['sample_g']:.2g} mW/g (k=1), at "
             f"{_h(d['time_of_peak_rate_s'])} (window {result.peak.window_s:.3g} s)"
         )
     else:

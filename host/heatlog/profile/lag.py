@@ -30,6 +30,9 @@ from heatlog.errors import InputError, ReductionError
 from heatlog.gum import Input
 from heatlog.profile.noise import reading_noise
 
+#: Readings outside this range (°C) are no probe temperature: the file is damaged or in other
+#: units (common practice, no source).
+PLAUSIBLE_C = (-273.15, 1500.0)
 #: Fewest samples of the smoothing window for the slope.
 MIN_WINDOW_SAMPLES = 7
 
@@ -147,6 +150,14 @@ def plunge_fit(time_s: np.ndarray, temp_C: np.ndarray) -> PlungeFit:
         raise InputError("a plunge test needs at least 20 samples of time and temperature")
     if not (np.all(np.isfinite(t)) and np.all(np.isfinite(y))) or np.any(np.diff(t) <= 0):
         raise InputError("a plunge test needs finite values and strictly increasing time")
+    bad = np.flatnonzero((y < PLAUSIBLE_C[0]) | (y > PLAUSIBLE_C[1]))
+    if bad.size:
+        raise InputError(
+            f"the plunge test's reading {y[bad[0]]:.3g} °C (data row {bad[0] + 1}) is no "
+            f"temperature a probe reads ({PLAUSIBLE_C[0]:g} to {PLAUSIBLE_C[1]:g} °C); fix the file"
+        )
+    if t[-1] - t[0] > 1e7:
+        raise InputError("the plunge test spans over 10⁷ s; give the time in seconds")
     noise = reading_noise(y)
     n_edge = max(3, t.size // 20)
     ti0, tf0 = float(np.median(y[:n_edge])), float(np.median(y[-n_edge:]))
@@ -198,6 +209,8 @@ def plunge_fit(time_s: np.ndarray, temp_C: np.ndarray) -> PlungeFit:
             continue
         u_model = max(u_model, abs(float(p_late[3]) - tau))
     u_tau = math.hypot(math.sqrt(max(float(cov[3, 3]), 0.0)), u_model)
+    if not (math.isfinite(u_tau) and math.isfinite(rms)):
+        raise ReductionError("the plunge fit has no finite uncertainty; check the log")
     floor = max(noise, 1e-3)
     if rms > 3.0 * floor:
         warnings.append(
