@@ -91,7 +91,7 @@ def _text(result: ProfileResult, source: str) -> str:
             )
     lines += ["", result.budget.table(), ""]
     lines += [f"{f.level.upper()}: {f.message} [{f.source}]" for f in result.safety]
-    lines += [f"note: {n}" for n in result.notes]
+    lines += [n if n.startswith("WARNING:") else f"note: {n}" for n in result.notes]
     lines += [f"WARNING: {w}" for w in result.warnings]
     lines.append(CAUTION)
     return "\n".join(lines)
