@@ -13,6 +13,10 @@ arbitrary value, as a board's does.
 * cement: Q∞ 390 J/g, τ 12 h, β 1.5 for 100 g in a 2500 J/K box losing 0.03 W/K; probe τ 60 s;
   G (and C) from an electrical heating-curve calibration of the same box.
 
+* cold pack on the simulator's thermal model (``pack-sim``): the same pouch and probe stepped by
+  :class:`heatlog.sim.thermal.ThermalModel` (the model behind ``heatlog sim``), −7.2 kJ
+  released first-order over 40 s.
+
 "Before" is the analysis without the probe's time constant; "after" with it. Both use the
 cooling fit as it now stands (on the segment's time base, quality-checked).
 """
@@ -28,7 +32,7 @@ from heatlog.profile.analysis import ProfileResult, ProfileSettings, analyse_pro
 from heatlog.profile.heatloss import heating_curve_fit
 from heatlog.profile.synthetic import HydrationCurve, LongRun, PlateauDecay, long_run
 
-KINDS = ("warmer", "pack", "cement")
+KINDS = ("warmer", "pack", "cement", "pack-sim")
 #: The log's clock at the first sample (a board counts from its own power-up).
 CLOCK_OFFSET_S = 1_234_567.0
 POINTS = 80
@@ -91,7 +95,31 @@ def scenario(kind: str, seed: int) -> Scenario:
         )  # fmt: skip
         peak = float(hc.power(np.linspace(60.0, 3 * 86400.0, 100_000)).max())
         return Scenario(kind, run, settings, _tau(60.0), 0.0, peak)
+    if kind == "pack-sim":
+        return _sim_pack(seed)
     raise ValueError(kind)
+
+
+def _sim_pack(seed: int) -> Scenario:
+    from heatlog.sim.thermal import Reaction, ThermalModel, Vessel
+
+    rng = np.random.default_rng(seed)
+    tau = 15.0 * (1 + 0.05 * rng.standard_normal())
+    model = ThermalModel(
+        Vessel(400.0, 0.2, 22.0, 22.0, probe_lag_s=tau), (Reaction(300.0, -7200.0, 40.0),)
+    )
+    t = np.arange(0.0, 3 * 3600.0 + 1.0, 2.0)
+    probe, contents, heat = (np.empty_like(t) for _ in range(3))
+    for i, ti in enumerate(t):
+        model.advance(float(ti))
+        probe[i], contents[i], heat[i] = model.probe_C, model.temp_C, model.released_J()
+    read = probe + rng.normal(0.0, 0.01, t.size)
+    run = LongRun(t, read, np.full_like(t, 22.0), heat, contents, 400.0, 0.2, tau)
+    settings = ProfileSettings(
+        heat_capacity=Input(400.0, 4.0, "J/K"), cooling_fit_after_s=1800.0,
+        env_C=22.0, u_env_K=0.02, u_temp_K=0.02, kind="pack",
+    )  # fmt: skip
+    return Scenario("pack-sim", run, settings, _tau(15.0), 300.0, -7200.0 / 40.0)
 
 
 def _box_calibration(seed: int):

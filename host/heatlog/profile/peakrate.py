@@ -13,8 +13,10 @@ chosen here rather than fixed:
   maximum; the fit's variance (scaled by w/step, as the windows overlap), the change when the
   fit is limited to 90 %, and the w²·P''/24 flattening of a centred difference (Taylor; removed,
   and kept as an uncertainty) join the u(C), u(G) terms;
-* an event narrower than three windows is not resolved by the log: the result is flagged as a
-  lower bound.
+* a peak that still rises by over 3 % (and over 2 u) when the window is halved (a release that
+  starts at full power), or an event narrower than three time resolutions (the window combined
+  with the probe-lag correction's smoothing), is not resolved by the log: the result is flagged
+  as a lower bound.
 
 Pure: a :class:`~heatlog.profile.heat.HeatProfile` in, a frozen dataclass out.
 """
@@ -30,6 +32,8 @@ from heatlog.profile.heat import SQRT2, HeatProfile
 
 #: An event is resolved when its width at half height spans this many windows.
 RESOLVED_WINDOWS = 3.0
+#: Rise of the peak with half the window, relative, above which it is not converged.
+CONVERGED_REL = 0.03
 #: The peak is fitted (a parabola) where the rate stays above this fraction of its maximum.
 FIT_LEVEL = 0.8
 
@@ -154,10 +158,25 @@ def peak_rate(heat: HeatProfile, sign: float, window_s: float | None = None) -> 
     c = heat.heat_capacity.value
     u_cg = math.sqrt(max(u_cg**2 - (c * SQRT2 * heat.u_reading_K / heat.rate_window_s) ** 2, 0))
     u = math.sqrt(u_fit**2 + u_model**2 + flatten**2 + u_cg**2)
-    if width < RESOLVED_WINDOWS * max(w, 2.0 * step) or hi - lo + 1 < 5:
+    # the time resolution: the window, the probe-lag correction's smoothing, the sampling
+    w_eff = math.hypot(max(w, 2.0 * step), 0.0 if heat.lag is None else heat.lag.window_s)
+    # converged? the same fit with half the window (a release starting at full power keeps rising)
+    w_half = max(0.5 * w, 2.0 * step)
+    r_half = signed(w_half)
+    value_half, _, u_half, curv_half = _vertex(t, r_half, lo, hi, step, w_half)
+    value_half -= w_half * w_half / 24.0 * curv_half
+    jump = value_half - value
+    if jump > max(2.0 * math.hypot(u_fit, u_half), CONVERGED_REL * abs(value)):
+        warnings.append(
+            f"the peak rate has not converged: {sign * value_half:.4g} W with a {w_half:.3g} s "
+            f"window against {sign * value:.4g} W with {w:.3g} s; the release starts faster than "
+            f"the log resolves (time resolution {w_eff:.3g} s with the lag smoothing), so it is "
+            "a lower bound — log faster"
+        )
+    elif width < RESOLVED_WINDOWS * w_eff or hi - lo < 4:
         warnings.append(
             f"the peak rate is not resolved: the event is about {width:.3g} s wide at half height "
-            f"against a {w:.3g} s window (sampling every {step:.3g} s); it is a lower bound — "
-            "log faster"
+            f"against a time resolution of {w_eff:.3g} s (window, lag smoothing, sampling every "
+            f"{step:.3g} s); it is a lower bound — log faster"
         )
     return PeakRate(sign * value, u, float(t[i] - t[0]), w, width, chosen, tuple(warnings))
