@@ -65,9 +65,11 @@ def main() -> None:
             ratio = np.median(ratios[corrected])
             peak = np.mean([r.peak_rate_W for r in rows[corrected]])
             u_peak = np.mean([r.u_peak_rate_W for r in rows[corrected]])
+            flagged = sum(r.peak_flagged for r in rows[corrected])
             print(
                 f"{kind + ' ' + label:14} {cov:8.2f} {100 * med:17.2f} % {100 * mx:13.1f} % "
                 f"{ratio:16.2f} {peak:10.4g} W, u {u_peak:.2g} W ({sc.true_peak_W:.4g})"
+                + (f", flagged unresolved in {flagged}/{seeds}" if flagged else "")
             )
     print(
         "\n(before: no probe time constant; after: τ from a plunge test, u(τ) 10 %. The largest "

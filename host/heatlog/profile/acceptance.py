@@ -142,6 +142,7 @@ class Coverage:
     max_rel_error: float
     peak_rate_W: float
     u_peak_rate_W: float
+    peak_flagged: bool  # the peak rate carries a warning (not resolved, not converged)
 
 
 def along_curve(sc: Scenario) -> np.ndarray:
@@ -167,6 +168,7 @@ def coverage(sc: Scenario, result: ProfileResult) -> Coverage:
         float(np.max(rel)),
         p.rate_W,
         p.u_rate_W,
+        bool(p.warnings),
     )
 
 
