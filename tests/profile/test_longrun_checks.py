@@ -342,3 +342,28 @@ def test_run_file_takes_tau_from_the_logs_probe_file(tmp_path):
     )
     r = CliRunner().invoke(main, ["profile", str(toml)])
     assert r.exit_code == 2 and "u_probe_time_constant_s" in r.output
+
+
+def test_cement_cooling_fit_carries_the_calibration_warning():
+    """Even an accepted cooling fit on a setting material's tail warns to calibrate the box."""
+    from heatlog.profile.synthetic import HydrationCurve
+
+    run = long_run(
+        HydrationCurve(q_inf_J_per_g=300.0, tau_s=3600.0, beta=4.0, mass_g=100.0),
+        duration_s=2 * 86400.0,
+        dt_s=120.0,
+        heat_capacity_J_per_K=2500.0,
+        loss_W_per_K=0.1,
+        noise_K=0.005,
+        seed=2,
+    )
+    s = ProfileSettings(
+        heat_capacity=Input(2500.0, 25.0, "J/K"),
+        cooling_fit_after_s=6 * 3600.0,
+        env_C=20.0,
+        u_env_K=0.02,
+        kind="cement",
+    )
+    r = analyse_profile(run.time_s, run.temp_C, s)
+    assert any("Calibrate the box with a heater" in n for n in r.notes)
+    assert abs(r.budget.value - run.true_heat_J[-1]) <= r.budget.expanded

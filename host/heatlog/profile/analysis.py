@@ -320,9 +320,18 @@ def _lag_notes(
     ]
 
 
-def _fit_notes(fit: CoolingFit | None, t0: float) -> list[str]:
+def _fit_notes(fit: CoolingFit | None, t0: float, kind: str) -> list[str]:
     if fit is None:
         return []
+    if kind == "cement":
+        caution = [
+            "WARNING: a setting material releases heat for weeks, so a cooling fit on its own "
+            "tail takes that release for slower cooling and G comes out low; a release decaying "
+            "as slowly as the box cools cannot be told from cooling by any fit. Calibrate the "
+            "box with a heater (electrical calibration) and give G"
+        ]
+    else:
+        caution = []
     k, u_stat, u_rel = fit.rate_per_s, fit.u_rate_per_s, fit.u_release_per_s
     notes = [
         f"cooling fit from {fit.start_s - t0:g} s to {fit.end_s - t0:g} s after the segment start: "
@@ -330,7 +339,7 @@ def _fit_notes(fit: CoolingFit | None, t0: float) -> list[str]:
         f"{u_stat:.2g}, release still under way {u_rel:.2g}); "
         f"residual rms {fit.residual_K:.2g} K = {fit.residual_ratio:.2g}× the reading noise"
     ]
-    return notes + [f"WARNING: {w}" for w in fit.warnings]
+    return notes + [f"WARNING: {w}" for w in fit.warnings] + caution
 
 
 def analyse_profile(
@@ -427,7 +436,7 @@ def analyse_profile(
         cooling=fit,
         notes=tuple(
             _notes(check, s.segment, heat, s)
-            + _fit_notes(fit, seg.time_s[0])
+            + _fit_notes(fit, seg.time_s[0], s.kind)
             + _lag_notes(lagc, seg, s, heat)
         ),
     )
