@@ -23,7 +23,8 @@ uncertainty of Q combines
 * the integration rule: the trapezoid sum against the same sum on every other sample
   (Richardson, |I_h − I_2h|/3), taken as a rectangular half-width;
 * the probe's time constant τ, when its lag was corrected: u(τ)·(C·(s(t) − s(0)) + G·(T_p(t) −
-  T_p(0))) with s the smoothed slope (:mod:`heatlog.profile.lag`);
+  T_p(0))) with s the smoothed slope, and what the smoothing may flatten, C·τ·|s_w − s_2w|/3 as a
+  rectangular half-width (:mod:`heatlog.profile.lag`);
 * gaps bridged on request: half the interpolated contribution as a rectangular half-width
   (common practice, no source).
 
@@ -187,6 +188,20 @@ class HeatProfile:
                     + g.G_W_per_K * (meas - lag.measured_C[0]),
                 )
             )
+            if lag.smoothing_K is not None:
+                rows.append(
+                    (
+                        Component(
+                            "probe-lag slope smoothing",
+                            0.0,
+                            1.0 / SQRT3,
+                            0.0,
+                            "",
+                            note="τ·|s_w − s_2w|/3 as half-width",
+                        ),
+                        c.value * np.abs(lag.smoothing_K[idx] - lag.smoothing_K[0]),
+                    )
+                )
         if self.gap_policy is GapPolicy.INTERPOLATE:
             rows.append(
                 (

@@ -46,6 +46,7 @@ class LagCorrection:
     slope_K_per_s: np.ndarray
     measured_C: np.ndarray
     corrected_C: np.ndarray
+    smoothing_K: np.ndarray | None = None  # τ·(s_w − s_2w)/3: what the smoothing may flatten
 
     @property
     def max_shift_K(self) -> float:
@@ -83,7 +84,12 @@ def smoothed_slope(time_s: np.ndarray, temp_C: np.ndarray, window_s: float) -> n
 
 
 def correct_lag(time_s: np.ndarray, temp_C: np.ndarray, tau: Input) -> LagCorrection:
-    """T = T_p + τ·dT_p/dt with the slope smoothed over max(τ, 7 samples)."""
+    """T = T_p + τ·dT_p/dt with the slope smoothed over max(τ, 7 samples).
+
+    What the smoothing may still flatten where the curve bends fast is estimated from the slope
+    over twice the window, τ·(s_w − s_2w)/3 (the w² error of a local quadratic's slope;
+    Richardson's step), and kept for the budget as a rectangular half-width.
+    """
     if not (math.isfinite(tau.value) and tau.value >= 0):
         raise InputError(f"the probe time constant must be zero or positive, got {tau.value:g} s")
     if not (math.isfinite(tau.u) and tau.u >= 0):
@@ -98,7 +104,10 @@ def correct_lag(time_s: np.ndarray, temp_C: np.ndarray, tau: Input) -> LagCorrec
         )
     window = max(tau.value, MIN_WINDOW_SAMPLES * step)
     slope = smoothed_slope(t, y, window)
-    return LagCorrection(tau, window, slope, y, y + tau.value * slope)
+    wider = smoothed_slope(t, y, 2.0 * window)
+    # a local quadratic's slope errs as w² on a curve's cubic part: s_w − s_2w ≈ −3 × that error
+    smoothing = tau.value * (slope - wider) / 3.0
+    return LagCorrection(tau, window, slope, y, y + tau.value * slope, smoothing)
 
 
 @dataclass(frozen=True, eq=False)
