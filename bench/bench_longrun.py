@@ -115,6 +115,25 @@ def main() -> None:
         f"U(k=2) of G alone {200 * g.u_G_W_per_K / g.G_W_per_K:.2f} %; residual rms "
         f"{fit.residual_K:.2g} K = {fit.residual_ratio:.2g}× the noise"
     )
+    # a fit started while heat is still released (release decaying over 400 s, fit 30 min after
+    # the plateau): k is biased; before, u(k) was the fit's statistics alone
+    from heatlog.gum import Input
+    from heatlog.profile.synthetic import PlateauDecay, long_run
+
+    late = long_run(
+        PlateauDecay(1.5, 4 * 3600.0, 400.0), duration_s=7 * 3600.0, dt_s=10.0,
+        heat_capacity_J_per_K=60.0, loss_W_per_K=0.06, env_C=20.0, noise_K=0.005, seed=2,
+    )  # fmt: skip
+    fit = cooling_fit(late.time_s, late.temp_C, late.env_C, start_s=4.5 * 3600.0)
+    c60 = Input(60.0, 0.0, "J/K")
+    g = loss_from_cooling(fit, c60)
+    err = 100 * (g.G_W_per_K / 0.06 - 1)
+    print(
+        f"\ncooling fit while heat is still released: G error {err:+.2f} %; U(k=2) of G before "
+        f"(statistics only) {200 * fit.u_rate_per_s / fit.rate_per_s:.2f} %, now "
+        f"{200 * g.u_G_W_per_K / g.G_W_per_K:.2f} % with the release bias; warnings: "
+        f"{len(fit.warnings)}"
+    )
     print(f"\nwall time {time.perf_counter() - start:.1f} s")
 
 
