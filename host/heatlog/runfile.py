@@ -46,6 +46,7 @@ Parsing (:func:`parse_run`) and evaluation (:func:`evaluate_run`) are pure; :fun
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import tomllib
 from collections.abc import Callable, Mapping, Sequence
@@ -609,11 +610,16 @@ def profile_run(spec: RunSpec) -> ProfileResult:
         raise InputError(f"{spec.path}: the run file has no [profile] table")
     cols = spec.profile_columns
     extra = [c for c in (cols.get("env"), cols.get("flags")) if c]
-    time_s, temp, extras, _ = read_log_arrays(spec.log, extra)
+    time_s, temp, extras, meta = read_log_arrays(spec.log, extra)
+    settings = spec.profile
+    probe = meta.get("probe_file")  # raw readings: the probe file's time constant, if it has one
+    if settings.probe_tau is None and probe is not None and probe.time_constant_s is not None:
+        tau = Input(probe.time_constant_s, probe.u_time_constant_s or 0.0, "s", note=probe.id)
+        settings = dataclasses.replace(settings, probe_tau=tau)
     return analyse_profile(
         time_s,
         temp,
-        spec.profile,
+        settings,
         env_C=extras.get(cols["env"]) if "env" in cols else None,
         flags=extras.get(cols["flags"]) if "flags" in cols else None,
         where=str(spec.log.file),
