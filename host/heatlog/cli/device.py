@@ -39,7 +39,12 @@ timeout_option = click.option(
 def _board(port: str, baud: int, timeout: float) -> Any:
     from heatlog.device.commands import Board
     from heatlog.device.link import Link
+    from heatlog.device.portlock import PortLock
 
+    # one heatlog process per port (a `watch` elsewhere would swallow the replies); the lock
+    # is held until this command ends
+    lock = PortLock(port).acquire()
+    click.get_current_context().call_on_close(lock.release)
     return Board(Link.open(port, baudrate=baud, timeout=timeout))
 
 
