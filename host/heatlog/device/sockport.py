@@ -10,14 +10,15 @@ from __future__ import annotations
 
 import select
 import socket
+from typing import Any
 
 from serial.urlhandler.protocol_socket import Serial as _SocketSerial
 
 
-class SocketSerial(_SocketSerial):  # type: ignore[misc]
+class SocketSerial(_SocketSerial):
     @property
     def in_waiting(self) -> int:
-        sock = self._socket
+        sock: Any = self._socket
         if sock is None:
             return 0
         ready, _, _ = select.select([sock], [], [], 0)
@@ -33,22 +34,24 @@ class SocketSerial(_SocketSerial):  # type: ignore[misc]
 
     def open(self) -> None:
         super().open()
+        sock: Any = self._socket
         try:  # small request frames go out at once (no Nagle delay waiting for an ACK)
-            self._socket.setsockopt(socket.IPPROTO_TCP, socket.TCP_NODELAY, 1)
+            sock.setsockopt(socket.IPPROTO_TCP, socket.TCP_NODELAY, 1)
         except OSError:
             pass
 
     def close(self) -> None:
         """Close without pyserial's fixed 0.3 s pause (the simulator takes a new host at once)."""
-        if self.is_open:
-            if self._socket is not None:
+        me: Any = self
+        if me.is_open:
+            if me._socket is not None:
                 try:
-                    self._socket.shutdown(socket.SHUT_RDWR)
+                    me._socket.shutdown(socket.SHUT_RDWR)
                 except OSError:
                     pass
                 try:
-                    self._socket.close()
+                    me._socket.close()
                 except OSError:
                     pass
-                self._socket = None
-            self.is_open = False
+                me._socket = None
+            me.is_open = False
