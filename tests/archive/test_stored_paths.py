@@ -104,3 +104,19 @@ def test_an_archive_written_on_windows_reads_back_here(tmp_path):
         assert Path(rec.run_file_path) == root / "data" / "run.toml"
         again = reduce_run(archive, imported.run_id)
     assert again.results["delta_t_K"] == pytest.approx(first.results["delta_t_K"], rel=1e-12)
+
+
+def test_mangled_stored_paths_resolve_or_stay_absolute(tmp_path):
+    """Seeded mutations of stored paths (doubled, mixed and trailing separators, dots, spaces,
+    drive letters): resolving never raises; a relative one without '..' stays under the base."""
+    import random
+
+    rng = random.Random(19)
+    pieces = ["a", "b c", "run.csv", ".", "..", "", "\\", "/", "\\\\", "C:", "é", "x\x00"[:1]]
+    for _ in range(300):
+        value = "".join(rng.choice(pieces) for _ in range(rng.randint(0, 8)))
+        p = resolve_stored(value, tmp_path)
+        if is_absolute(value):
+            assert p == Path(value)
+        elif ".." not in value:
+            assert p == tmp_path or tmp_path in p.parents

@@ -152,3 +152,14 @@ def test_a_pulled_and_calibrated_csv_goes_straight_into_reduce(port, tmp_path):
     # run 1 of the demo scenario: 1500 J of heater into about 669 J/K (invented data), a rise
     # of about 2.24 K; the first hour holds the whole event and its after-period
     assert d["delta_t_K"] == pytest.approx(1500.0 / 669.4, rel=0.02)
+
+
+def test_sim_on_a_port_already_taken_is_one_line():
+    import socket
+
+    with socket.socket() as taken:
+        taken.bind(("127.0.0.1", 0))
+        taken.listen(1)
+        r = run("sim", "--tcp", str(taken.getsockname()[1]), "--seconds", "0.1")
+    assert r.exit_code != 0 and "Traceback" not in r.output
+    assert len(r.output.strip().splitlines()) == 1 and "choose another port" in r.output

@@ -107,3 +107,39 @@ def test_watch_holds_the_port_while_it_runs_and_frees_it_after(board, tmp_path):
         assert CliRunner().invoke(main, ["status", "--port", server.url]).exit_code == 0
     finally:
         server.close()
+
+
+def test_damaged_lock_files_never_end_in_a_traceback(lock_dir):
+    """Seeded mutations of a valid lock file (cut, flipped, junk, wrong types): each one is
+    either taken over as stale or refused with one PortBusy line naming a pid."""
+    import random
+
+    rng = random.Random(19)
+    url = "socket://127.0.0.1:7004"
+    path = lock_path(port_key(url))
+    path.parent.mkdir(parents=True, exist_ok=True)
+    good = json.dumps({"pid": os.getppid(), "command": "heatlog watch", "token": "x"}).encode()
+    outcomes = set()
+    for _ in range(60):
+        data = bytearray(good)
+        kind = rng.choice(["cut", "flip", "junk", "types"])
+        if kind == "cut":
+            data = data[: rng.randrange(len(data))]
+        elif kind == "flip":
+            for _ in range(rng.randint(1, 4)):
+                data[rng.randrange(len(data))] ^= 1 << rng.randrange(8)
+        elif kind == "junk":
+            data = bytearray(rng.randbytes(rng.randint(0, 40)))
+        else:
+            data = json.dumps({"pid": rng.choice(["7", None, -3, 0, 2**40, [1]])}).encode()
+        path.write_bytes(bytes(data))
+        os.utime(path, (0, 0))  # old: an unreadable lock is not one being written right now
+        try:
+            PortLock(url).acquire().release()
+            outcomes.add("taken")
+        except PortBusy as exc:
+            assert "pid" in str(exc) and "\n" not in str(exc)
+            outcomes.add("busy")
+        if path.exists():
+            path.unlink()
+    assert "taken" in outcomes

@@ -87,7 +87,7 @@ def pid_alive(pid: int) -> bool:
         return False
     except PermissionError:
         return True
-    except OSError:
+    except (OSError, OverflowError):
         return False
     return True
 
@@ -97,7 +97,10 @@ def _read(path: Path) -> dict[str, Any] | None:
         data = json.loads(path.read_text(encoding="utf-8"))
     except (OSError, ValueError):
         return None
-    return data if isinstance(data, dict) and isinstance(data.get("pid"), int) else None
+    if not isinstance(data, dict):
+        return None
+    pid = data.get("pid")
+    return data if type(pid) is int and 0 < pid < 2**31 else None  # a damaged pid: unreadable
 
 
 class PortLock:
