@@ -446,6 +446,8 @@ def sim(link_path: Path | None, tcp_port: int | None, scenario: str, speed: floa
                    f"speed x{speed:g}. Ctrl-C stops.", err=True)  # fmt: skip
         if scn.caution:
             click.echo(scn.caution, err=True)
+    elif tcp_port is not None:  # stdout stays one JSON object; the address a host needs on stderr
+        click.echo(f"virtual board {board_id} {where}", err=True)
     signal.signal(signal.SIGTERM, lambda *_: server.request_stop())
     try:
         server.serve(seconds)
