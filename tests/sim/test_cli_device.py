@@ -116,7 +116,9 @@ def test_sim_command_serves_for_a_while_and_reports_its_truth(tmp_path, how):
     r = run("sim", *where, "--scenario", "exothermic", "--seconds", "0.3",
             "--truth", str(truth), "--json")  # fmt: skip
     assert r.exit_code == 0, r.output
-    assert json.loads(r.output)["scenario"] == "exothermic" and truth.is_file()
+    assert json.loads(r.stdout)["scenario"] == "exothermic" and truth.is_file()
+    if how == "tcp":  # the address a host needs, on stderr beside the clean JSON
+        assert "socket://127.0.0.1:" in r.stderr
     r = run("sim", *where, "--scenario", "nope", "--seconds", "0.1")
     assert r.exit_code == 2 and "choose one of" in r.output
 
