@@ -74,6 +74,7 @@ from heatlog.gum import Budget, Component, Input
 from heatlog.probes import ProbeFile, chain_from_spec, load_probe
 from heatlog.profile import ProfileResult, ProfileSettings, analyse_profile, settings_from_table
 from heatlog.reduce import Reduction, reduce_thermogram
+from heatlog.storedpath import resolve_stored
 from heatlog.thermogram import Thermogram, read_thermogram_csv
 
 
@@ -161,8 +162,7 @@ def _quantity(
 def _path(base: Path, value: Any, where: str) -> Path:
     if not isinstance(value, str) or not value:
         raise InputError(f"{where}: expected a file name, got {value!r}")
-    p = Path(value)
-    return p if p.is_absolute() else base / p
+    return resolve_stored(value, base)  # either separator, on any system (storedpath.py)
 
 
 def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
