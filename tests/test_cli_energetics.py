@@ -158,4 +158,5 @@ def test_hess_fuzz_never_tracebacks(text):
         assert json.loads(r.output)["budget"]["components"]
     else:
         assert r.exception is None or isinstance(r.exception, SystemExit), r.exception
-        assert r.output.startswith("Error: ") or "Usage" in r.output
+        error = json.loads(r.output)  # with --json an error is one JSON object
+        assert error["error"] and error["kind"]

@@ -43,7 +43,9 @@ def test_version_and_help_import_no_command_module():
         " or m.startswith('heatlog.cli.'))\n"
         "print('HEAVY', heavy)\n"
     )
-    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
+    out = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=True
+    ).stdout
     assert "HEAVY []" in out, out
     assert "reduce" in out and "Commands:" in out
 

@@ -28,6 +28,7 @@ from heatlog.archive.db import Archive, utc_now
 from heatlog.archive.runs import RunRecord, raw_bytes, run_record
 from heatlog.errors import CalibrationError, HeatlogError, InputError
 from heatlog.logformat import RunLog, decode
+from heatlog.plainjson import jsonable
 from heatlog.probes import ProbeFile, chain_from_spec
 from heatlog.runfile import (
     RunResult,
@@ -190,8 +191,6 @@ def reduce_run(
     file's settings, else automatic). ``fixed``: probe id → calibration id to apply instead of
     the supersede rule. The computation runs outside any transaction; the record is written in
     one."""
-    from heatlog.cli.output import jsonable  # the one JSON cleaner (NaN → null); late: no cycle
-
     run = run_record(archive, run_id)
     opts = _options(options or {})
     ctx = _Context(archive, dict(fixed or {}))

@@ -26,8 +26,14 @@ from heatlog.errors import HeatlogError
 # Adding a command or group is one row here; the help text must equal the first sentence of
 # the command's own help (tests/test_cli_lazy.py says which row drifted).
 COMMANDS: dict[str, tuple[str, str]] = {
-    "probe": ("heatlog.cli.probe:probe", "Probe models: calibration fits, conversions and divider design."),
-    "reduce": ("heatlog.cli.reduce:reduce", "Corrected temperature change (with uncertainty) of one event in FILE."),
+    "probe": (
+        "heatlog.cli.probe:probe",
+        "Probe models: calibration fits, conversions and divider design.",
+    ),
+    "reduce": (
+        "heatlog.cli.reduce:reduce",
+        "Corrected temperature change (with uncertainty) of one event in FILE.",
+    ),
     "calibrate": (
         "heatlog.cli.energetics:calibrate",
         "Find the calorimeter's own heat capacity (C_cal, J/K) with an uncertainty budget.",
@@ -46,12 +52,18 @@ COMMANDS: dict[str, tuple[str, str]] = {
         "run in FILE (CSV), or as a run file RUN.toml with a [profile] table describes it.",
     ),
     "ports": ("heatlog.cli.device:ports", "List serial ports; boards heatlog knows are marked."),
-    "status": ("heatlog.cli.device:status", "Identify the board: firmware, clock, free space, runs."),
+    "status": (
+        "heatlog.cli.device:status",
+        "Identify the board: firmware, clock, free space, runs.",
+    ),
     "clock": (
         "heatlog.cli.device:clock",
         "Set the board's clock from this computer's UTC clock; report its previous offset.",
     ),
-    "start": ("heatlog.cli.device:start", "Start a new run (set the clock first with `heatlog clock`)."),
+    "start": (
+        "heatlog.cli.device:start",
+        "Start a new run (set the clock first with `heatlog clock`).",
+    ),
     "stop": ("heatlog.cli.device:stop", "Stop the active run."),
     "pull": (
         "heatlog.cli.device:pull_cmd",
@@ -73,7 +85,10 @@ COMMANDS: dict[str, tuple[str, str]] = {
         "heatlog.cli.archive:probes",
         "Probe calibrations in the archive (a newer one supersedes for runs from its date on).",
     ),
-    "runs": ("heatlog.cli.archive:runs", "Runs in the archive: import, list, show, export, reduce, re-reduce."),
+    "runs": (
+        "heatlog.cli.archive:runs",
+        "Runs in the archive: import, list, show, export, reduce, re-reduce.",
+    ),
     "report": (
         "heatlog.cli.report:report",
         "Write a self-contained HTML report of RUN: a run file (TOML) or a CSV log (reduction only).",
