@@ -57,7 +57,9 @@ def _text(result: ProfileResult, source: str) -> str:
     th = m.thresholds
     if th.threshold_C is not None:
         lines.append(
-            f"  threshold {th.threshold_C:g} °C ({th.source}): reached after "
+            f"  threshold {th.threshold_C:g} °C ({th.source}): never reached"
+            if m.time_to_threshold_s is None
+            else f"  threshold {th.threshold_C:g} °C ({th.source}): reached after "
             f"{_h(m.time_to_threshold_s, m.u_time_to_threshold_s)}; {m.side} it for "
             f"{_h(m.time_beyond_threshold_s, m.u_time_beyond_threshold_s)}"
         )

@@ -121,9 +121,11 @@ def reduce(
     settings then replace the options here.
     """
     if file.lower().endswith(".toml"):
+        from heatlog.cli.hints import run_file_hints
         from heatlog.runfile import run_file  # energetics, probes, profile: only for run files
 
-        result = run_file(file)
+        with run_file_hints(file):
+            result = run_file(file)
         payload = result.to_dict()
         payload["file"] = file
         payload["caution"] = CAUTION

@@ -33,6 +33,7 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
+
 from heatlog.smoothing import savgol_filter  # scipy.signal costs ~0.6 s to import
 
 MIN_PERIOD_S = 120.0
