@@ -278,10 +278,15 @@ def convert_command(
 @click.option("--beta", type=float, default=None, help="β (K) of a nominal thermistor.")
 @click.option("--r25", type=float, default=None, help="R25 (Ω) of a nominal thermistor.")
 @click.option("--range", "range_C", type=(float, float), required=True, help="T1 T2 in °C.")
-@click.option("--criterion", type=click.Choice(CRITERIA), default="max-span", show_default=True)
+@click.option("--criterion", type=click.Choice(CRITERIA), default="max-span", show_default=True,
+              help="What the series resistor is chosen for.")  # fmt: skip
 @click.option("--series", type=float, default=None, help="Evaluate this series resistor, Ω.")
 @click.option(
-    "--bits", type=click.Choice(["10", "12", "14", "16"]), default="12", show_default=True
+    "--bits",
+    type=click.Choice(["10", "12", "14", "16"]),
+    default="12",
+    show_default=True,
+    help="ADC resolution, bits.",
 )
 @click.option("--oversample", type=int, default=1, show_default=True, help="Reads summed.")
 @click.option("--vexc", type=float, default=3.3, show_default=True, help="Excitation, V.")

@@ -117,9 +117,11 @@ def _quantity(value: float | None, u: float, unit: str) -> Input | None:
     default=None,
     help="C of box + contents + sample, J/K (required for a CSV).",
 )
-@click.option("--u-heat-capacity", type=click.FloatRange(min=0.0), default=0.0, show_default=True)
+@click.option("--u-heat-capacity", type=click.FloatRange(min=0.0), default=0.0, show_default=True,
+              help="Standard uncertainty of C, J/K (k=1).")  # fmt: skip
 @click.option("--loss", type=float, default=None, help="Heat-loss coefficient G, W/K.")
-@click.option("--u-loss", type=click.FloatRange(min=0.0), default=0.0, show_default=True)
+@click.option("--u-loss", type=click.FloatRange(min=0.0), default=0.0, show_default=True,
+              help="Standard uncertainty of G, W/K (k=1).")  # fmt: skip
 @click.option(
     "--cooling-fit",
     "cooling_after",
@@ -129,8 +131,10 @@ def _quantity(value: float | None, u: float, unit: str) -> Input | None:
     help="Fit G/C by Newton's law on the tail after this time (no heat released there).",
 )
 @click.option("--sample-g", type=float, default=None, help="Sample (binder) mass, g.")
-@click.option("--u-sample-g", type=click.FloatRange(min=0.0), default=0.0, show_default=True)
-@click.option("--kind", type=click.Choice(KINDS), default="generic", show_default=True)
+@click.option("--u-sample-g", type=click.FloatRange(min=0.0), default=0.0, show_default=True,
+              help="Standard uncertainty of the sample mass, g (k=1).")  # fmt: skip
+@click.option("--kind", type=click.Choice(KINDS), default="generic", show_default=True,
+              help="What is measured: sets the default threshold, band and safety checks.")  # fmt: skip
 @click.option(
     "--threshold",
     type=float,
@@ -198,7 +202,8 @@ def _quantity(value: float | None, u: float, unit: str) -> Input | None:
     show_default=True,
     help="Activation-energy constant Q = E/R, K, for equivalent age (cement).",
 )
-@click.option("--u-activation", type=click.FloatRange(min=0.0), default=0.0, show_default=True)
+@click.option("--u-activation", type=click.FloatRange(min=0.0), default=0.0, show_default=True,
+              help="Standard uncertainty of the activation energy / R, K (k=1).")  # fmt: skip
 @click.option(
     "--reference",
     type=float,
@@ -240,7 +245,7 @@ def profile(
     """Cumulative heat Q(t), rate P(t), metrics, safety flags (and maturity for cement) of a long
     run in FILE (CSV), or as a run file RUN.toml with a [profile] table describes it.
 
-    With a run file every setting comes from the file and the options above are not used.
+    With a run file every setting comes from the file and the options below are not used.
     """
     if file.lower().endswith(".toml"):
         spec = load_run(file)
