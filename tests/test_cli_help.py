@@ -36,7 +36,7 @@ def test_every_command_and_option_has_help():
 
 def test_help_that_points_to_options_points_the_right_way():
     # click lists a command's options after its description: "above" would send readers up
-    for path, command in _tree():
+    for path, _command in _tree():
         text = CliRunner().invoke(main, [*path, "--help"]).output
         assert "options above" not in text, " ".join(path)
 
