@@ -38,6 +38,10 @@ COMMANDS: dict[str, tuple[str, str]] = {
         "heatlog.cli.energetics:calibrate",
         "Find the calorimeter's own heat capacity (C_cal, J/K) with an uncertainty budget.",
     ),
+    "export": (
+        "heatlog.cli.export:export",
+        "Write results as CSV (units in the column names) for a spreadsheet.",
+    ),
     "hess": (
         "heatlog.cli.energetics:hess",
         "Predict a reaction's standard enthalpy (298.15 K) by Hess's law from the cited table.",
@@ -88,6 +92,14 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "runs": (
         "heatlog.cli.archive:runs",
         "Runs in the archive: import, list, show, export, reduce, re-reduce.",
+    ),
+    "box": (
+        "heatlog.cli.box:box",
+        "Characterise an insulated box: heat capacity C and heat-loss coefficient G.",
+    ),
+    "new": (
+        "heatlog.cli.new:new",
+        "Write a commented run-file template of KIND (cup, calibration, profile) to PATH.",
     ),
     "report": (
         "heatlog.cli.report:report",

@@ -29,6 +29,18 @@ def _h(seconds: float | None, u: float | None = None) -> str:
     return text if u is None else f"{text} ± {u / 3600.0:.2g} h"
 
 
+def _from_box(
+    path: Path, heat_capacity: float | None, loss: float | None
+) -> tuple[float, float, float, float]:
+    """C, u(C), G, u(G) from a box file (``--box``), which replaces --heat-capacity and --loss."""
+    from heatlog.boxfile import load_box
+
+    if heat_capacity is not None or loss is not None:
+        raise InputError("give --box or --heat-capacity/--loss, not both")
+    b = load_box(path)
+    return b.heat_capacity.value, b.heat_capacity.u, b.loss.value, b.loss.u
+
+
 def _text(result: ProfileResult, source: str) -> str:
     d = result.to_dict()
     s = result.settings
@@ -120,6 +132,8 @@ def _quantity(value: float | None, u: float, unit: str) -> Input | None:
 @click.option("--u-heat-capacity", type=click.FloatRange(min=0.0), default=0.0, show_default=True,
               help="Standard uncertainty of C, J/K (k=1).")  # fmt: skip
 @click.option("--loss", type=float, default=None, help="Heat-loss coefficient G, W/K.")
+@click.option("--box", "box_path", type=click.Path(dir_okay=False, path_type=Path), default=None,
+              help="Box file from `heatlog box fit`: C and G with their uncertainties.")  # fmt: skip
 @click.option("--u-loss", type=click.FloatRange(min=0.0), default=0.0, show_default=True,
               help="Standard uncertainty of G, W/K (k=1).")  # fmt: skip
 @click.option(
@@ -223,6 +237,7 @@ def profile(
     heat_capacity: float | None,
     u_heat_capacity: float,
     loss: float | None,
+    box_path: Path | None,
     u_loss: float,
     cooling_after: float | None,
     sample_g: float | None,
@@ -252,6 +267,8 @@ def profile(
         result = profile_run(spec)
         source = str(spec.log.file)
     else:
+        if box_path is not None:
+            heat_capacity, u_heat_capacity, loss, u_loss = _from_box(box_path, heat_capacity, loss)
         if heat_capacity is None:
             raise InputError(
                 "give the heat capacity of box, contents and sample (--heat-capacity J/K)"
