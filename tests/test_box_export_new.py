@@ -4,6 +4,7 @@ the simulator's hand-warmer scenario (the real firmware on a virtual board)."""
 
 import json
 import re
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -122,7 +123,7 @@ def test_export_profile_csv_has_units_and_matches_the_profile(heater_run, tmp_pa
     r = run("export", "profile", rf, "--json")
     assert r.exit_code == 0, r.output
     out = json.loads(r.output)["csv"]
-    lines = open(out, encoding="utf-8").read().splitlines()
+    lines = Path(out).read_text(encoding="utf-8").splitlines()
     header = next(line for line in lines if not line.startswith("#"))
     assert header.split(",")[:8] == [
         "time_s",
