@@ -216,7 +216,7 @@ def test_new_templates_filled_in_evaluate_on_the_demo(demo, tmp_path):
     assert report.exit_code == 0, report.output and (tmp_path / "cup.html").stat().st_size > 1000
 
 
-def _sim_csv(tmp_path, scn, hours, name):
+def _sim_csv(tmp_path, scn, hours, name, seed=3):
     """Log ``hours`` of scenario ``scn`` on a virtual board (the real firmware) and export it."""
     import datetime as dt
     from importlib import resources
@@ -228,7 +228,7 @@ def _sim_csv(tmp_path, scn, hours, name):
     from heatlog.sim import scenarios as sc
     from heatlog.sim.board import VirtualBoard
 
-    board = VirtualBoard(scn, tmp_path / f"flash-{name}", seed=3)
+    board = VirtualBoard(scn, tmp_path / f"flash-{name}", seed=seed)
     board.log_run(hours * 3600.0)
     points = Path(str(resources.files("heatlog") / "data" / "examples" / "ntc_10k_calibration.csv"))
     pts = read_columns(points, ["temp_C", "resistance_ohm"])
@@ -275,6 +275,9 @@ def test_box_fit_and_new_profile_on_the_hand_warmer_scenario(tmp_path):
     text = re.sub(r"(?m)^(u_)?(heat_capacity_J_per_K|loss_W_per_K) = .*\n", "", text)
     text = text.replace("[profile]\n", '[profile]\nbox = "box.toml"\n')
     text = text.replace("env_temp_C = 20.0", f"env_temp_C = {vessel.room_C}")
+    text = text.replace("# threshold_C = 40.0", "threshold_C = 40.0")
+    text = text.replace("# band_low_C = 37.0", "band_low_C = 37.0")
+    text = text.replace("# band_high_C = 50.0", "band_high_C = 50.0")
     (tmp_path / "warmer.toml").write_text(text, encoding="utf-8")
     p = run("profile", tmp_path / "warmer.toml", "--json")
     assert p.exit_code == 0, p.output
@@ -285,3 +288,33 @@ def test_box_fit_and_new_profile_on_the_hand_warmer_scenario(tmp_path):
     assert exported.exit_code == 0, exported.output
     report = run("report", tmp_path / "warmer.toml", "--out", tmp_path / "warmer.html")
     assert report.exit_code == 0, report.output
+    html = (tmp_path / "warmer.html").read_text(encoding="utf-8")
+    # the profile report carries what `heatlog profile` prints, and a temperature plot
+    assert 'id="fig-profile-temperature"' in html
+    for words in (
+        "threshold 40 °C",
+        "time within 37–50 °C",
+        "heat-loss coefficient G",
+        "heat capacity C",
+    ):
+        assert words in html, words
+    if d["metrics"]["time_to_threshold_s"] is not None:
+        hours = f"{d['metrics']['time_to_threshold_s'] / 3600:.3g} h"
+        assert f"reached after {hours}" in html
+
+    # a second pouch (another seed of the invented scenario) compared with the first
+    csv2, _, _ = _sim_csv(tmp_path, warmer, 6.0, "warmer2", seed=4)
+    second = tmp_path / "warmer2.toml"
+    second.write_text(
+        text.replace(csv.as_posix(), csv2.as_posix()).replace(
+            "title = ", 'title = "second pouch" #'
+        ),
+        encoding="utf-8",
+    )
+    cmp = run("compare", tmp_path / "warmer.toml", second, "--out", tmp_path / "cmp.html", "--json")
+    assert cmp.exit_code == 0, cmp.output
+    got = json.loads(cmp.output)
+    assert [r["label"] for r in got["runs"]][1] == "second pouch"
+    assert all("Q per gram" in r["figures"] for r in got["runs"])
+    page = (tmp_path / "cmp.html").read_text(encoding="utf-8")
+    assert "data:image/png;base64," in page and "second pouch" in page and "k=1" in page

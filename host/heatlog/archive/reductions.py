@@ -25,7 +25,7 @@ import numpy as np
 from heatlog import __version__
 from heatlog.archive.calibrations import Calibration, applicable, calibration
 from heatlog.archive.db import Archive, utc_now
-from heatlog.archive.runs import RunRecord, raw_bytes, run_record
+from heatlog.archive.runs import RunRecord, raw_bytes, raw_file, run_record
 from heatlog.errors import CalibrationError, HeatlogError, InputError
 from heatlog.logformat import RunLog, decode
 from heatlog.plainjson import jsonable
@@ -102,7 +102,7 @@ def _evaluate_run_file(ctx: _Context, run: RunRecord, options: Mapping[str, Any]
     spec = parse_run(tomllib.loads(run.run_file_text), Path(run.run_file_path))
     spec = dataclasses.replace(
         spec,
-        log=dataclasses.replace(spec.log, file=Path(run.raw_path)),
+        log=dataclasses.replace(spec.log, file=raw_file(run)),
         reduce={**spec.reduce, **options},
     )
     raw_bytes(run)  # verify the log CSV before reading it

@@ -46,6 +46,10 @@ COMMANDS: dict[str, tuple[str, str]] = {
         "heatlog.cli.energetics:hess",
         "Predict a reaction's standard enthalpy (298.15 K) by Hess's law from the cited table.",
     ),
+    "compare": (
+        "heatlog.cli.compare:compare",
+        "Compare several runs in one HTML page: an overlay plot and a table of key figures.",
+    ),
     "demo": (
         "heatlog.cli.demo:demo",
         "Simulate a board, pull its runs and measure a dissolution enthalpy (invented data).",
