@@ -318,3 +318,36 @@ def test_box_fit_and_new_profile_on_the_hand_warmer_scenario(tmp_path):
     assert all("Q per gram" in r["figures"] for r in got["runs"])
     page = (tmp_path / "cmp.html").read_text(encoding="utf-8")
     assert "data:image/png;base64," in page and "second pouch" in page and "k=1" in page
+
+
+@pytest.mark.parametrize(
+    ("profile_table", "fragment"),
+    [
+        ('box = "missing.toml"\nenv_temp_C = 21.0\n', "no such box file"),
+        ('box = "box.toml"\nheat_capacity_J_per_K = 5.0\nenv_temp_C = 21.0\n', "not both"),
+        ("box = 3\nenv_temp_C = 21.0\n", "expected a file name"),
+    ],
+)
+def test_a_bad_box_reference_in_a_run_file_is_one_line(tmp_path, profile_table, fragment):
+    (tmp_path / "box.toml").write_text(
+        "heat_capacity_J_per_K = 500.0\nu_heat_capacity_J_per_K = 5.0\nloss_W_per_K = 0.1\n"
+        'u_loss_W_per_K = 0.002\nmethod = "heating-curve fit"\n',
+        encoding="utf-8",
+    )
+    rf = tmp_path / "run.toml"
+    rf.write_text('[log]\nfile = "run.csv"\n[profile]\n' + profile_table, encoding="utf-8")
+    for args in (["profile", rf], ["export", "profile", rf], ["report", rf]):
+        r = run(*args)
+        assert r.exit_code == 2, r.output
+        assert r.output.startswith("Error: ") and fragment in r.output, r.output
+
+
+def test_export_refuses_what_it_cannot_export(tmp_path):
+    cup = tmp_path / "cup.toml"
+    cup.write_text('[log]\nfile = "run.csv"\n', encoding="utf-8")
+    r = run("export", "profile", cup)
+    assert r.exit_code == 2 and "[profile]" in r.output
+    r = run("export", "profile", tmp_path / "log.csv")
+    assert r.exit_code == 2 and "run file" in r.output
+    r = run("export", "thermogram", tmp_path / "missing.csv", "--json")
+    assert r.exit_code == 2 and json.loads(r.output)["kind"] == "InputError"
