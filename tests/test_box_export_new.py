@@ -48,6 +48,8 @@ def test_box_fit_from_a_heater_run_covers_the_truth(heater_run, tmp_path):
         assert u > 0 and abs(value - true) <= 2 * u, (value, u, true)
         assert value == pytest.approx(true, rel=0.02)
     assert d["method"] == "heating-curve fit" and -1 <= d["correlation_C_G"] <= 1
+    # the profile treats C and G as independent: a correlated pair is said so
+    assert any("correlated" in n for n in d["notes"]) == (abs(d["correlation_C_G"]) > 0.3)
     text = run("box", "fit", heater_run, "--power", 2.0, "--u-power", 0.01, "--on", 0,
                "--off", 3 * 3600, "--env-temp", 21.0, "--out", tmp_path / "b2.toml").output  # fmt: skip
     assert "(u, k=1)" in text and "Caution" in text and "profile --box" in text

@@ -165,7 +165,18 @@ def fit(
         target.write_text(box_to_toml(box_file), encoding="utf-8")
     except OSError as exc:
         raise InputError(f"{target}: cannot write ({exc.strerror})") from None
-    payload = {**box_file.to_dict(), **result, "box_file": str(target), "note": NOTE_LOAD,
+    notes = [NOTE_LOAD]
+    if corr is not None and abs(corr) > 0.3:
+        # Q = C·ΔT + G·∫(T − T_env)dt: var = a² + b² + 2r·a·b ≤ (1 + r)(a² + b²)
+        notes.append(
+            f"C and G are correlated (r = {corr:+.2f}); `heatlog profile` treats them as "
+            + (
+                f"independent, so its u(Q) may be understated by up to a factor {math.sqrt(1 + corr):.2f}"
+                if corr > 0
+                else "independent, so its u(Q) is, if anything, overstated"
+            )
+        )
+    payload = {**box_file.to_dict(), **result, "box_file": str(target), "notes": notes,
                "caution": CAUTION}  # fmt: skip
 
     def text() -> str:
@@ -178,7 +189,7 @@ def fit(
         if corr is not None:
             lines.append(f"  correlation of C and G from the fit: {corr:+.2f}")
         lines += [f"box file written to {target}; use it with `heatlog profile --box {target}`"
-                  " or [profile] box = \"...\" in a run file", NOTE_LOAD, CAUTION]  # fmt: skip
+                  " or [profile] box = \"...\" in a run file", *notes, CAUTION]  # fmt: skip
         return "\n".join(lines)
 
     emit(as_json, payload, text)
