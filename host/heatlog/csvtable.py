@@ -25,11 +25,16 @@ Source = str | os.PathLike[str] | io.TextIOBase
 _HEAD_CHARS = 1 << 16
 
 
-def _read_header(text_head: str, where: str) -> tuple[list[str], str]:
+def _read_header(
+    text_head: str, where: str, wanted: Sequence[str], optional: Sequence[str] = ()
+) -> tuple[list[str], str]:
     first = text_head.splitlines()[0] if text_head.strip() else ""
     if not first.strip():
         raise InputError(
-            f"{where}: the file is empty; expected a header row such as 'time_s,temp_C'"
+            f"{where}: the file is empty; expected a header row naming the columns "
+            f"{','.join(wanted)}"
+            + (f" (and, as needed, {', '.join(optional)})" if optional else "")
+            + ", then one row of numbers per line"
         )
     try:
         dialect = csv.Sniffer().sniff(first, delimiters=",;\t")
@@ -133,7 +138,7 @@ def read_columns(
     body = text[pos:]
     if "\r" in body[:4096]:
         body = body.replace("\r\n", "\n").replace("\r", "\n")
-    names, delimiter = _read_header(body[:65536], where)
+    names, delimiter = _read_header(body[:65536], where, columns, optional)
     lookup = {name.lower(): i for i, name in enumerate(names)}
 
     missing = [c for c in columns if c.lower() not in lookup]

@@ -14,7 +14,6 @@ from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy import stats
 
 SQRT3 = math.sqrt(3.0)
 SQRT12 = math.sqrt(12.0)
@@ -83,12 +82,12 @@ class Budget:
 
     def coverage_factor(self, p: float = 0.9545) -> float:
         """Student-t coverage factor for ν_eff at coverage probability ``p`` (JCGM 100, G.3)."""
+        # scipy.special's quantiles (what scipy.stats.norm/t.ppf call), imported here: importing
+        # scipy.stats costs about a second at start-up.
+        from scipy.special import ndtri, stdtrit
+
         nu = self.dof
-        return (
-            float(stats.norm.ppf(0.5 + p / 2))
-            if math.isinf(nu)
-            else float(stats.t.ppf(0.5 + p / 2, nu))
-        )
+        return float(ndtri(0.5 + p / 2)) if math.isinf(nu) else float(stdtrit(nu, 0.5 + p / 2))
 
     def shares(self) -> list[float]:
         """Each component's share of the combined variance, in percent."""

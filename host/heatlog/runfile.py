@@ -31,6 +31,7 @@ RUN.toml`` evaluates it. The layout, with every key optional unless marked::
                                  # refers to the final temperature) or "final" (the initial one)
     delta_cp_J_per_mol_K = -150.0  u_delta_cp_J_per_mol_K = 20.0   # ΔrCp: ΔH moved to 25 °C
     [profile]                    # a long run: heat-release profile (``heatlog profile RUN.toml``)
+    box = "box.toml"             # C and G from ``heatlog box fit`` (boxfile.py), or:
     heat_capacity_J_per_K = 2500.0  u_heat_capacity_J_per_K = 50.0     # box + contents + sample
     loss_W_per_K = 0.03  u_loss_W_per_K = 0.002    # or: cooling_fit_after_s = 200000.0
     env_col = "env_C"            # or: env_temp_C = 20.0; u_env_temp_K = 0.5
@@ -165,6 +166,20 @@ def _path(base: Path, value: Any, where: str) -> Path:
     return resolve_stored(value, base)  # either separator, on any system (storedpath.py)
 
 
+def _with_box(table: Mapping[str, Any], base: Path, where: str) -> Mapping[str, Any]:
+    """A ``[profile]`` table with ``box = "box.toml"`` replaced by the box file's C and G."""
+    if "box" not in table:
+        return table
+    from heatlog.boxfile import load_box
+
+    given = [k for k in ("heat_capacity_J_per_K", "loss_W_per_K") if k in table]
+    if given:
+        raise InputError(f"{where} [profile]: give box or {' and '.join(given)}, not both")
+    merged = {k: v for k, v in table.items() if k != "box"}
+    merged.update(load_box(_path(base, table["box"], where)).profile_keys())
+    return merged
+
+
 def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
     """Check a run file's parsed TOML and turn it into a :class:`RunSpec` (no file access)."""
     where = str(path)
@@ -259,7 +274,7 @@ def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
             f"{where}: [calorimeter] needs heat_capacity_J_per_K or calibrations to turn ΔT into heat"
         )
     profile, profile_columns = (
-        settings_from_table(_table(doc, "profile", where), where)
+        settings_from_table(_with_box(_table(doc, "profile", where), base, where), where)
         if "profile" in doc
         else (None, {})
     )

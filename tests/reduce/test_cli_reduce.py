@@ -128,4 +128,5 @@ def test_event_too_close_to_an_end(tmp_path, start, fragment):
     )
     r = CliRunner().invoke(main, ["reduce", str(_csv(tmp_path, run)), "--json"])
     assert r.exit_code == 2
-    assert r.output.startswith("Error: ") and fragment in r.output
+    error = json.loads(r.output)  # with --json the error is one JSON object
+    assert error["kind"] == "ReductionError" and fragment in error["error"]

@@ -32,6 +32,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+from heatlog.archive import rawstore
 from heatlog.archive.calibrations import add_calibration_text
 from heatlog.archive.db import Archive, open_archive, utc_now
 from heatlog.archive.rawfiles import ChecksumMismatch, read_bytes, read_verified, sha256_bytes
@@ -194,6 +195,7 @@ def record_pulled_run(
                     f"board {header.board_id} run {header.run}; pull the run again"
                 )
         log = decode(data)  # before the transaction: the write lock is held only to insert
+        rawstore.keep(archive.path, data, sha256.lower())
         with archive.transaction() as conn:
             return _record_device_log(
                 conn, path, log, len(data), sha256.lower(), run_date, "pull", archive_dir(archive)
@@ -210,9 +212,11 @@ def import_device_log(
     p = Path(path).resolve()
     data = read_bytes(p, "run log")
     log = decode(data)  # LogCorrupt for an unusable header; damaged blocks are counted
+    digest = sha256_bytes(data)
+    rawstore.keep(archive.path, data, digest)
     with archive.transaction() as conn:
         return _record_device_log(
-            conn, p, log, len(data), sha256_bytes(data), run_date, "file", archive_dir(archive)
+            conn, p, log, len(data), digest, run_date, "file", archive_dir(archive)
         )
 
 
@@ -235,6 +239,7 @@ def _record_run_file(
     log_path = spec.log.file.resolve()
     log_bytes = read_bytes(log_path, "log CSV")
     log_sha = sha256_bytes(log_bytes)
+    rawstore.keep(archive.path, log_bytes, log_sha)
     run_sha = sha256_bytes(raw)
     identity = f"run-file:{run_sha}:{log_sha}"
     old = _existing(conn, identity)
@@ -334,6 +339,7 @@ class RunRecord:
     imported_at: str
     channels: tuple[dict[str, Any], ...]
     dependencies: tuple[int, ...]
+    archive_copy: str | None = None  # the archive's own copy (rawstore), when it holds one
 
     def to_dict(self, with_text: bool = True) -> dict[str, Any]:
         out = dict(self.__dict__)
@@ -391,12 +397,23 @@ def run_record(archive: Archive, run_id: int) -> RunRecord:
         imported_at=row["imported_at"],
         channels=channels,
         dependencies=deps,
+        archive_copy=None
+        if (copy := rawstore.stored(archive.path, row["raw_sha256"])) is None
+        else str(copy),
     )
+
+
+def raw_file(run: RunRecord) -> Path:
+    """Where the run's raw bytes are read from: the original file while it is there, else the
+    archive's own copy (so a moved project folder does not orphan its runs)."""
+    if run.archive_copy is not None and not Path(run.raw_path).is_file():
+        return Path(run.archive_copy)
+    return Path(run.raw_path)
 
 
 def raw_bytes(run: RunRecord) -> bytes:
     """The run's raw file, verified against its recorded SHA-256 (ChecksumMismatch if not)."""
-    return read_verified(run.raw_path, run.raw_sha256)
+    return read_verified(raw_file(run), run.raw_sha256)
 
 
 def list_runs(archive: Archive, probe_id: str | None = None) -> list[dict[str, Any]]:

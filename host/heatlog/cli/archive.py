@@ -224,7 +224,8 @@ def runs_export(
 
 @runs.command("reduce")
 @click.argument("run_id", type=int)
-@click.option("--channel", type=click.IntRange(min=0), default=0, show_default=True)
+@click.option("--channel", type=click.IntRange(min=0), default=0, show_default=True,
+              help="Logged channel to reduce (0 = first).")  # fmt: skip
 @click.option("--method", type=click.Choice(["auto", *METHODS]), default=None,
               help="Correction method (default: the run file's, else auto).")  # fmt: skip
 @click.option("--event", type=click.IntRange(min=0), default=None, help="Which event (0 = first).")

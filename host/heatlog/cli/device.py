@@ -268,6 +268,26 @@ def erase_cmd(port: str, baud: int, timeout: float, out: Path, run: int, as_json
 erase_cmd.name = "erase"
 
 
+def uncalibrated_notices(channels: list[dict[str, Any]], probes: Path | None) -> list[str]:
+    """One line per channel whose readings are shown raw (no probe file for its probe id)."""
+    notices = []
+    for i, ch in enumerate(channels):
+        if ch["calibrated"]:
+            continue
+        pid = ch["probe_id"] or "(none)"
+        if probes is None:
+            why = "no --probes folder given"
+        else:
+            from heatlog.device.archive import safe_name
+
+            why = f"no probe file {safe_name(pid, limit=64)}.toml in {probes}"
+        notices.append(
+            f"channel {i} (probe id {pid}) is shown UNCALIBRATED, as raw readings: {why}; "
+            "fit one with `heatlog probe fit ... --out DIR/<probe id>.toml`"
+        )
+    return notices
+
+
 @click.command("watch")
 @_with_board
 @click.option("--probes", type=click.Path(file_okay=False, exists=True, path_type=Path), default=None,
@@ -325,6 +345,12 @@ def watch(
             raise click.BadParameter(
                 f"the board has {len(dec.channels)} channel(s)", param_hint="--channel"
             )
+        notices = uncalibrated_notices(dec.channels_meta(), probes)
+        if live_guide is not None and not dec.channels_meta()[channel]["calibrated"]:
+            b.stream(False)
+            raise click.UsageError(f"--guide cannot follow channel {channel}: {notices[0]}")
+        for notice in notices:
+            click.echo(f"notice: {notice}", err=True)
         try:
             end = float("inf") if seconds is None else seconds
             for record in b.live_records(end):
@@ -339,9 +365,9 @@ def watch(
                 elif r["temp_C"][channel] is not None:
                     state = live_guide.feed(r["offset_s"], r["temp_C"][channel])
                     for key, value, words in (
-                        ("start_s", state.start_signal_s, "STABLE — start now"),
-                        ("event_s", state.event_s, "event detected"),
-                        ("enough_s", state.enough_signal_s, "ENOUGH after-period — you may stop"),
+                        ("start_s", state.start_signal_s, "STABLE"),
+                        ("event_s", state.event_s, "EVENT"),
+                        ("enough_s", state.enough_signal_s, "ENOUGH"),
                     ):
                         if value is not None and signals[key] is None:
                             signals[key] = value
@@ -358,6 +384,7 @@ def watch(
         finally:
             b.stream(False)
     payload: dict[str, Any] = {"readings": readings, "channels": dec.channels_meta()}
+    payload["notices"] = notices
     if live_guide is not None:
         payload["guide"] = {"signals": signals, "state": live_guide.state.to_dict()}
         if save is not None:

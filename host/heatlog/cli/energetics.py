@@ -161,6 +161,46 @@ def calibrate() -> None:
     """Find the calorimeter's own heat capacity (C_cal, J/K) with an uncertainty budget."""
 
 
+def _electrical_missing(
+    voltage, u_voltage, current, u_current, power, u_power, power_log, u_power_rel,
+    seconds, t_on, t_off, u_seconds, delta_t, u_delta_t, reduce_json, solute, molality, cp, u_cp,
+) -> list[str]:  # fmt: skip
+    """Every input `calibrate electrical` still needs, so one error lists them all."""
+    missing: list[str] = []
+    if voltage is None and power is None and power_log is None:
+        missing.append("the heater energy: --voltage and --current, or --power, or --power-log")
+    if power_log is not None:
+        if u_power_rel is None:
+            missing.append("--u-power-rel (relative standard uncertainty of the logged power)")
+    else:
+        if seconds is None and (t_on is None or t_off is None):
+            missing.append("--seconds, or both --on and --off (the heating time)")
+        if u_seconds is None:
+            missing.append("--u-seconds (standard uncertainty of the heating time)")
+        if voltage is not None:
+            missing += [
+                f"{name} ({what})"
+                for name, value, what in (
+                    ("--current", current, "heater current, A"),
+                    ("--u-voltage", u_voltage, "standard uncertainty of the voltage"),
+                    ("--u-current", u_current, "standard uncertainty of the current"),
+                )
+                if value is None
+            ]
+        if power is not None and u_power is None:
+            missing.append("--u-power (standard uncertainty of the power)")
+    if reduce_json is None:
+        if delta_t is None:
+            missing.append("--delta-t (or --reduce-json FILE)")
+        if u_delta_t is None:
+            missing.append("--u-delta-t (standard uncertainty of ΔT)")
+    if cp is not None and u_cp is None:
+        missing.append("--u-cp (standard uncertainty of --cp)")
+    if solute is not None and cp is None and molality is None:
+        missing.append("--molality (mol per kg of water, for --solute)")
+    return missing
+
+
 @calibrate.command("electrical")
 @click.option("--voltage", type=_number, default=None, help="Heater voltage, V (4-wire sense).")
 @click.option("--u-voltage", type=_number, default=None, help="Standard uncertainty, V.")
@@ -201,8 +241,15 @@ def electrical(
     from heatlog.energetics.calorimeter import logged_energy
 
     ways = sum(x is not None for x in (voltage, power, power_log))
-    if ways != 1:
+    if ways > 1:
         raise InputError("give exactly one of --voltage/--current, --power or --power-log")
+    missing = _electrical_missing(
+        voltage, u_voltage, current, u_current, power, u_power, power_log, u_power_rel,
+        seconds, t_on, t_off, u_seconds, delta_t, u_delta_t, reduce_json, solute, molality, cp,
+        u_cp,
+    )  # fmt: skip
+    if missing:
+        raise InputError("missing input(s), all at once: " + "; ".join(missing))
     if power_log is not None:
         from heatlog.csvtable import read_columns
 

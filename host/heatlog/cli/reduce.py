@@ -2,13 +2,17 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import click
 
 from heatlog.cli.output import emit, json_option
 from heatlog.gum import Budget
 from heatlog.reduce import METHODS, Reduction, reduce_thermogram
-from heatlog.runfile import RunResult, run_file
 from heatlog.thermogram import read_thermogram_csv
+
+if TYPE_CHECKING:
+    from heatlog.runfile import RunResult
 
 CAUTION = (
     "Caution: hot liquids, acids/bases, heaters and cold packs can injure; follow the safety data "
@@ -127,7 +131,11 @@ def reduce(
     settings then replace the options here.
     """
     if file.lower().endswith(".toml"):
-        result = run_file(file)
+        from heatlog.cli.hints import run_file_hints
+        from heatlog.runfile import run_file  # energetics, probes, profile: only for run files
+
+        with run_file_hints(file):
+            result = run_file(file)
         payload = result.to_dict()
         payload["file"] = file
         payload["caution"] = CAUTION

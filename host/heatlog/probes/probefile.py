@@ -42,7 +42,16 @@ from heatlog.errors import CalibrationError, HeatlogError
 from heatlog.probes.fitting import CalibrationFit
 from heatlog.probes.models import MODEL_KINDS, MODEL_NAMES, ProbeModel, build_model
 
-_ID = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.\-]{0,63}$")
+# Letters and digits of any script (\w on str), then also '.', '_' or '-'.
+_ID = re.compile(r"^[^\W_][\w.\-]{0,63}$")
+ID_RULE = "1–64 letters (any alphabet), digits, '.', '_' or '-', starting with a letter or digit"
+
+
+def valid_probe_id(text: object) -> bool:
+    """Whether ``text`` can be a probe id (:data:`ID_RULE`)."""
+    return isinstance(text, str) and _ID.fullmatch(text) is not None
+
+
 _REQUIRED = (
     "id",
     "kind",
@@ -178,10 +187,8 @@ def parse_probe(text: str, where: str = "probe file") -> ProbeFile:
     if unknown:
         raise CalibrationError(f"{where}: unknown key(s) {', '.join(unknown)}")
     probe_id = doc["id"]
-    if not isinstance(probe_id, str) or not _ID.match(probe_id):
-        raise CalibrationError(
-            f"{where}: id must be 1–64 letters, digits, '.', '_' or '-', got {probe_id!r}"
-        )
+    if not valid_probe_id(probe_id):
+        raise CalibrationError(f"{where}: id must be {ID_RULE}, got {probe_id!r}")
     name = doc["model"]
     if name not in MODEL_NAMES:
         raise CalibrationError(

@@ -33,7 +33,8 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.signal import savgol_filter
+
+from heatlog.smoothing import savgol_filter  # scipy.signal costs ~0.6 s to import
 
 MIN_PERIOD_S = 120.0
 MIN_PERIOD_POINTS = 12
@@ -132,8 +133,8 @@ def rate_residual(t: np.ndarray, y: np.ndarray, resolution_K: float = 0.0) -> Ra
     win = max(5, min(win, (n - 1) | 1 if n % 2 == 0 else n))
     if win > n:
         win = n if n % 2 == 1 else n - 1
-    d = savgol_filter(yg, win, 2, deriv=1, delta=h, mode="interp")
-    ys = savgol_filter(yg, win, 2, mode="interp")
+    d = savgol_filter(yg, win, 2, deriv=1, delta=h)
+    ys = savgol_filter(yg, win, 2)
     # no finer rate is real: 1e-5 of the largest, and a reading step q moves the slope over the
     # window by about q/W
     floor = max(1e-12 + 1e-5 * float(np.max(np.abs(d))), resolution_K / (win * h))

@@ -178,6 +178,15 @@ def _one_pass(t, y, lo, t0, ta, hi, drift_model: str) -> _Pass:
     return _Pass(choice, values, mp.t, bf, ba)
 
 
+def _pair(a: float, b: float) -> str:
+    """``"a K vs b K"`` with just enough digits that two different values never read alike."""
+    for digits in range(2, 7):
+        left, right = f"{a:.{digits}g}", f"{b:.{digits}g}"
+        if left != right or a == b:
+            break
+    return f"{left} K vs {right} K"
+
+
 def reduce_thermogram(
     thermogram: Thermogram,
     *,
@@ -359,12 +368,12 @@ def reduce_thermogram(
             chosen = "newton"
             reason = (
                 f"the Newton-model fit matches the main period within the noise and is more "
-                f"precise (u {u_nt:.2g} K vs {u_rp:.2g} K for Regnault–Pfaundler)"
+                f"precise (u {_pair(u_nt, u_rp)} for Regnault–Pfaundler)"
             )
         else:
             chosen = "regnault-pfaundler"
             reason = "Regnault–Pfaundler needs only Newtonian exchange; " + (
-                f"it is at least as precise as the Newton fit (u {u_rp:.2g} K vs {u_nt:.2g} K)"
+                f"it is at least as precise as the Newton fit (u {_pair(u_rp, u_nt)})"
                 if newton_ok
                 else "the Newton-model fit does not match the main period within the noise"
             )

@@ -9,7 +9,7 @@ draws the curve and the state as plain text. :meth:`LiveGuide.csv_text` is the r
 Phases and the criteria behind each signal (thresholds are options; the defaults are common
 practice, no source):
 
-1. ``settling`` → ``stable`` ("stable — start now"). Over the last ``window_s`` seconds (default
+1. ``settling`` → ``stable`` ("fore-period steady, start now"). Over the last ``window_s`` seconds (default
    180 s) a straight line is fitted to the readings. The fore-period is stable when the window is
    full, the residual standard deviation (noise) is at most ``max_noise_K`` (default 5 mK), the
    drift rate is below ``max_drift_K_per_min`` (default 50 mK/min) *with its uncertainty*:
@@ -28,7 +28,7 @@ practice, no source):
    reduced with :func:`heatlog.reduce.reduce_thermogram` (the detected event nearest the
    guide's is reduced); the running ΔT and u(ΔT) are reported once the reduction finds an
    after-period.
-4. ``after`` → ``enough`` ("enough after-period — you may stop"): the after-period found by the
+4. ``after`` → ``enough`` ("you may stop"): the after-period found by the
    reduction has lasted ``min_after_s`` (default 300 s), u(ΔT) ≤ ``target_u_K`` (default 5 mK),
    and the estimate has settled: it moved by no more than u(ΔT) since the previous reduction.
 """
@@ -187,7 +187,7 @@ class LiveGuide:
                         phase="event",
                         event_s=self._departures[0],
                         stable=False,
-                        message=f"event at {self._departures[0]:.0f} s: the release is under "
+                        message=f"at {self._departures[0]:.0f} s: the release is under "
                         "way; keep logging",
                     )
                 return s
@@ -197,7 +197,7 @@ class LiveGuide:
             have = t[-1] - t[0] if t.size else 0.0
             return replace(
                 s,
-                message=f"settling: {have:.0f} of {o.window_s:.0f} s of fore-period readings",
+                message=f"{have:.0f} of {o.window_s:.0f} s of fore-period readings so far",
             )
         a, b, u_b, sigma, tm = _line(t, y)
         drift, u_drift = 60.0 * b, 60.0 * u_b
@@ -225,7 +225,7 @@ class LiveGuide:
                 s,
                 phase="event",
                 event_s=self._departures[0],
-                message=f"event at {self._departures[0]:.0f} s, before the fore-period was "
+                message=f"at {self._departures[0]:.0f} s, before the fore-period was "
                 "stable: the correction will be less certain; keep logging",
             )
         s = replace(
@@ -247,8 +247,8 @@ class LiveGuide:
                 s,
                 phase="stable",
                 start_signal_s=t_now if first else s.start_signal_s,
-                message=f"stable — start now (drift {drift * 1e3:+.2f}, u = {u_drift * 1e3:.2f} (k=1) "
-                f"mK/min, noise {sigma * 1e3:.2f} mK)",
+                message=f"fore-period steady, start now (drift {drift * 1e3:+.2f} ± {u_drift * 1e3:.2f} "
+                f"mK/min (u, k=1), noise {sigma * 1e3:.2f} mK)",
             )
         why = []
         if abs(drift) + 2.0 * u_drift > o.max_drift_K_per_min:
@@ -262,7 +262,7 @@ class LiveGuide:
         if s.phase == "stable":
             # keep the last stable line for event detection; say the drift has changed
             return replace(s, message="fore-period no longer steady (" + ", ".join(why) + "): wait")
-        return replace(s, message="settling: " + ", ".join(why) + " too large")
+        return replace(s, message=", ".join(why) + " too large: wait")
 
     def _early_event(self) -> bool:
         """A release started while still settling. Reference: a line through the window's
@@ -334,7 +334,7 @@ class LiveGuide:
         )
         head = f"ΔT = {red.delta_t_K:+.4f} K, u = {red.u_delta_t_K * 1e3:.2g} mK ({red.method})"
         if s.enough:
-            return replace(s, message=f"{head}: enough after-period — you may stop")
+            return replace(s, message=f"{head}: you may stop")
         return replace(s, message=f"{head}: after-period {after_len:.0f} s; keep logging")
 
     # ----- output ---------------------------------------------------------------------------
