@@ -19,8 +19,12 @@ from typing import Any
 
 import numpy as np
 
-from heatlog.csvtable import read_columns
+from heatlog.csvtable import read_table
 from heatlog.errors import InputError
+from heatlog.inputgate import gate_series
+
+#: Columns read, when present, as probe-fault flags (non-zero = fault) for a thermogram CSV.
+FLAG_COLUMNS = ("flags", "flag", "status", "fault")
 
 #: Fewest rows a thermogram may have: fore-period, main period and after-period need a few each.
 MIN_ROWS = 8
@@ -175,12 +179,43 @@ def read_thermogram_csv(
     p = Path(path)
     if iso_time:
         cols = _read_iso_time(p, time_col, temp_col, channels)
+        table = None
     else:
-        cols = read_columns(p, [time_col, temp_col, *channels], what="thermogram")
+        table = read_table(
+            p,
+            [time_col, temp_col, *channels],
+            optional=[c for c in FLAG_COLUMNS if c not in (time_col, temp_col, *channels)],
+            what="thermogram",
+            clock_col=time_col,
+        )
+        cols = table.columns
     lookup = {k.lower(): v for k, v in cols.items()}
-    return Thermogram(
-        time_s=lookup[time_col.lower()],
-        temp_C=lookup[temp_col.lower()],
+    units = {} if table is None else {k.lower(): v for k, v in table.units.items()}
+    flag_col = next((c for c in FLAG_COLUMNS if c in lookup), None) if table else None
+    gated = gate_series(
+        lookup[time_col.lower()],
+        lookup[temp_col.lower()],
+        where=str(p),
+        kind="thermogram",
+        time_name=time_col,
+        temp_name=temp_col,
+        time_unit=units.get(time_col.lower(), ""),
+        temp_unit=units.get(temp_col.lower(), ""),
+        lines=None if table is None else table.line_numbers,
         channels={c: lookup[c.lower()] for c in channels},
-        metadata={"source": str(p), "time_col": time_col, "temp_col": temp_col},
+        channel_units={c: units.get(c.lower(), "") for c in channels},
+        temperature_channels=[c for c in channels if c.lower().endswith(("_c", "temp"))],
+        flags=None if flag_col is None else lookup[flag_col],
+        notes=() if table is None else table.notes,
+    )
+    return Thermogram(
+        time_s=gated.time_s,
+        temp_C=gated.temp_C,
+        channels=gated.channels,
+        metadata={
+            "source": str(p),
+            "time_col": time_col,
+            "temp_col": temp_col,
+            "findings": gated.findings,
+        },
     )
