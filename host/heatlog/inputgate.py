@@ -638,3 +638,31 @@ def findings_of(*sources: Any) -> tuple[Finding, ...]:
 def findings_text(findings: Sequence[Finding]) -> list[str]:
     """One printed line per finding (empty when the input was clean)."""
     return [f"input check: {f.text()}" for f in findings]
+
+
+def check_constant(value: float, u: float, where: str, *, allow_negative: bool = False) -> Finding | None:
+    """A calorimeter constant C_cal must be positive (a calorimeter cannot have a negative heat
+    capacity). Significantly negative (below zero by more than U(k=2)) is refused unless
+    ``allow_negative``; negative within U(k=2) is flagged (a vessel with a very small C_cal,
+    such as a foam cup, can come out so)."""
+    if not value < 0:
+        return None
+    why = (
+        "a calorimeter cannot have a negative heat capacity; probably ΔT has the wrong sign or "
+        "belongs to another event, the heat or the contents' mass or c_p are off, or a "
+        "calibration and a measuring run were swapped"
+    )
+    if value + 2.0 * u < 0 and not allow_negative:
+        refuse(
+            where,
+            "negative-constant",
+            f"C_cal = {value:.4g} J/K, u = {u:.2g} J/K (k=1): {why}",
+            "check those, or pass --allow-negative to print it anyway",
+        )
+    return Finding(
+        "negative-constant",
+        "flag",
+        f"C_cal = {value:.4g} J/K, u = {u:.2g} J/K (k=1) is negative"
+        + (" (allowed on request)" if value + 2.0 * u < 0 else ", though within U(k=2) of zero"),
+        why if value + 2.0 * u < 0 else "a very small vessel constant; treat the result with care",
+    )

@@ -1,0 +1,169 @@
+"""A run file checked as a whole before any of it is used: names, kinds and physical bounds.
+
+:func:`check_run_document` is the run-file side of the input gate (:mod:`heatlog.inputgate`):
+every table and key must be one heatlog knows (a misspelt ``[sampel]`` or ``tempcol`` would
+otherwise be ignored and a result silently lose its meaning), and the closest known name is
+offered; every number must be finite and inside physical bounds (masses, heat capacities,
+powers, times positive; uncertainties not negative; nothing so large that arithmetic on it
+overflows). :func:`check_run_kind` checks that a run file named as a calibration is one, and
+:func:`refuse_profile_for_reduce` sends a long-run file to ``heatlog profile``. Pure: the parsed
+TOML in, one :class:`~heatlog.errors.InputError` line out.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+from collections.abc import Iterable, Mapping
+from typing import Any
+
+from heatlog.errors import InputError
+
+#: Top-level keys and tables of a run file, and the keys of each table. ``[profile]`` keys are
+#: checked by :func:`heatlog.profile.analysis.settings_from_table` (read from there, so the two
+#: cannot drift apart); ``[reduce]`` keys by :mod:`heatlog.runfile`.
+TOP_LEVEL = {"title", "notes", "log", "reduce", "calorimeter", "contents", "electrical", "sample", "profile"}
+TABLE_KEYS: dict[str, set[str]] = {
+    "log": {"file", "time_col", "temp_col", "raw_col", "chain", "probe"},
+    "calorimeter": {"heat_capacity_J_per_K", "u_heat_capacity_J_per_K", "calibrations"},
+    "contents": {"name", "mass_g", "u_mass_g", "cp", "u_cp"},
+    "electrical": {
+        "power_W",
+        "u_power_W",
+        "voltage_V",
+        "u_voltage_V",
+        "current_A",
+        "u_current_A",
+        "seconds",
+        "u_seconds",
+    },
+    "sample": {"name", "mass_g", "u_mass_g", "molar_mass_g_per_mol", "reaction"},
+}
+
+#: Physical bounds on run-file numbers: (low, high, low included). Beyond them the value is a
+#: typing or unit mistake, never a measurement (common practice, no source): 10 t of contents,
+#: 1e8 J/K, 100 kW, a year of heating; c_p of any liquid or solid below 100 J/(g·K).
+BOUNDS: dict[str, tuple[float, float, bool]] = {
+    "mass_g": (0.0, 1e7, False),
+    "heat_capacity_J_per_K": (0.0, 1e8, False),
+    "cp": (0.0, 100.0, False),
+    "power_W": (0.0, 1e5, False),
+    "voltage_V": (0.0, 1e4, False),
+    "current_A": (0.0, 1e3, False),
+    "seconds": (0.0, 3.2e7, False),
+    "molar_mass_g_per_mol": (0.0, 1e7, False),
+    "sample_mass_g": (0.0, 1e7, False),
+    "loss_W_per_K": (0.0, 1e5, True),
+    "resolution_K": (0.0, 100.0, True),
+    "event_start_s": (-1e10, 1e10, True),
+    "after_start_s": (-1e10, 1e10, True),
+    "cooling_fit_after_s": (-1e10, 1e10, True),
+    "env_temp_C": (-273.15, 2000.0, True),
+    "threshold_C": (-273.15, 2000.0, True),
+    "band_low_C": (-273.15, 2000.0, True),
+    "band_high_C": (-273.15, 2000.0, True),
+    "datum_C": (-273.15, 2000.0, True),
+    "reference_C": (-273.15, 2000.0, True),
+    "activation_K": (0.0, 1e6, False),
+    "rate_window_s": (0.0, 1e8, False),
+    "gap_factor": (1.0, 1e6, False),
+}
+#: Any other number in a run file must lie within ± this (no arithmetic on it can overflow).
+MAX_ABS_NUMBER = 1e12
+
+
+def closest(name: str, known: Iterable[str]) -> str:
+    """' (did you mean 'x'?)' for the closest known name, or '' when nothing is close."""
+    hits = difflib.get_close_matches(name, sorted(known), n=1, cutoff=0.6)
+    if not hits:
+        hits = sorted((k for k in known if name.lower() in k.lower()), key=len)[:1]
+    return f" (did you mean {hits[0]!r}?)" if hits else ""
+
+
+def unknown_keys(table: Mapping[str, Any], known: set[str], where: str) -> None:
+    """Refuse the first key of ``table`` not in ``known``, naming the closest known one."""
+    for key in table:
+        if key not in known:
+            raise InputError(
+                f"{where}: does not know the key {key!r}{closest(key, known)}; "
+                f"known keys: {', '.join(sorted(known))}"
+            )
+
+
+def _check_number(key: str, value: Any, where: str) -> None:
+    if isinstance(value, bool) or not isinstance(value, int | float):
+        return
+    v = float(value)
+    if not math.isfinite(v) or abs(v) > MAX_ABS_NUMBER and key not in BOUNDS:
+        raise InputError(
+            f"{where}: {key} = {value!r} is not a usable number; give a finite value in its "
+            "unit (check for a typing or unit mistake)"
+        )
+    if key.startswith("u_"):
+        base = key[2:]
+        lo, hi, _ = BOUNDS.get(base, (-MAX_ABS_NUMBER, MAX_ABS_NUMBER, True))
+        if v < 0 or v > max(abs(lo), abs(hi)):
+            raise InputError(
+                f"{where}: {key} = {value!r} is not a standard uncertainty of {base}; it must be "
+                "zero or positive and smaller than the largest plausible value"
+            )
+        return
+    if key in BOUNDS:
+        lo, hi, closed = BOUNDS[key]
+        if v > hi or v < lo or (v == lo and not closed):
+            side = "positive" if lo == 0.0 and not closed else f"at least {lo:g}"
+            raise InputError(
+                f"{where}: {key} = {value!r} is outside what is physically possible here "
+                f"(it must be {side} and at most {hi:g}); check its sign and unit"
+            )
+
+
+def check_numbers(table: Mapping[str, Any], where: str) -> None:
+    """Every number of a table finite and inside its bounds (see :data:`BOUNDS`)."""
+    for key, value in table.items():
+        _check_number(key, value, where)
+
+
+def check_run_document(doc: Mapping[str, Any], where: str) -> None:
+    """The whole parsed run file: known tables and keys, numbers finite and in bounds."""
+    unknown_keys(doc, TOP_LEVEL, where)
+    for name, known in TABLE_KEYS.items():
+        value = doc.get(name)
+        if value is None:
+            continue
+        items = value if isinstance(value, list) else [value]
+        for i, item in enumerate(items):
+            if not isinstance(item, Mapping):
+                continue  # the parser says what shape it needs
+            w = f"{where} [{name}]" + (f" #{i + 1}" if isinstance(value, list) else "")
+            unknown_keys(item, known, w)
+            check_numbers(item, w)
+    for name in ("reduce", "profile"):
+        value = doc.get(name)
+        if isinstance(value, Mapping):
+            check_numbers(value, f"{where} [{name}]")
+
+
+def check_profile_keys(table: Mapping[str, Any], known: set[str], where: str) -> None:
+    """Unknown ``[profile]`` keys refused with the closest known name."""
+    unknown_keys(table, known, f"{where} [profile]")
+
+
+def refuse_profile_for_reduce(has_profile: bool, where: str) -> None:
+    """A run file with a ``[profile]`` table describes a long run: ``reduce`` would treat the
+    still-releasing tail as an after-period."""
+    if has_profile:
+        raise InputError(
+            f"{where}: this run file has a [profile] table (a long run); analyse it with "
+            f"'heatlog profile {where}', not 'heatlog reduce'"
+        )
+
+
+def refuse_non_calibration(is_calibration: bool, path: str, user: str) -> None:
+    """A file listed under ``[calorimeter] calibrations`` must itself calibrate."""
+    if not is_calibration:
+        raise InputError(
+            f"{user}: {path} is listed under [calorimeter] calibrations but is not a "
+            "calibration run (it has no [electrical] table); list only calibration run files "
+            "there, or give heat_capacity_J_per_K"
+        )
