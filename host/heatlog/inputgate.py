@@ -666,3 +666,48 @@ def check_constant(value: float, u: float, where: str, *, allow_negative: bool =
         + (" (allowed on request)" if value + 2.0 * u < 0 else ", though within U(k=2) of zero"),
         why if value + 2.0 * u < 0 else "a very small vessel constant; treat the result with care",
     )
+
+
+#: Settings of a long run that must be positive (the rest finite and within ±1e12).
+_POSITIVE_SETTINGS = {"heat_capacity": "J/K", "sample_g": "g"}
+_NON_NEGATIVE_SETTINGS = {"loss": "W/K"}
+
+
+def check_profile_settings(settings: Any, where: str) -> None:
+    """Every number of a long run's settings finite and bounded before any arithmetic; the heat
+    capacity and sample mass positive, the loss coefficient not negative."""
+    import dataclasses
+
+    for f in dataclasses.fields(settings):
+        value = getattr(settings, f.name)
+        pairs: list[tuple[str, Any]] = []
+        if hasattr(value, "value") and hasattr(value, "u"):
+            pairs = [(f.name, value.value), (f"u({f.name})", value.u)]
+        elif isinstance(value, int | float) and not isinstance(value, bool):
+            pairs = [(f.name, value)]
+        for name, v in pairs:
+            if not np.isfinite(v) or abs(v) > 1e12:
+                refuse(
+                    where,
+                    "absurd-setting",
+                    f"{name} = {v!r} is not a usable number",
+                    "give a finite value in its unit (check for a typing or unit mistake)",
+                )
+            if name.startswith("u(") and v < 0:
+                refuse(where, "absurd-setting", f"{name} = {v!r} is negative", "give u ≥ 0")
+        if hasattr(value, "value"):
+            if f.name in _POSITIVE_SETTINGS and not value.value > 0:
+                refuse(
+                    where,
+                    "absurd-setting",
+                    f"{f.name} = {value.value!r} {_POSITIVE_SETTINGS[f.name]} must be positive",
+                    "check its sign and unit",
+                )
+            if f.name in _NON_NEGATIVE_SETTINGS and value.value < 0:
+                refuse(
+                    where,
+                    "absurd-setting",
+                    f"{f.name} = {value.value!r} {_NON_NEGATIVE_SETTINGS[f.name]} must not be "
+                    "negative",
+                    "check its sign and unit",
+                )

@@ -66,7 +66,13 @@ from heatlog.energetics.heat import (
 )
 from heatlog.errors import InputError
 from heatlog.gum import Budget, Component, Input
-from heatlog.inputgate import Finding, check_constant, findings_of, gate_series
+from heatlog.inputgate import (
+    Finding,
+    check_constant,
+    check_profile_settings,
+    findings_of,
+    gate_series,
+)
 from heatlog.probes import ProbeFile, chain_from_spec, load_probe
 from heatlog.profile import ProfileResult, ProfileSettings, analyse_profile, settings_from_table
 from heatlog.profile.analysis import _TABLE_KEYS as PROFILE_KEYS
@@ -598,6 +604,7 @@ def profile_run_checked(spec: RunSpec) -> tuple[ProfileResult, tuple[Finding, ..
     """:func:`profile_run` with the input gate's findings returned beside the result."""
     if spec.profile is None:
         raise InputError(f"{spec.path}: the run file has no [profile] table")
+    check_profile_settings(spec.profile, f"{spec.path} [profile]")
     cols = spec.profile_columns
     extra = [c for c in (cols.get("env"), cols.get("flags")) if c]
     env = [cols["env"]] if "env" in cols else []

@@ -219,3 +219,38 @@ def read_thermogram_csv(
             "findings": gated.findings,
         },
     )
+
+
+def read_profile_csv(
+    path: str | os.PathLike[str],
+    time_col: str = "time_s",
+    temp_col: str = "temp_C",
+    env_col: str | None = None,
+    flags_col: str | None = None,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray | None, np.ndarray | None, tuple[Any, ...]]:
+    """A long-run log (``heatlog profile FILE``): time, temperature, environment and flags
+    columns in file order (clock resets are the profile's to split), past the input gate.
+    Returns ``(time_s, temp_C, env_C, flags, findings)``."""
+    p = Path(path)
+    optional = [c for c in (env_col, flags_col) if c]
+    table = read_table(p, [time_col, temp_col, *optional], what="log", clock_col=time_col)
+    lookup = {k.lower(): v for k, v in table.columns.items()}
+    units = {k.lower(): v for k, v in table.units.items()}
+    gated = gate_series(
+        lookup[time_col.lower()],
+        lookup[temp_col.lower()],
+        where=str(p),
+        kind="profile",
+        time_name=time_col,
+        temp_name=temp_col,
+        time_unit=units.get(time_col.lower(), ""),
+        temp_unit=units.get(temp_col.lower(), ""),
+        lines=table.line_numbers,
+        channels={c: lookup[c.lower()] for c in optional},
+        channel_units={c: units.get(c.lower(), "") for c in optional},
+        temperature_channels=[env_col] if env_col else [],
+        notes=table.notes,
+    )
+    env = gated.channels[env_col] if env_col else None
+    flags = gated.channels[flags_col] if flags_col else None
+    return gated.time_s, gated.temp_C, env, flags, gated.findings

@@ -254,10 +254,14 @@ class PtyServer:
         self.port = os.ttyname(self.slave)
         self.link_path = link_path
         if link_path is not None:
-            link_path = Path(link_path)
-            if link_path.is_symlink() or link_path.exists():
-                link_path.unlink()
-            link_path.symlink_to(self.port)
+            from heatlog.sim.linkpath import make_link
+
+            try:
+                make_link(link_path, self.port)  # never over an existing file
+            except Exception:
+                for fd in (self.master, self.slave):
+                    os.close(fd)
+                raise
         self._stop = threading.Event()
         self._reset = threading.Event()
         self._thread: threading.Thread | None = None
