@@ -202,15 +202,22 @@ def spike_rows(y: np.ndarray, valid: np.ndarray) -> tuple[np.ndarray, np.ndarray
     out = np.abs(r) > thr
     spikes: list[int] = []
     other: list[int] = []
-    for a, b in _runs(out):
-        if b - a <= MAX_SPIKE_RUN and a > 0 and b < v.size:
-            left, right = v[a - 1], v[b]
-            dev = v[a:b] - 0.5 * (left + right)
-            same_side = bool((dev > 0).all() or (dev < 0).all())
-            if same_side and np.abs(dev).min() > thr and abs(left - right) < 0.5 * np.abs(dev).min():
-                spikes.extend(range(a, b))
-                continue
-        other.extend(range(a, b))
+    for ra, rb in _runs(out):
+        # the core of the run: a spike drags the running median of its neighbours by a step of
+        # the curve, so only readings off by more than half the largest residual are its own
+        core = np.zeros(v.size, dtype=bool)
+        big = np.abs(r[ra:rb])
+        core[ra:rb] = big > max(thr, 0.5 * float(big.max()))
+        for a, b in _runs(core):
+            if b - a <= MAX_SPIKE_RUN and a > 0 and b < v.size:
+                left, right = v[a - 1], v[b]
+                dev = v[a:b] - 0.5 * (left + right)
+                low = float(np.abs(dev).min())
+                same_side = bool((dev > 0).all() or (dev < 0).all())
+                if same_side and low > thr and abs(left - right) < 0.5 * low:
+                    spikes.extend(range(a, b))
+                    continue
+            other.extend(range(a, b))
     return idx[np.asarray(spikes, dtype=np.int64)], idx[np.asarray(other, dtype=np.int64)]
 
 
@@ -389,8 +396,8 @@ def _temperature(
             refuse(
                 where,
                 "absurd",
-                f"column {name!r} holds {b - a} impossible reading(s) in a row on "
-                f"{_lines_text(shown, b - a)}"
+                f"column {name!r} holds {b - a} impossible reading(s) in a row on lines "
+                f"{int(lines[a])}–{int(lines[b - 1])}"
                 + ("" if raw else f" (outside {MIN_TEMP_C:g} … {MAX_TEMP_C:g} °C)"),
                 "check the probe, the column and its unit; remove the broken stretch",
                 shown,
