@@ -718,3 +718,49 @@ def check_profile_settings(settings: Any, where: str) -> None:
                     "negative",
                     "check its sign and unit",
                 )
+
+
+#: Plausible magnitudes of a quantity typed on the command line, by unit: (low, high) on |x|
+#: (0 always allowed where a quantity may be zero). Beyond them the number is a typing or unit
+#: mistake (common practice, no source); the same spans as the run files' bounds.
+QUANTITY_BOUNDS: dict[str, tuple[float, float]] = {
+    "g": (1e-6, 1e7),
+    "W": (1e-9, 1e5),
+    "s": (1e-3, 3.2e7),
+    "V": (1e-6, 1e4),
+    "A": (1e-9, 1e3),
+    "K": (1e-6, 1e3),
+    "°C": (0.0, 2000.0),
+    "J/K": (1e-3, 1e8),
+    "J/(g·K)": (1e-2, 100.0),
+    "mol": (1e-12, 1e6),
+    "J/g": (1e-6, 1e8),
+    "J/mol": (1e-6, 1e9),
+    "mol/kg": (0.0, 100.0),
+}
+
+
+def check_quantity(name: str, value: float, u: float, unit: str) -> None:
+    """A number given on the command line, bounded before any arithmetic: finite, its magnitude
+    within :data:`QUANTITY_BOUNDS` for its unit (zero allowed), its uncertainty ≥ 0 and not
+    larger than the largest plausible value."""
+    if not (np.isfinite(value) and np.isfinite(u)):
+        refuse(name, "absurd", f"{value!r} ± {u!r} is not a finite number", "give a finite value")
+    lo, hi = QUANTITY_BOUNDS.get(unit, (0.0, 1e12))
+    mag = abs(value)
+    if unit == "°C" and value < -273.15:
+        refuse(name, "absurd", f"{value:g} °C is below absolute zero", "check the value and unit")
+    if mag > hi or (0.0 < mag < lo):
+        refuse(
+            name,
+            "absurd",
+            f"{value:g} {unit} is not a plausible value (|x| from {lo:g} to {hi:g} {unit})",
+            "check for a typing or unit mistake",
+        )
+    if u < 0 or u > hi:
+        refuse(
+            name,
+            "absurd",
+            f"uncertainty {u:g} {unit} must be ≥ 0 and at most {hi:g} {unit}",
+            "check for a typing or unit mistake",
+        )

@@ -519,6 +519,17 @@ def evaluate_run(
         c_cal = constants[0] if len(constants) == 1 else calorimeter.combine_calibrations(constants)
         flag = check_constant(c_cal.value, c_cal.u, str(spec.path), allow_negative=allow_negative)
         found_in += [flag] if flag and len(constants) > 1 else []
+    if spec.sample is None:
+        found_in.append(
+            Finding(
+                "no-sample",
+                "flag",
+                "the run file has neither [sample] nor [electrical]: only ΔT"
+                + ("" if c_cal is None else " and the heat q")
+                + " are given",
+                "add a [sample] table (name, mass_g, u_mass_g) for ΔH per gram and per mole",
+            )
+        )
     if c_cal is None:
         return RunResult(spec, red, mean_temp, contents, findings=tuple(found_in))
     c_budget = (

@@ -40,33 +40,34 @@ TABLE_KEYS: dict[str, set[str]] = {
     "sample": {"name", "mass_g", "u_mass_g", "molar_mass_g_per_mol", "reaction"},
 }
 
-#: Physical bounds on run-file numbers: (low, high, low included). Beyond them the value is a
-#: typing or unit mistake, never a measurement (common practice, no source): 10 t of contents,
-#: 1e8 J/K, 100 kW, a year of heating; c_p of any liquid or solid below 100 J/(g·K).
-BOUNDS: dict[str, tuple[float, float, bool]] = {
-    "mass_g": (0.0, 1e7, False),
-    "heat_capacity_J_per_K": (0.0, 1e8, False),
-    "cp": (0.0, 100.0, False),
-    "power_W": (0.0, 1e5, False),
-    "voltage_V": (0.0, 1e4, False),
-    "current_A": (0.0, 1e3, False),
-    "seconds": (0.0, 3.2e7, False),
-    "molar_mass_g_per_mol": (0.0, 1e7, False),
-    "sample_mass_g": (0.0, 1e7, False),
-    "loss_W_per_K": (0.0, 1e5, True),
-    "resolution_K": (0.0, 100.0, True),
-    "event_start_s": (-1e10, 1e10, True),
-    "after_start_s": (-1e10, 1e10, True),
-    "cooling_fit_after_s": (-1e10, 1e10, True),
-    "env_temp_C": (-273.15, 2000.0, True),
-    "threshold_C": (-273.15, 2000.0, True),
-    "band_low_C": (-273.15, 2000.0, True),
-    "band_high_C": (-273.15, 2000.0, True),
-    "datum_C": (-273.15, 2000.0, True),
-    "reference_C": (-273.15, 2000.0, True),
-    "activation_K": (0.0, 1e6, False),
-    "rate_window_s": (0.0, 1e8, False),
-    "gap_factor": (1.0, 1e6, False),
+#: Physical bounds on run-file numbers: (low, high), both included. Beyond them the value is a
+#: typing or unit mistake, never a measurement (common practice, no source): from 1 µg to 10 t of
+#: contents, 1 mJ/K to 1e8 J/K, 1 nW to 100 kW, 1 ms to a year of heating, c_p of any liquid or
+#: solid between 0.01 and 100 J/(g·K), molar masses from 1 g/mol (hydrogen atom: 1.008 g/mol).
+BOUNDS: dict[str, tuple[float, float]] = {
+    "mass_g": (1e-6, 1e7),
+    "heat_capacity_J_per_K": (1e-3, 1e8),
+    "cp": (1e-2, 100.0),
+    "power_W": (1e-9, 1e5),
+    "voltage_V": (1e-6, 1e4),
+    "current_A": (1e-9, 1e3),
+    "seconds": (1e-3, 3.2e7),
+    "molar_mass_g_per_mol": (1.0, 1e7),
+    "sample_mass_g": (1e-6, 1e7),
+    "loss_W_per_K": (0.0, 1e5),
+    "resolution_K": (0.0, 100.0),
+    "event_start_s": (-1e10, 1e10),
+    "after_start_s": (-1e10, 1e10),
+    "cooling_fit_after_s": (-1e10, 1e10),
+    "env_temp_C": (-273.15, 2000.0),
+    "threshold_C": (-273.15, 2000.0),
+    "band_low_C": (-273.15, 2000.0),
+    "band_high_C": (-273.15, 2000.0),
+    "datum_C": (-273.15, 2000.0),
+    "reference_C": (-273.15, 2000.0),
+    "activation_K": (1.0, 1e6),
+    "rate_window_s": (1e-3, 1e8),
+    "gap_factor": (1.0, 1e6),
 }
 #: Any other number in a run file must lie within ± this (no arithmetic on it can overflow).
 MAX_ABS_NUMBER = 1e12
@@ -101,7 +102,7 @@ def _check_number(key: str, value: Any, where: str) -> None:
         )
     if key.startswith("u_"):
         base = key[2:]
-        lo, hi, _ = BOUNDS.get(base, (-MAX_ABS_NUMBER, MAX_ABS_NUMBER, True))
+        lo, hi = BOUNDS.get(base, (-MAX_ABS_NUMBER, MAX_ABS_NUMBER))
         if v < 0 or v > max(abs(lo), abs(hi)):
             raise InputError(
                 f"{where}: {key} = {value!r} is not a standard uncertainty of {base}; it must be "
@@ -109,12 +110,11 @@ def _check_number(key: str, value: Any, where: str) -> None:
             )
         return
     if key in BOUNDS:
-        lo, hi, closed = BOUNDS[key]
-        if v > hi or v < lo or (v == lo and not closed):
-            side = "positive" if lo == 0.0 and not closed else f"at least {lo:g}"
+        lo, hi = BOUNDS[key]
+        if not lo <= v <= hi:
             raise InputError(
                 f"{where}: {key} = {value!r} is outside what is physically possible here "
-                f"(it must be {side} and at most {hi:g}); check its sign and unit"
+                f"({lo:g} … {hi:g}); check its sign and unit"
             )
 
 

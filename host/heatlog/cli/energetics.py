@@ -37,10 +37,13 @@ _number = click.FLOAT
 def _inp(value: float, u: float, unit: str, name: str) -> Any:
     from heatlog.gum import Input
 
+    from heatlog.inputgate import check_quantity
+
     if not math.isfinite(value):
         raise InputError(f"{name} must be a finite number, got {value}")
     if not (math.isfinite(u) and u >= 0):
         raise InputError(f"uncertainty of {name} must be a finite number ≥ 0, got {u}")
+    check_quantity(name, value, u, unit)  # bounded before any arithmetic
     return Input(value, u, unit)
 
 
