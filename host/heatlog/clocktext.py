@@ -1,5 +1,7 @@
 """Date-time text in a time column (what other loggers and spreadsheets write) → seconds.
 
+ISO 8601 forms (docs/REFERENCES.md: ISO-8601) are read by :meth:`datetime.fromisoformat`.
+
 :func:`parse_clock_column` turns ISO 8601 stamps (``2026-03-01T10:15:00Z``, ``2026-03-01
 10:15:00.5``), common day-first and year-first spreadsheet stamps (``01.03.2026 10:15:00``,
 ``01/03/2026 10:15``, ``2026/03/01 10:15:00``) and bare clock times (``10:15:00``, a day added

@@ -42,18 +42,21 @@ Severity = Literal["refuse", "flag"]
 #: practice, no source): epoch milliseconds (≈ 1.8e12) fit below the time bound.
 MAX_ABS_TIME = 1e13
 MAX_ABS_READING = 1e6
-#: Physical bounds on a temperature in °C: absolute zero (ITS-90) and a ceiling far above any
-#: calorimeter, warmer, pack or setting material (common practice, no source).
+#: Physical bounds on a temperature in °C: absolute zero (docs/REFERENCES.md: SI-BROCHURE) and
+#: a ceiling far above any calorimeter, warmer, pack or setting material (common practice, no
+#: source).
 MIN_TEMP_C = -273.15
 MAX_TEMP_C = 2000.0
-#: Readings loggers write when a probe fails: −127 and 85 (one-wire DS18B20-type sensors: no
-#: device, and the power-on value), −40 (bottom of many digital sensors' range), ±999, ±9999
+#: Readings loggers write when a probe fails: 85 (the power-on value of a one-wire DS18B20-type
+#: sensor, docs/REFERENCES.md: DS18B20), −127 (what common one-wire libraries return for a
+#: missing device, from memory), −40 (bottom of many digital sensors' range), −99, ±999, ±9999
 #: (common practice, no source).
 SENTINELS = (-127.0, 85.0, -40.0, -999.0, 999.0, -9999.0, 9999.0, -99.0)
 #: A sentinel is a fault only when it jumps at least this far from its neighbours (K).
 SENTINEL_JUMP_K = 2.0
-#: Hampel test: window, threshold in robust standard deviations, and the smallest threshold
-#: in K and in reading steps (common practice, no source).
+#: Hampel test against a running median, scale 1.4826·MAD (docs/REFERENCES.md: HAMPEL-1974):
+#: window, threshold in robust standard deviations, and the smallest threshold in K and in
+#: reading steps (common practice, no source).
 HAMPEL_WINDOW = 7
 HAMPEL_SIGMAS = 10.0
 MIN_SPIKE_K = 0.05
@@ -326,6 +329,7 @@ def _to_celsius(
                 "nothing to do if the header is right",
             )
         )
+        # (docs/REFERENCES.md: SI-BROCHURE for kelvin, NIST-SP811 for Fahrenheit)
         return y - 273.15 if kind == "K" else (y - 32.0) * (5.0 / 9.0)
     good = y[valid]
     if good.size and KELVIN_RANGE[0] <= float(np.median(good)) <= KELVIN_RANGE[1]:

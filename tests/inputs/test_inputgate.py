@@ -248,3 +248,31 @@ def test_profile_settings_bounded_before_arithmetic(warmer):
             ["profile", str(p), "--heat-capacity", "60", "--loss", "0.06", "--env-temp", "20", opt, value],
         )
         assert r.exit_code == 2 and r.output.count("\n") == 1, r.output
+
+
+def test_profile_fault_sentinels_are_not_integrated_as_heat(warmer):
+    run, folder = warmer
+    ok = json.loads(_profile(_write(folder / "ok.csv", run.time_s, run.temp_C)).output)
+    y = run.temp_C.copy()
+    y[900:903] = -40.0  # a minute of probe fault, mid-run
+    r = _profile(_write(folder / "fault.csv", run.time_s, y))
+    assert r.exit_code == 0, r.output
+    d = json.loads(r.output)
+    assert [f["code"] for f in d["findings"]] == ["sentinel"]
+    assert abs(d["heat_J"] - ok["heat_J"]) < ok["u_heat_J"]
+
+
+def test_profile_in_kelvin_from_a_run_file(warmer, tmp_path):
+    run, folder = warmer
+    ok = json.loads(_profile(_write(folder / "ok.csv", run.time_s, run.temp_C)).output)
+    _write(tmp_path / "k.csv", run.time_s, run.temp_C + 273.15, "time_s,T [K]")
+    (tmp_path / "k.toml").write_text(
+        "# invented data\n[log]\nfile = 'k.csv'\n[profile]\nheat_capacity_J_per_K = 60.0\n"
+        "u_heat_capacity_J_per_K = 1.0\nloss_W_per_K = 0.06\nu_loss_W_per_K = 0.003\n"
+        "env_temp_C = 20.0\nkind = 'warmer'\n"
+    )
+    r = CliRunner().invoke(main, ["profile", str(tmp_path / "k.toml"), "--json"])
+    assert r.exit_code == 0, r.output
+    d = json.loads(r.output)
+    assert [f["code"] for f in d["findings"]] == ["temp-unit"]
+    assert abs(d["heat_J"] - ok["heat_J"]) < ok["u_heat_J"]
