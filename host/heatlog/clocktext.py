@@ -78,7 +78,9 @@ def _clock(text: str) -> float | None:
     return h * 3600.0 + mi * 60.0 + s
 
 
-def parse_clock_column(cells: Sequence[str], lines: Sequence[int], where: str, column: str) -> np.ndarray:
+def parse_clock_column(
+    cells: Sequence[str], lines: Sequence[int], where: str, column: str
+) -> np.ndarray:
     """Seconds from the first row for a column of date-time text.
 
     ``lines`` are the file line numbers of the cells (for the messages). Every cell must be read

@@ -91,7 +91,7 @@ def _resolve(names: list[str], wanted: Sequence[str]) -> dict[str, int]:
     """Header index of each wanted column: exact name, else the name before a unit, else an alias
     of a default name (``time_s``, ``temp_C``) with the unit in the header."""
     exact = {n.lower(): i for i, n in enumerate(names)}
-    base = {}
+    base: dict[str, int] = {}
     for i, n in enumerate(names):
         b, unit = split_unit(n)
         if unit:
@@ -112,7 +112,9 @@ def _resolve(names: list[str], wanted: Sequence[str]) -> dict[str, int]:
     return out
 
 
-def _bad_cell(data_text: str, first_line: int, delimiter: str, idx: list[int], wanted: list[str], where: str) -> str:
+def _bad_cell(
+    data_text: str, first_line: int, delimiter: str, idx: list[int], wanted: list[str], where: str
+) -> str:
     """The first cell that is not a number, named by its file line (for the error message)."""
     for k, line in enumerate(data_text.split("\n")):
         if not line.strip() or line.lstrip().startswith("#"):
@@ -374,10 +376,11 @@ def read_table(
     bad = ~np.isfinite(arr)
     if bad.any():
         row, col = np.argwhere(bad)[0]
-        line = int(out.line_numbers()[row]) if row < out.line_numbers().size else row + 1
+        where_row = out.line_numbers()
+        line_no = int(where_row[row]) if row < where_row.size else int(row) + 1
         raise InputError(
             f"{where}: column {wanted[col]!r} holds a non-finite value (NaN or inf) on line "
-            f"{line}; fix or delete that line"
+            f"{line_no}; fix or delete that line"
         )
     return out
 
@@ -429,5 +432,7 @@ def _read_with_clock(
                     f"{lines[k]}; fix or delete that line"
                 )
         out[name] = values
-    notes.append(f"time column {wanted[clock_j]!r}: date-time text read as seconds from the first row")
+    notes.append(
+        f"time column {wanted[clock_j]!r}: date-time text read as seconds from the first row"
+    )
     return out

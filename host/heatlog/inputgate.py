@@ -165,7 +165,9 @@ def _lines_text(lines: tuple[int, ...], total: int) -> str:
     if not lines:
         return ""
     more = f" and {total - len(lines)} more" if total > len(lines) else ""
-    return ("line " if len(lines) == 1 and not more else "lines ") + ", ".join(map(str, lines)) + more
+    return (
+        ("line " if len(lines) == 1 and not more else "lines ") + ", ".join(map(str, lines)) + more
+    )
 
 
 def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
@@ -256,19 +258,19 @@ def _time_scale(
     span = float(np.max(t) - np.min(t))
     limit = MAX_RUN_S[kind]
     whole = bool(np.all(np.abs(t - np.round(t)) < 1e-9 * np.maximum(1.0, np.abs(t))))
-    if span > limit or (kind == "thermogram" and step >= 100.0):
-        if whole and step >= 10.0 and 60.0 <= span / 1000.0 <= limit:
-            findings.append(
-                Finding(
-                    "time-unit",
-                    "flag",
-                    f"time column {name!r} looks like milliseconds (whole numbers, median step "
-                    f"{step:g}; in seconds the run would last {span / 86400:.3g} days) and was "
-                    "divided by 1000",
-                    "if it really is seconds, say so in the header: 'time [s]'",
-                )
+    too_long = span > limit or (kind == "thermogram" and step >= 100.0)
+    if too_long and whole and step >= 10.0 and 60.0 <= span / 1000.0 <= limit:
+        findings.append(
+            Finding(
+                "time-unit",
+                "flag",
+                f"time column {name!r} looks like milliseconds (whole numbers, median step "
+                f"{step:g}; in seconds the run would last {span / 86400:.3g} days) and was "
+                "divided by 1000",
+                "if it really is seconds, say so in the header: 'time [s]'",
             )
-            return 1e-3
+        )
+        return 1e-3
     if span > limit:
         refuse(
             where,
@@ -332,18 +334,20 @@ def _to_celsius(
         # (docs/REFERENCES.md: SI-BROCHURE for kelvin, NIST-SP811 for Fahrenheit)
         return y - 273.15 if kind == "K" else (y - 32.0) * (5.0 / 9.0)
     good = y[valid]
-    if good.size and KELVIN_RANGE[0] <= float(np.median(good)) <= KELVIN_RANGE[1]:
-        if float(np.min(good)) > KELVIN_MIN:
-            findings.append(
-                Finding(
-                    "temp-unit",
-                    "flag",
-                    f"column {name!r} reads {float(np.median(good)):.5g} (median), where kelvin "
-                    "lies for these experiments; read as kelvin and converted to °C",
-                    "if these really are °C, say so in the header: 'temp [°C]'",
-                )
+    in_kelvin_range = (
+        bool(good.size) and KELVIN_RANGE[0] <= float(np.median(good)) <= KELVIN_RANGE[1]
+    )
+    if in_kelvin_range and float(np.min(good)) > KELVIN_MIN:
+        findings.append(
+            Finding(
+                "temp-unit",
+                "flag",
+                f"column {name!r} reads {float(np.median(good)):.5g} (median), where kelvin "
+                "lies for these experiments; read as kelvin and converted to °C",
+                "if these really are °C, say so in the header: 'temp [°C]'",
             )
-            return y - 273.15
+        )
+        return y - 273.15
     return y
 
 
@@ -651,7 +655,9 @@ def findings_text(findings: Sequence[Finding]) -> list[str]:
     return [f"input check: {f.text()}" for f in findings]
 
 
-def check_constant(value: float, u: float, where: str, *, allow_negative: bool = False) -> Finding | None:
+def check_constant(
+    value: float, u: float, where: str, *, allow_negative: bool = False
+) -> Finding | None:
     """A calorimeter constant C_cal must be positive (a calorimeter cannot have a negative heat
     capacity). Significantly negative (below zero by more than U(k=2)) is refused unless
     ``allow_negative``; negative within U(k=2) is flagged (a vessel with a very small C_cal,

@@ -47,7 +47,7 @@ import tomllib
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
 from pathlib import Path
-from typing import Any
+from typing import Any, Literal
 
 import numpy as np
 
@@ -291,7 +291,7 @@ def read_log_arrays(
     extra: Sequence[str] = (),
     probe: ProbeFile | None = None,
     *,
-    kind: str = "profile",
+    kind: Literal["thermogram", "profile"] = "profile",
     temperature_channels: Sequence[str] = (),
 ) -> tuple[np.ndarray, np.ndarray, dict[str, np.ndarray], dict[str, Any]]:
     """Time, temperature (through the probe file for raw readings), ``extra`` columns and
@@ -300,7 +300,9 @@ def read_log_arrays(
     Every row has passed the input gate (:mod:`heatlog.inputgate`, ``kind`` "thermogram" or
     "profile"); its findings are in the metadata under ``findings``."""
     temp_col = log.temp_col if log.raw_col is None else log.raw_col
-    table = read_table(log.file, [log.time_col, temp_col, *extra], what="log", clock_col=log.time_col)
+    table = read_table(
+        log.file, [log.time_col, temp_col, *extra], what="log", clock_col=log.time_col
+    )
     lookup = {k.lower(): v for k, v in table.columns.items()}
     units = {k.lower(): v for k, v in table.units.items()}
     gated = gate_series(
@@ -515,7 +517,9 @@ def evaluate_run(
             )
             assert found is not None
             constants.append(found)
-            found_in += [replace(f, message=f"calibration {p.name}: {f.message}") for f in cal_run.findings]
+            found_in += [
+                replace(f, message=f"calibration {p.name}: {f.message}") for f in cal_run.findings
+            ]
         c_cal = constants[0] if len(constants) == 1 else calorimeter.combine_calibrations(constants)
         flag = check_constant(c_cal.value, c_cal.u, str(spec.path), allow_negative=allow_negative)
         found_in += [flag] if flag and len(constants) > 1 else []

@@ -22,7 +22,17 @@ from heatlog.errors import InputError
 #: Top-level keys and tables of a run file, and the keys of each table. ``[profile]`` keys are
 #: checked by :func:`heatlog.profile.analysis.settings_from_table` (read from there, so the two
 #: cannot drift apart); ``[reduce]`` keys by :mod:`heatlog.runfile`.
-TOP_LEVEL = {"title", "notes", "log", "reduce", "calorimeter", "contents", "electrical", "sample", "profile"}
+TOP_LEVEL = {
+    "title",
+    "notes",
+    "log",
+    "reduce",
+    "calorimeter",
+    "contents",
+    "electrical",
+    "sample",
+    "profile",
+}
 TABLE_KEYS: dict[str, set[str]] = {
     "log": {"file", "time_col", "temp_col", "raw_col", "chain", "probe"},
     "calorimeter": {"heat_capacity_J_per_K", "u_heat_capacity_J_per_K", "calibrations"},

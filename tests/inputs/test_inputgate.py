@@ -40,7 +40,9 @@ def _write(path, t, y, header="time_s,temp_C", extra=None):
 
 @pytest.fixture(scope="module")
 def clean(cup, tmp_path_factory):
-    p = _write(tmp_path_factory.mktemp("clean") / "run.csv", cup.thermogram.time_s, cup.thermogram.temp_C)
+    p = _write(
+        tmp_path_factory.mktemp("clean") / "run.csv", cup.thermogram.time_s, cup.thermogram.temp_C
+    )
     th = read_thermogram_csv(p)
     return th, reduce_thermogram(th)
 
@@ -149,7 +151,9 @@ def test_stated_celsius_is_believed(tmp_path):
 
 
 def test_unknown_unit_in_a_header_is_refused(cup, tmp_path):
-    p = _write(tmp_path / "u.csv", cup.thermogram.time_s, cup.thermogram.temp_C, "time_s,temp [furlongs]")
+    p = _write(
+        tmp_path / "u.csv", cup.thermogram.time_s, cup.thermogram.temp_C, "time_s,temp [furlongs]"
+    )
     with pytest.raises(InputError, match="not a temperature unit"):
         read_thermogram_csv(p)
 
@@ -245,7 +249,18 @@ def test_profile_settings_bounded_before_arithmetic(warmer):
     for opt, value in (("--heat-capacity", "1e300"), ("--heat-capacity", "-40"), ("--loss", "-1")):
         r = CliRunner().invoke(
             main,
-            ["profile", str(p), "--heat-capacity", "60", "--loss", "0.06", "--env-temp", "20", opt, value],
+            [
+                "profile",
+                str(p),
+                "--heat-capacity",
+                "60",
+                "--loss",
+                "0.06",
+                "--env-temp",
+                "20",
+                opt,
+                value,
+            ],
         )
         assert r.exit_code == 2 and r.output.count("\n") == 1, r.output
 

@@ -92,9 +92,9 @@ def mutate(data: bytes, rng: np.random.Generator, op: str, body_start: int) -> b
         text = data.decode("utf-8")
         if rng.random() < 0.5:
             return text.encode("utf-16")
-        return (text.replace("invented", "invented °") if "invented" in text else "° " + text).encode(
-            "latin-1", errors="replace"
-        )
+        return (
+            text.replace("invented", "invented °") if "invented" in text else "° " + text
+        ).encode("latin-1", errors="replace")
     if op == "rename":
         words = [m for m in re.finditer(rb"[A-Za-z_][A-Za-z_0-9]{2,}", data)]
         if not words:
@@ -134,7 +134,17 @@ def judge(evaluate, path: Path, data: bytes, base: tuple[float, float]) -> Outco
     return Outcome("SILENT", f"{base[0]!r} → {value!r} (U = {big_u:.3g})")
 
 
-def sweep(evaluate, folder: Path, name: str, original: bytes, seed: int, n: int, *, body_start=0, skip_digit_flips=False):
+def sweep(
+    evaluate,
+    folder: Path,
+    name: str,
+    original: bytes,
+    seed: int,
+    n: int,
+    *,
+    body_start=0,
+    skip_digit_flips=False,
+):
     """Apply ``n`` seeded mutations and return the outcomes (the unmutated answer first)."""
     path = folder / name
     path.write_bytes(original)
@@ -183,7 +193,8 @@ def cup_log() -> bytes:
         seed=11,
     )
     rows = "\n".join(
-        f"{a:.1f},{b:.4f}" for a, b in zip(run.thermogram.time_s, run.thermogram.temp_C, strict=True)
+        f"{a:.1f},{b:.4f}"
+        for a, b in zip(run.thermogram.time_s, run.thermogram.temp_C, strict=True)
     )
     return ("# invented data\ntime_s,temp_C\n" + rows + "\n").encode("utf-8")
 
@@ -222,7 +233,15 @@ def test_mutated_probe_points(tmp_path):
     path.write_bytes(original)
     temps = load_points_base(path)
     _points.base = temps  # type: ignore[attr-defined]
-    outcomes = sweep(_points, tmp_path, "points.csv", original, seed=2, n=48, body_start=original.index(b"temp_C,"))
+    outcomes = sweep(
+        _points,
+        tmp_path,
+        "points.csv",
+        original,
+        seed=2,
+        n=48,
+        body_start=original.index(b"temp_C,"),
+    )
     _assert_no_silent(outcomes, "probe points")
 
 
@@ -245,7 +264,10 @@ def test_mutated_probe_files(tmp_path):
 
     temps, values, _ = _read_points(EXAMPLES / "ntc_10k_calibration.csv", None)
     fit = fit_resistance(temps, values, "steinhart-hart", ref_u_K=0.01)
-    save_probe(probe_from_fit(fit, "ntc", reference="invented", calibration_date=_DATE), tmp_path / "p.toml")
+    save_probe(
+        probe_from_fit(fit, "ntc", reference="invented", calibration_date=_DATE),
+        tmp_path / "p.toml",
+    )
     original = (tmp_path / "p.toml").read_bytes()
     outcomes = sweep(_probe_file, tmp_path, "p.toml", original, seed=3, n=48)
     _assert_no_silent(outcomes, "probe file", both=False)  # the digest refuses every change
@@ -282,5 +304,7 @@ def _run(path: Path):
 
 def test_mutated_run_files(cup, tmp_path):
     (tmp_path / "run.csv").write_bytes(cup)
-    outcomes = sweep(_run, tmp_path, "run.toml", RUN.encode("utf-8"), seed=4, n=36, skip_digit_flips=True)
+    outcomes = sweep(
+        _run, tmp_path, "run.toml", RUN.encode("utf-8"), seed=4, n=36, skip_digit_flips=True
+    )
     _assert_no_silent(outcomes, "run file")

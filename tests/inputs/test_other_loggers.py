@@ -27,7 +27,9 @@ def test_a_text_cell_names_the_line_a_text_editor_shows(tmp_path):
 
 
 def test_long_files_name_the_line_too(tmp_path):
-    lines = ["# invented data", "time_s,temp_C"] + [f"{i * 0.5!r},{20 + 1e-3 * i!r}" for i in range(20_000)]
+    lines = ["# invented data", "time_s,temp_C"] + [
+        f"{i * 0.5!r},{20 + 1e-3 * i!r}" for i in range(20_000)
+    ]
     lines[1 + 15_000] = "7499.5,"
     p = tmp_path / "long.csv"
     p.write_text("\n".join(lines) + "\n")

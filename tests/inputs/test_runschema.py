@@ -26,18 +26,44 @@ WATER = "[[contents]]\nname = 'water'\nmass_g = 200.0\nu_mass_g = 0.05\n"
         ("[log]\nfile = 'a.csv'\ntempcol = 'T'\n", "'tempcol' (did you mean 'temp_col'?)"),
         (LOG + "[reduce]\nmetod = 'auto'\n", "did you mean 'method'?"),
         (LOG + "[calorimeter]\nheat_capacity_J_per_K = -40.0\n", "physically possible"),
-        (LOG + "[calorimeter]\nheat_capacity_J_per_K = 40.0\nu_heat_capacity_J_per_K = -1.0\n", "u_heat_capacity"),
+        (
+            LOG + "[calorimeter]\nheat_capacity_J_per_K = 40.0\nu_heat_capacity_J_per_K = -1.0\n",
+            "u_heat_capacity",
+        ),
         (LOG + "[[contents]]\nname = 'oil'\nmass_g = 10.0\ncp = -1e308\n", "physically possible"),
         (LOG + "[[contents]]\nname = 'water'\nmass_g = 1e300\n", "physically possible"),
         (LOG + "[electrical]\npower_W = 5.0\nseconds = 0.0\n", "physically possible"),
         (LOG + "[electrical]\npower_W = inf\nseconds = 10.0\n", "not a usable number"),
         (LOG + "[[contents]]\nname = 'water'\nmasss_g = 10.0\n", "did you mean 'mass_g'?"),
-        (LOG + "[profile]\nheat_capacity_J_per_K = 60.0\nenv_temp_C = 20.0\nlos_W_per_K = 0.1\n", "did you mean 'loss_W_per_K'?"),
-        (LOG + "[profile]\nheat_capacity_J_per_K = 1e300\nenv_temp_C = 20.0\nloss_W_per_K = 0.1\n", "physically possible"),
-        (LOG + "[sample]\nmass_g = 5.0\n[calorimeter]\nheat_capacity_J_per_K = 40\n[sample2]\n", "'sample2'"),
+        (
+            LOG + "[profile]\nheat_capacity_J_per_K = 60.0\nenv_temp_C = 20.0\nlos_W_per_K = 0.1\n",
+            "did you mean 'loss_W_per_K'?",
+        ),
+        (
+            LOG
+            + "[profile]\nheat_capacity_J_per_K = 1e300\nenv_temp_C = 20.0\nloss_W_per_K = 0.1\n",
+            "physically possible",
+        ),
+        (
+            LOG + "[sample]\nmass_g = 5.0\n[calorimeter]\nheat_capacity_J_per_K = 40\n[sample2]\n",
+            "'sample2'",
+        ),
     ],
-    ids=["table", "log-key", "reduce-key", "neg-C", "neg-u", "cp", "mass", "seconds", "inf",
-         "content-key", "profile-key", "profile-C", "extra-table"],  # fmt: skip
+    ids=[
+        "table",
+        "log-key",
+        "reduce-key",
+        "neg-C",
+        "neg-u",
+        "cp",
+        "mass",
+        "seconds",
+        "inf",
+        "content-key",
+        "profile-key",
+        "profile-C",
+        "extra-table",
+    ],  # fmt: skip
 )
 def test_run_file_mistakes_are_refused_with_the_closest_name(tmp_path, text, fragment):
     p = tmp_path / "run.toml"
@@ -56,7 +82,10 @@ def _log(path: Path, delta_k: float, seed: int) -> None:
         noise_K=0.002,
         seed=seed,
     )
-    rows = "\n".join(f"{a:.2f},{b:.5f}" for a, b in zip(run.thermogram.time_s, run.thermogram.temp_C, strict=True))
+    rows = "\n".join(
+        f"{a:.2f},{b:.5f}"
+        for a, b in zip(run.thermogram.time_s, run.thermogram.temp_C, strict=True)
+    )
     path.write_text("# invented data\ntime_s,temp_C\n" + rows + "\n")
 
 
@@ -70,7 +99,8 @@ def cup(tmp_path):
         "seconds = 360.0\nu_seconds = 0.2\n"
     )
     (tmp_path / "measure.toml").write_text(
-        "[log]\nfile = 'run.csv'\n[calorimeter]\nheat_capacity_J_per_K = 40.0\n" + WATER
+        "[log]\nfile = 'run.csv'\n[calorimeter]\nheat_capacity_J_per_K = 40.0\n"
+        + WATER
         + "[sample]\nname = 's'\nmass_g = 5.0\nu_mass_g = 0.01\n"
     )
     return tmp_path
@@ -78,7 +108,8 @@ def cup(tmp_path):
 
 def test_a_measuring_run_listed_as_calibration_is_refused(cup):
     (cup / "run2.toml").write_text(
-        "[log]\nfile = 'run.csv'\n[calorimeter]\ncalibrations = ['measure.toml']\n" + WATER
+        "[log]\nfile = 'run.csv'\n[calorimeter]\ncalibrations = ['measure.toml']\n"
+        + WATER
         + "[sample]\nname = 's'\nmass_g = 5.0\n"
     )
     with pytest.raises(InputError, match="is not a calibration run"):

@@ -406,9 +406,8 @@ def sim(link_path: Path, scenario: str, speed: float, flash_dir: Path | None, tr
     import tempfile
 
     from heatlog.sim.board import PtyServer, VirtualBoard
-    from heatlog.sim.scenarios import scenario as get_scenario
-
     from heatlog.sim.linkpath import claim_link_path
+    from heatlog.sim.scenarios import scenario as get_scenario
 
     claim_link_path(link_path)  # before anything is made: never over an existing file
     scn = get_scenario(scenario)

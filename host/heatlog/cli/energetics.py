@@ -36,7 +36,6 @@ _number = click.FLOAT
 
 def _inp(value: float, u: float, unit: str, name: str) -> Any:
     from heatlog.gum import Input
-
     from heatlog.inputgate import check_quantity
 
     if not math.isfinite(value):

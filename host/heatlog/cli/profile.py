@@ -9,11 +9,11 @@ import click
 from heatlog.cli.output import emit, json_option
 from heatlog.errors import InputError
 from heatlog.gum import Input
+from heatlog.inputgate import Finding, check_profile_settings, findings_text
 from heatlog.profile import KINDS, GapPolicy, ProfileResult, ProfileSettings, Thresholds
 from heatlog.profile.analysis import DEFAULT_U_ENV_K, DEFAULT_U_TEMP_K, analyse_profile
 from heatlog.profile.logcheck import DEFAULT_GAP_FACTOR
 from heatlog.profile.maturity import DEFAULT_ACTIVATION_K, DEFAULT_DATUM_C, DEFAULT_REFERENCE_C
-from heatlog.inputgate import Finding, check_profile_settings, findings_text
 from heatlog.runfile import load_run, profile_run_checked
 from heatlog.thermogram import read_profile_csv
 

@@ -33,7 +33,9 @@ def claim_link_path(link_path: str | os.PathLike[str]) -> Path:
         raise InputError(f"{p} exists; choose another path for --link")
     parent = p.parent
     if not parent.exists():
-        raise InputError(f"{p}: the folder {parent} does not exist; create it or choose another path")
+        raise InputError(
+            f"{p}: the folder {parent} does not exist; create it or choose another path"
+        )
     if not parent.is_dir():
         raise InputError(f"{p}: {parent} is not a folder; choose another path for --link")
     if not os.access(parent, os.W_OK):
