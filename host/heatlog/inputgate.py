@@ -66,6 +66,9 @@ MAX_SPIKE_RUN = 3
 MAX_DROPPED_SHARE = 0.05
 #: Longest plausible run, s: a cup thermogram and a long run (common practice, no source).
 MAX_RUN_S = {"thermogram": 3 * 86400.0, "profile": 400 * 86400.0}
+#: Longest plausible long run by its kind (``heatlog profile --kind``): warmers and packs last
+#: hours, setting materials weeks (common practice, no source).
+MAX_PROFILE_S = {"warmer": 3 * 86400.0, "pack": 3 * 86400.0, "cement": 120 * 86400.0}
 #: Kelvin readings: the median lies here and nothing lies below KELVIN_MIN.
 KELVIN_RANGE = (200.0, 450.0)
 KELVIN_MIN = 150.0
@@ -227,7 +230,13 @@ def spike_rows(y: np.ndarray, valid: np.ndarray) -> tuple[np.ndarray, np.ndarray
 
 
 def _time_scale(
-    t: np.ndarray, unit: str, name: str, kind: str, findings: list[Finding], where: str
+    t: np.ndarray,
+    unit: str,
+    name: str,
+    kind: str,
+    findings: list[Finding],
+    where: str,
+    limit: float | None = None,
 ) -> float:
     """Seconds per unit of the time column: from the header, else from the sampling pattern."""
     u = unit.strip().lower()
@@ -256,7 +265,7 @@ def _time_scale(
         return 1.0
     step = float(np.median(steps))
     span = float(np.max(t) - np.min(t))
-    limit = MAX_RUN_S[kind]
+    limit = MAX_RUN_S[kind] if limit is None else limit
     whole = bool(np.all(np.abs(t - np.round(t)) < 1e-9 * np.maximum(1.0, np.abs(t))))
     too_long = span > limit or (kind == "thermogram" and step >= 100.0)
     if too_long and whole and step >= 10.0 and 60.0 <= span / 1000.0 <= limit:
@@ -462,6 +471,7 @@ def gate_series(
     flags: np.ndarray | None = None,
     raw: bool = False,
     notes: Sequence[str] = (),
+    run_kind: str = "generic",
 ) -> Gated:
     """Check one logged series (time and a temperature or raw-reading column, with channels).
 
@@ -470,7 +480,8 @@ def gate_series(
     minutes to hours; "profile": days to weeks, clock resets allowed). ``raw`` marks raw
     readings (counts or ohms: no unit or sentinel checks). ``temperature_channels`` are checked
     like the temperature; ``flags`` (non-zero = probe fault) leaves rows out. ``notes`` from the
-    reader (decimal commas, date-time text) become flagged findings.
+    reader (decimal commas, date-time text) become flagged findings. ``run_kind`` (warmer, pack,
+    cement, generic) narrows the plausible length of a long run.
     """
     t = np.asarray(time_s, dtype=np.float64)
     y = np.asarray(temp, dtype=np.float64)
@@ -622,7 +633,8 @@ def gate_series(
         )
 
     # time unit from the header or the sampling pattern (on the rows kept)
-    scale = _time_scale(t[keep], time_unit, time_name, kind, findings, where)
+    limit = MAX_PROFILE_S.get(run_kind, MAX_RUN_S[kind]) if kind == "profile" else None
+    scale = _time_scale(t[keep], time_unit, time_name, kind, findings, where, limit)
     t = t * scale if scale != 1.0 else t
     return Gated(
         t[keep],

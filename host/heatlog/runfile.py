@@ -293,6 +293,7 @@ def read_log_arrays(
     *,
     kind: Literal["thermogram", "profile"] = "profile",
     temperature_channels: Sequence[str] = (),
+    run_kind: str = "generic",
 ) -> tuple[np.ndarray, np.ndarray, dict[str, np.ndarray], dict[str, Any]]:
     """Time, temperature (through the probe file for raw readings), ``extra`` columns and
     metadata, in file order and unchecked for order (long runs handle clock resets themselves).
@@ -320,6 +321,7 @@ def read_log_arrays(
         temperature_channels=temperature_channels,
         raw=log.raw_col is not None,
         notes=table.notes,
+        run_kind=run_kind,
     )
     time_s, reading, extras = gated.time_s, gated.temp_C, gated.channels
     meta: dict[str, Any] = {"source": str(log.file), "findings": gated.findings}
@@ -624,7 +626,7 @@ def profile_run_checked(spec: RunSpec) -> tuple[ProfileResult, tuple[Finding, ..
     extra = [c for c in (cols.get("env"), cols.get("flags")) if c]
     env = [cols["env"]] if "env" in cols else []
     time_s, temp, extras, meta = read_log_arrays(
-        spec.log, extra, kind="profile", temperature_channels=env
+        spec.log, extra, kind="profile", temperature_channels=env, run_kind=spec.profile.kind
     )
     result = analyse_profile(
         time_s,

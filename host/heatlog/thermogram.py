@@ -227,6 +227,7 @@ def read_profile_csv(
     temp_col: str = "temp_C",
     env_col: str | None = None,
     flags_col: str | None = None,
+    run_kind: str = "generic",
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray | None, np.ndarray | None, tuple[Any, ...]]:
     """A long-run log (``heatlog profile FILE``): time, temperature, environment and flags
     columns in file order (clock resets are the profile's to split), past the input gate.
@@ -250,6 +251,7 @@ def read_profile_csv(
         channel_units={c: units.get(c.lower(), "") for c in optional},
         temperature_channels=[env_col] if env_col else [],
         notes=table.notes,
+        run_kind=run_kind,
     )
     env = gated.channels[env_col] if env_col else None
     flags = gated.channels[flags_col] if flags_col else None

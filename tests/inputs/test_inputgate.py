@@ -291,3 +291,14 @@ def test_profile_in_kelvin_from_a_run_file(warmer, tmp_path):
     d = json.loads(r.output)
     assert [f["code"] for f in d["findings"]] == ["temp-unit"]
     assert abs(d["heat_J"] - ok["heat_J"]) < ok["u_heat_J"]
+
+
+def test_a_short_warmer_log_in_milliseconds_is_recognised_by_its_kind(tmp_path):
+    """4 h at 5 s in ms would be 167 days in s: plausible for setting cement, not for a warmer."""
+    run = warmer_run(duration_s=4 * 3600.0, dt_s=5.0, noise_K=0.01, seed=2)
+    ok = json.loads(_profile(_write(tmp_path / "ok.csv", run.time_s, run.temp_C)).output)
+    r = _profile(_write(tmp_path / "ms.csv", np.round(run.time_s * 1000), run.temp_C))
+    assert r.exit_code == 0, r.output
+    d = json.loads(r.output)
+    assert [f["code"] for f in d["findings"]] == ["time-unit"]
+    assert abs(d["heat_J"] - ok["heat_J"]) < ok["u_heat_J"]

@@ -278,7 +278,7 @@ def profile(
         )
         check_profile_settings(settings, "heatlog profile")
         time_s, temp, env, flags, findings = read_profile_csv(
-            Path(file), time_col, temp_col, env_col, flags_col
+            Path(file), time_col, temp_col, env_col, flags_col, run_kind=kind
         )
         source = file
         result = analyse_profile(time_s, temp, settings, env_C=env, flags=flags, where=source)
