@@ -210,13 +210,14 @@ def read_table(
     min_rows: int = 1,
     what: str = "table",
     clock_col: str | None = None,
+    force_clock: bool = False,
 ) -> Table:
     """:func:`read_columns` with the header's units, the file line of every row and the notes.
 
     Semicolon- or tab-separated files with decimal commas (``21,5``) are read with the comma as
     the decimal mark. ``clock_col`` may hold date-time text instead of numbers (ISO 8601 or a
     common spreadsheet form, :mod:`heatlog.clocktext`): it is returned as seconds from the first
-    row.
+    row (``force_clock``: it must, even when its first cell looks like a number).
     """
     path: Path | None = None
     rest_on_disk = False
@@ -270,6 +271,7 @@ def read_table(
             min_rows=min_rows,
             what=where,
             clock_col=clock_col,
+            force_clock=force_clock,
         )
     header_line = text.count("\n", 0, pos) + 1
     body = text[pos:]
@@ -300,7 +302,7 @@ def read_table(
     if clock_j is not None:
         cells = first_row.split(delimiter)
         clock_cell = cells[idx[clock_j]] if idx[clock_j] < len(cells) else ""
-    clock = clock_j is not None and looks_like_clock(clock_cell)
+    clock = clock_j is not None and (force_clock or looks_like_clock(clock_cell))
     if (decimal_comma or clock) and rest_on_disk:
         assert path is not None
         return read_table(
@@ -310,6 +312,7 @@ def read_table(
             min_rows=min_rows,
             what=where,
             clock_col=clock_col,
+            force_clock=force_clock,
         )
     if decimal_comma:
         data_text = data_text.replace(",", ".")
@@ -329,6 +332,7 @@ def read_table(
 
     if clock:
         assert clock_j is not None
+        units[wanted[clock_j]] = "s"  # date-time text: seconds by construction
         return table(
             _read_with_clock(
                 data_text, header_line + 1, delimiter, idx, wanted, clock_j, where, min_rows, notes

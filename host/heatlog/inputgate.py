@@ -267,7 +267,7 @@ def _time_scale(
     span = float(np.max(t) - np.min(t))
     limit = MAX_RUN_S[kind] if limit is None else limit
     whole = bool(np.all(np.abs(t - np.round(t)) < 1e-9 * np.maximum(1.0, np.abs(t))))
-    too_long = span > limit or (kind == "thermogram" and step >= 100.0)
+    too_long = span > limit or (kind == "thermogram" and step >= 100.0 and span > 86400.0)
     if too_long and whole and step >= 10.0 and 60.0 <= span / 1000.0 <= limit:
         findings.append(
             Finding(

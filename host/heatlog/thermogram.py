@@ -1,19 +1,16 @@
 """A thermogram: one temperature time series (plus optional extra channels) and its metadata.
 
 :class:`Thermogram` is what the reduction works on. :func:`read_thermogram_csv` is the import
-from a headed CSV file: numeric columns go through :func:`heatlog.csvtable.read_columns`; an
-ISO-8601 time column (``--iso-time``) is parsed here with the standard library and turned into
-seconds from the first row.
+from a headed CSV file through :func:`heatlog.csvtable.read_table` (a date-time time column,
+ISO 8601 or a spreadsheet form, becomes seconds from the first row) and the input gate
+(:func:`heatlog.inputgate.gate_series`), whose findings travel in the metadata.
 """
 
 from __future__ import annotations
 
-import csv
-import io
 import os
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
-from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
@@ -96,73 +93,6 @@ def check_thermogram_arrays(time_s: np.ndarray, temp_C: np.ndarray, where: str) 
         )
 
 
-def _parse_iso(cell: str, row: int, where: str) -> float:
-    text = cell.strip()
-    if text.endswith(("Z", "z")):
-        text = text[:-1] + "+00:00"
-    try:
-        stamp = datetime.fromisoformat(text)
-    except ValueError:
-        raise InputError(
-            f"{where}: data row {row}: {cell.strip()!r} is not an ISO-8601 time "
-            "such as 2026-03-01T10:15:00"
-        ) from None
-    if stamp.tzinfo is None:
-        stamp = stamp.replace(tzinfo=UTC)
-    return stamp.timestamp()
-
-
-def _read_iso_time(
-    path: Path, time_col: str, temp_col: str, channels: Sequence[str]
-) -> dict[str, np.ndarray]:
-    where = str(path)
-    try:
-        text = path.read_text(encoding="utf-8-sig")
-    except FileNotFoundError:
-        raise InputError(f"{where}: no such file") from None
-    except (IsADirectoryError, UnicodeDecodeError, OSError):
-        raise InputError(f"{where}: cannot read it as a UTF-8 text file") from None
-    lines = [ln for ln in text.splitlines() if ln.strip() and not ln.lstrip().startswith("#")]
-    if not lines:
-        raise InputError(f"{where}: the file is empty; expected a header row such as 'time,temp_C'")
-    try:
-        delimiter = csv.Sniffer().sniff(lines[0], delimiters=",;\t").delimiter
-    except csv.Error:
-        delimiter = ","
-    rows = list(csv.reader(io.StringIO("\n".join(lines)), delimiter=delimiter))
-    header = [h.strip().lower() for h in rows[0]]
-    wanted = [time_col, temp_col, *channels]
-    missing = [c for c in wanted if c.lower() not in header]
-    if missing:
-        raise InputError(
-            f"{where}: missing column(s) {', '.join(repr(m) for m in missing)}; "
-            f"the header has {', '.join(repr(h) for h in rows[0])}"
-        )
-    idx = [header.index(c.lower()) for c in wanted]
-    out: dict[str, list[float]] = {c: [] for c in wanted}
-    for r, row in enumerate(rows[1:], start=1):
-        if len(row) <= max(idx):
-            raise InputError(f"{where}: data row {r} has too few cells")
-        out[time_col].append(_parse_iso(row[idx[0]], r, where))
-        for c, j in zip(wanted[1:], idx[1:], strict=True):
-            try:
-                value = float(row[j])
-            except ValueError:
-                raise InputError(
-                    f"{where}: data row {r}, column {c!r}: {row[j]!r} is not a number"
-                ) from None
-            if not np.isfinite(value):
-                raise InputError(
-                    f"{where}: column {c!r} holds a non-finite value (NaN or inf) in data row {r}"
-                )
-            out[c].append(value)
-    if not out[time_col]:
-        raise InputError(f"{where}: the header has no data rows below it")
-    arrays = {c: np.asarray(v, dtype=np.float64) for c, v in out.items()}
-    arrays[time_col] = arrays[time_col] - arrays[time_col][0]
-    return arrays
-
-
 def read_thermogram_csv(
     path: str | os.PathLike[str],
     time_col: str = "time_s",
@@ -172,26 +102,25 @@ def read_thermogram_csv(
 ) -> Thermogram:
     """Read a headed CSV file into a :class:`Thermogram`.
 
-    ``time_col`` holds seconds (any origin), or ISO-8601 timestamps when ``iso_time`` is true
-    (naive stamps are taken as UTC; the result counts seconds from the first row). Extra
-    ``channels`` are read on the same rows. Bad files raise :class:`InputError` with one line.
+    ``time_col`` holds seconds (any origin, or a unit named in the header), or date-time text
+    (ISO 8601 or a spreadsheet form; required when ``iso_time`` is true; naive stamps are one
+    fixed clock; the result counts seconds from the first row). Extra ``channels`` are read on
+    the same rows; a ``flags``/``status``/``fault`` column, when present, marks probe faults.
+    Every row passes the input gate; its findings are in ``metadata["findings"]``. Bad files
+    raise :class:`InputError` with one line.
     """
     p = Path(path)
-    if iso_time:
-        cols = _read_iso_time(p, time_col, temp_col, channels)
-        table = None
-    else:
-        table = read_table(
-            p,
-            [time_col, temp_col, *channels],
-            optional=[c for c in FLAG_COLUMNS if c not in (time_col, temp_col, *channels)],
-            what="thermogram",
-            clock_col=time_col,
-        )
-        cols = table.columns
-    lookup = {k.lower(): v for k, v in cols.items()}
-    units = {} if table is None else {k.lower(): v for k, v in table.units.items()}
-    flag_col = next((c for c in FLAG_COLUMNS if c in lookup), None) if table else None
+    table = read_table(
+        p,
+        [time_col, temp_col, *channels],
+        optional=[c for c in FLAG_COLUMNS if c not in (time_col, temp_col, *channels)],
+        what="thermogram",
+        clock_col=time_col,
+        force_clock=iso_time,  # date-time text is recognised anyway; the flag requires it
+    )
+    lookup = {k.lower(): v for k, v in table.columns.items()}
+    units = {k.lower(): v for k, v in table.units.items()}
+    flag_col = next((c for c in FLAG_COLUMNS if c in lookup), None)
     gated = gate_series(
         lookup[time_col.lower()],
         lookup[temp_col.lower()],
@@ -201,12 +130,12 @@ def read_thermogram_csv(
         temp_name=temp_col,
         time_unit=units.get(time_col.lower(), ""),
         temp_unit=units.get(temp_col.lower(), ""),
-        lines=None if table is None else table.line_numbers,
+        lines=table.line_numbers,
         channels={c: lookup[c.lower()] for c in channels},
         channel_units={c: units.get(c.lower(), "") for c in channels},
         temperature_channels=[c for c in channels if c.lower().endswith(("_c", "temp"))],
         flags=None if flag_col is None else lookup[flag_col],
-        notes=() if table is None else table.notes,
+        notes=table.notes,
     )
     return Thermogram(
         time_s=gated.time_s,

@@ -74,7 +74,7 @@ def test_iso_time_with_zone_and_bad_cells(tmp_path):
     assert read_thermogram_csv(p, time_col="time", iso_time=True).time_s[-1] == 9.0
     rows[4] = "yesterday,20"
     p = _write(tmp_path, "time,temp_C\n" + "\n".join(rows) + "\n")
-    with pytest.raises(InputError, match="row 5.*ISO-8601"):
+    with pytest.raises(InputError, match=r"line 6, column 'time': 'yesterday'.*date-time"):
         read_thermogram_csv(p, time_col="time", iso_time=True)
     rows[4] = "2026-03-01T10:00:04Z,hot"
     p = _write(tmp_path, "time,temp_C\n" + "\n".join(rows) + "\n")
