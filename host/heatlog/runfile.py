@@ -555,6 +555,14 @@ def evaluate_run(
         b = substitute(b, "ΔT", dt)
         return carry_calibration(b, c_cal) if isinstance(c_cal, Budget) else b
 
+    liquid = [c for c in contents if spec.sample is None or c.name != spec.sample.name]
+    for code, message, action in runschema.proportion_findings(
+        c_budget.value,
+        sum(c.mass_g.value * c.cp.value for c in contents),
+        sum(c.mass_g.value for c in liquid),
+        None if spec.sample is None else spec.sample.mass_g.value,
+    ):
+        found_in.append(Finding(code, "flag", message, action))
     q = carried(heat(dt, c_cal, list(contents)))
     result = RunResult(
         spec, red, mean_temp, contents, c_cal=c_budget, heat_J=q, findings=tuple(found_in)

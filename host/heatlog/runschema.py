@@ -177,3 +177,43 @@ def refuse_non_calibration(is_calibration: bool, path: str, user: str) -> None:
             "calibration run (it has no [electrical] table); list only calibration run files "
             "there, or give heat_capacity_J_per_K"
         )
+
+
+#: The calorimeter's own heat capacity against that of its contents: in a cup, flask or Dewar
+#: it lies between about 1e-4 (a foam cup) and a few times the contents'; beyond
+#: these the number is far more likely a typing or unit mistake (common practice, no source).
+CONSTANT_TO_CONTENTS = (1e-4, 10.0)
+#: A dissolved or reacted sample heavier than this many times the liquid it goes into.
+SAMPLE_TO_CONTENTS = 2.0
+
+
+def proportion_findings(
+    c_cal_J_per_K: float | None, contents_J_per_K: float, contents_g: float, sample_g: float | None
+) -> list[tuple[str, str, str]]:
+    """(code, message, what to do) for proportions no cup run has: a calorimeter constant far
+    above or below its contents' heat capacity, a sample heavier than its liquid. Flags, not
+    refusals: unusual set-ups exist, so the result is given and the doubt printed beside it."""
+    out = []
+    lo, hi = CONSTANT_TO_CONTENTS
+    if c_cal_J_per_K is not None and contents_J_per_K > 0:
+        ratio = c_cal_J_per_K / contents_J_per_K
+        if not lo <= ratio <= hi:
+            out.append(
+                (
+                    "proportions",
+                    f"the calorimeter constant ({c_cal_J_per_K:.4g} J/K) is {ratio:.3g} times the "
+                    f"contents' heat capacity ({contents_J_per_K:.4g} J/K); cup, flask and Dewar "
+                    f"calorimeters lie between {lo:g} and {hi:g}",
+                    "check heat_capacity_J_per_K and the contents' masses and units",
+                )
+            )
+    if sample_g is not None and contents_g > 0 and sample_g > SAMPLE_TO_CONTENTS * contents_g:
+        out.append(
+            (
+                "proportions",
+                f"the sample ({sample_g:.4g} g) is heavier than {SAMPLE_TO_CONTENTS:g} times the "
+                f"contents it goes into ({contents_g:.4g} g)",
+                "check the sample's and the contents' masses and units",
+            )
+        )
+    return out
