@@ -176,3 +176,18 @@ def test_sim_link_never_replaces_a_file_and_bad_paths_are_one_line(tmp_path):
     assert r.exit_code == 0, r.output
     assert json.loads(r.output)["scenario"] == "demo"
     assert not os.path.lexists(stale)  # the simulator removes its own link when it stops
+
+
+def test_odd_proportions_are_flagged(cup):
+    text = (cup / "measure.toml").read_text().replace("= 40.0", "= 1e6")
+    (cup / "measure.toml").write_text(text)
+    res = run_file(cup / "measure.toml")
+    assert [f.code for f in res.findings] == ["proportions"]
+    assert "times the contents' heat capacity" in res.findings[0].message
+
+
+def test_a_run_without_a_sample_says_so(cup):
+    text = (cup / "measure.toml").read_text().split("[sample]")[0]
+    (cup / "measure.toml").write_text(text)
+    res = run_file(cup / "measure.toml")
+    assert [f.code for f in res.findings] == ["no-sample"] and res.heat_J is not None
