@@ -63,7 +63,8 @@ class Budget:
 
     @property
     def u(self) -> float:
-        return math.sqrt(sum(c.contribution**2 for c in self.components))
+        # hypot: no overflow for huge contributions (the sum of squares would raise)
+        return math.hypot(*(c.contribution for c in self.components))
 
     @property
     def expanded(self) -> float:
@@ -73,12 +74,15 @@ class Budget:
     def dof(self) -> float:
         """Effective degrees of freedom by Welch–Satterthwaite (JCGM 100, G.4.1)."""
         u = self.u
-        if u == 0.0:
+        if u == 0.0 or not math.isfinite(u):
             return math.inf
+        # u⁴/Σ(cᵢ⁴/νᵢ) written with cᵢ/u, so that no fourth power overflows
         denom = sum(
-            c.contribution**4 / c.dof for c in self.components if math.isfinite(c.dof) and c.dof > 0
+            (c.contribution / u) ** 4 / c.dof
+            for c in self.components
+            if math.isfinite(c.dof) and c.dof > 0
         )
-        return math.inf if denom == 0.0 else u**4 / denom
+        return math.inf if denom == 0.0 else 1.0 / denom
 
     def coverage_factor(self, p: float = 0.9545) -> float:
         """Student-t coverage factor for ν_eff at coverage probability ``p`` (JCGM 100, G.3)."""
@@ -91,8 +95,9 @@ class Budget:
 
     def shares(self) -> list[float]:
         """Each component's share of the combined variance, in percent."""
-        var = self.u**2
-        return [100.0 * c.contribution**2 / var if var > 0 else 0.0 for c in self.components]
+        u = self.u
+        ok = 0 < u < math.inf
+        return [100.0 * (c.contribution / u) ** 2 if ok else 0.0 for c in self.components]
 
     def to_dict(self) -> dict[str, object]:
         return {

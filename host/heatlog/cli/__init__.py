@@ -126,7 +126,7 @@ def load_command(name: str) -> click.Command:
 class _UserError(click.ClickException):
     def __init__(self, message: str, exit_code: int) -> None:
         super().__init__(message)
-        self.exit_code = exit_code
+        self.exit_code = exit_code  # type: ignore[misc]  # click declares it on the class
 
 
 def error_kind(exc: BaseException) -> str:

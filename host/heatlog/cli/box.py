@@ -62,13 +62,18 @@ def box() -> None:
               help="Standard uncertainty of --heat-capacity, J/K (k=1).")  # fmt: skip
 @click.option("--start", "start_s", type=float, default=None,
               help="Cooling run: fit from this time, s (default: the first reading).")  # fmt: skip
+@click.option("--probe-tau", type=click.FloatRange(min=0.0), default=None,
+              help="The probe's time constant, s (`heatlog probe tau`): its lag is corrected "
+              "before the fit.")  # fmt: skip
+@click.option("--u-probe-tau", type=click.FloatRange(min=0.0), default=None,
+              help="Standard uncertainty of --probe-tau, s (k=1); required with it.")  # fmt: skip
 @json_option
 def fit(
     log: Path, out: Path | None, time_col: str, temp_col: str, env_temp: float | None,
     env_col: str | None, u_env_temp: float | None, power: float | None, u_power: float | None,
     t_on: float | None, t_off: float | None, power_col: str | None, u_power_rel: float | None,
     cooling: bool, heat_capacity: float | None, u_heat_capacity: float | None,
-    start_s: float | None, as_json: bool,
+    start_s: float | None, probe_tau: float | None, u_probe_tau: float | None, as_json: bool,
 ) -> None:  # fmt: skip
     """Find C (J/K) and G (W/K) of an insulated box from LOG, a heater run or a cooling run.
 
@@ -110,6 +115,8 @@ def fit(
     if cooling:
         missing += [n for n, v in (("--heat-capacity", heat_capacity),
                                    ("--u-heat-capacity", u_heat_capacity)) if v is None]  # fmt: skip
+    if probe_tau is not None and u_probe_tau is None:
+        missing.append("--u-probe-tau (standard uncertainty of the probe's time constant)")
     if missing:
         raise InputError("missing input(s), all at once: " + "; ".join(missing))
     if power is not None and not power > 0:
@@ -124,6 +131,13 @@ def fit(
     env: Any = look[env_col.lower()] if env_col else float(env_temp)  # type: ignore[arg-type]
     u_env = DEFAULT_U_ENV_K if u_env_temp is None else u_env_temp
     result: dict[str, Any] = {"log": str(log), "u_env_temp_K": u_env}
+    measured = y
+    if probe_tau is not None:  # the box's temperature, not the lagging probe's
+        from heatlog.profile.lag import correct_lag
+
+        lag = correct_lag(t, measured, Input(probe_tau, float(u_probe_tau or 0.0), "s"))
+        y = lag.corrected_C
+        result["probe_lag"] = lag.to_dict()
 
     if heater:
         if power_col is not None:
@@ -133,10 +147,24 @@ def fit(
             rel = float(u_power) / float(power)  # type: ignore[arg-type]
         base = heating_curve_fit(t, y, env, p, u_power_rel=rel)
         # the room temperature's uncertainty: refit with T_env shifted by ±u (sensitivity)
-        hi = heating_curve_fit(t, y, np.asarray(env) + u_env, p, u_power_rel=0.0)
-        lo = heating_curve_fit(t, y, np.asarray(env) - u_env, p, u_power_rel=0.0)
+        hi = heating_curve_fit(t, y, np.asarray(env) + u_env, p, sensitivity_only=True)
+        lo = heating_curve_fit(t, y, np.asarray(env) - u_env, p, sensitivity_only=True)
         du_c = abs(hi.heat_capacity.value - lo.heat_capacity.value) / 2.0
         du_g = abs(hi.loss.G_W_per_K - lo.loss.G_W_per_K) / 2.0
+        if probe_tau is not None and u_probe_tau:  # and τ's: refit with τ ± u(τ)
+            from heatlog.profile.lag import correct_lag
+
+            moved = [
+                heating_curve_fit(
+                    t, correct_lag(t, measured, Input(tau, 0.0, "s")).corrected_C, env, p,
+                    sensitivity_only=True,
+                )
+                for tau in (probe_tau + u_probe_tau, max(probe_tau - u_probe_tau, 0.0))
+            ]  # fmt: skip
+            du_c = math.hypot(
+                du_c, abs(moved[0].heat_capacity.value - moved[1].heat_capacity.value) / 2
+            )
+            du_g = math.hypot(du_g, abs(moved[0].loss.G_W_per_K - moved[1].loss.G_W_per_K) / 2)
         c_in = Input(base.heat_capacity.value, math.hypot(base.heat_capacity.u, du_c), "J/K")
         g_in = Input(base.loss.G_W_per_K, math.hypot(base.loss.u_G_W_per_K, du_g), "W/K")
         method, corr = "heating-curve fit", base.correlation
@@ -145,9 +173,9 @@ def fit(
         cf = cooling_fit(t, y, env, start_s=start_s)
         c_in = Input(float(heat_capacity), float(u_heat_capacity), "J/K")  # type: ignore[arg-type]
         loss = loss_from_cooling(cf, c_in)
-        hi = cooling_fit(t, y, np.asarray(env) + u_env, start_s=start_s)
-        lo = cooling_fit(t, y, np.asarray(env) - u_env, start_s=start_s)
-        du_g = abs(hi.rate_per_s - lo.rate_per_s) / 2.0 * c_in.value
+        hi_cf = cooling_fit(t, y, np.asarray(env) + u_env, start_s=start_s)
+        lo_cf = cooling_fit(t, y, np.asarray(env) - u_env, start_s=start_s)
+        du_g = abs(hi_cf.rate_per_s - lo_cf.rate_per_s) / 2.0 * c_in.value
         g_in = Input(loss.G_W_per_K, math.hypot(loss.u_G_W_per_K, du_g), "W/K")
         method, corr = "cooling-curve fit (C given)", None
         result.update(fit=cf.to_dict(), samples=cf.samples, residual_rms_K=cf.residual_K)

@@ -442,12 +442,15 @@ def sim(link_path: Path | None, tcp_port: int | None, scenario: str, speed: floa
     import tempfile
 
     from heatlog.sim.board import PtyServer, TcpServer, VirtualBoard
+    from heatlog.sim.linkpath import claim_link_path
     from heatlog.sim.scenarios import scenario as get_scenario
 
     if (link_path is None) == (tcp_port is None):
         raise click.UsageError(
             "give --link PATH (a pseudo-terminal, Linux/macOS) or --tcp PORT (any system), one of them"
         )
+    if link_path is not None:
+        claim_link_path(link_path)  # before anything is made: never over an existing file
     scn = get_scenario(scenario)
     tmp = None
     if flash_dir is None:

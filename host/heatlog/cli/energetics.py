@@ -36,11 +36,13 @@ _number = click.FLOAT
 
 def _inp(value: float, u: float, unit: str, name: str) -> Any:
     from heatlog.gum import Input
+    from heatlog.inputgate import check_quantity
 
     if not math.isfinite(value):
         raise InputError(f"{name} must be a finite number, got {value}")
     if not (math.isfinite(u) and u >= 0):
         raise InputError(f"uncertainty of {name} must be a finite number ≥ 0, got {u}")
+    check_quantity(name, value, u, unit)  # bounded before any arithmetic
     return Input(value, u, unit)
 
 
@@ -123,7 +125,25 @@ def _delta_t(delta_t: float | None, u_delta_t: float | None, reduce_json: Path |
     return _inp(delta_t, u_delta_t, "K", "--delta-t")
 
 
-def _report(as_json: bool, budget: Any, caution: str, extra: dict[str, Any] | None = None) -> None:
+_allow_negative = click.option(
+    "--allow-negative",
+    is_flag=True,
+    help="Print a significantly negative C_cal instead of refusing it.",
+)
+
+
+def _report(
+    as_json: bool,
+    budget: Any,
+    caution: str,
+    extra: dict[str, Any] | None = None,
+    allow_negative: bool = False,
+) -> None:
+    from heatlog.inputgate import check_constant
+
+    flag = None
+    if budget.unit == "J/K":
+        flag = check_constant(budget.value, budget.u, "C_cal", allow_negative=allow_negative)
     payload: dict[str, Any] = {
         "value": budget.value,
         "unit": budget.unit,
@@ -132,6 +152,7 @@ def _report(as_json: bool, budget: Any, caution: str, extra: dict[str, Any] | No
         "coverage_factor": budget.k,
         "budget": budget.to_dict(),
         "caution": caution,
+        "findings": [] if flag is None else [flag.to_dict()],
     }
     payload.update(extra or {})
 
@@ -145,10 +166,8 @@ def _report(as_json: bool, budget: Any, caution: str, extra: dict[str, Any] | No
                 f"{ref['concentration']:.4g} {ref['concentration_unit']} "
                 f"({ref['conditions']}; {ref['source']})"
             )
-        if budget.unit == "J/K" and budget.value < 0:
-            lines.append(
-                "Note: C_cal came out negative; the contents' heat capacity or ΔT is likely off."
-            )
+        if flag is not None:
+            lines.append(f"Note: {flag.message}; {flag.action}.")
         if caution:
             lines.append(caution)
         return "\n".join(lines)
@@ -230,11 +249,12 @@ def _electrical_missing(
 )
 @_delta_t_options
 @_contents_options
+@_allow_negative
 @json_option
 def electrical(
     voltage, u_voltage, current, u_current, power, u_power, power_log, u_power_rel,
     seconds, t_on, t_off, u_seconds, delta_t, u_delta_t, reduce_json,
-    water_g, u_water_g, temp_c, solute, molality, cp, u_cp, as_json,
+    water_g, u_water_g, temp_c, solute, molality, cp, u_cp, allow_negative, as_json,
 ) -> None:  # fmt: skip
     """Electrical calibration: Q = V·I·t (or P·t, or ∫P dt), C_cal = Q/ΔT − m·c_p."""
     from heatlog.energetics import electrical_calibration, electrical_energy, power_energy
@@ -287,7 +307,7 @@ def electrical(
         "Caution: heaters and their leads can burn or shock; keep the heater immersed while on "
         "and follow local electrical rules."
     )
-    _report(as_json, b, caution, {"energy_budget": energy.to_dict()})
+    _report(as_json, b, caution, {"energy_budget": energy.to_dict()}, allow_negative)
 
 
 @calibrate.command("mixing")
@@ -320,10 +340,12 @@ def electrical(
     "--cp", type=_number, default=None, help="c_p of the water, J/(g·K) (default IAPWS-95)."
 )
 @click.option("--u-cp", type=_number, default=None, help="Standard uncertainty of --cp.")
+@_allow_negative
 @json_option
 def mixing(
-    hot_g, hot_c, cold_g, cold_c, final_c, u_mass, u_temp, u_final, cp, u_cp, as_json
-) -> None:
+    hot_g, hot_c, cold_g, cold_c, final_c, u_mass, u_temp, u_final, cp, u_cp, allow_negative,
+    as_json,
+) -> None:  # fmt: skip
     """Method of mixtures: C_cal = [m_h c (T_h − T_f) − m_c c (T_f − T_c)]/(T_f − T_c)."""
     from heatlog.energetics import given_cp, mixing_calibration
 
@@ -341,7 +363,7 @@ def mixing(
         cp_hot=c,
         cp_cold=c,
     )
-    _report(as_json, b, CAUTION_HOT)
+    _report(as_json, b, CAUTION_HOT, None, allow_negative)
 
 
 @calibrate.command("reaction")
@@ -370,10 +392,11 @@ def mixing(
 )
 @_delta_t_options
 @_contents_options
+@_allow_negative
 @json_option
 def reaction_cmd(
     reference, dh, u_dh, per, amount, u_amount, final_conc, delta_t, u_delta_t, reduce_json,
-    water_g, u_water_g, temp_c, solute, molality, cp, u_cp, as_json,
+    water_g, u_water_g, temp_c, solute, molality, cp, u_cp, allow_negative, as_json,
 ) -> None:  # fmt: skip
     """Calibrate with a reaction or dissolution of known enthalpy (q = −ΔH·amount).
 
@@ -430,7 +453,7 @@ def reaction_cmd(
         contents,
         **where,
     )
-    _report(as_json, b, caution, extra)
+    _report(as_json, b, caution, extra, allow_negative)
 
 
 reaction_cmd.name = "reaction"
@@ -449,13 +472,14 @@ def _value_u(text: str) -> Any:
 
 @calibrate.command("combine")
 @click.argument("results", nargs=-1, required=True)
+@_allow_negative
 @json_option
-def combine(results: tuple[str, ...], as_json: bool) -> None:
+def combine(results: tuple[str, ...], allow_negative: bool, as_json: bool) -> None:
     """Combine repeated C_cal results (VALUE:U in J/K) into a weighted mean with the scatter."""
     from heatlog.energetics import combine_calibrations
 
     b = combine_calibrations([_value_u(r) for r in results])
-    _report(as_json, b, "")
+    _report(as_json, b, "", None, allow_negative)
 
 
 @click.command("hess")

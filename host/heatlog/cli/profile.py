@@ -7,15 +7,16 @@ from pathlib import Path
 import click
 
 from heatlog.cli.output import emit, json_option
-from heatlog.csvtable import read_columns
 from heatlog.errors import InputError
 from heatlog.gum import Input
+from heatlog.inputgate import Finding, check_profile_settings, findings_text
 from heatlog.probes.probefile import load_probe
 from heatlog.profile import KINDS, GapPolicy, ProfileResult, ProfileSettings, Thresholds
 from heatlog.profile.analysis import DEFAULT_U_ENV_K, DEFAULT_U_TEMP_K, analyse_profile
 from heatlog.profile.logcheck import DEFAULT_GAP_FACTOR
 from heatlog.profile.maturity import DEFAULT_ACTIVATION_K, DEFAULT_DATUM_C, DEFAULT_REFERENCE_C
-from heatlog.runfile import load_run, profile_run
+from heatlog.runfile import load_run, profile_run_checked
+from heatlog.thermogram import read_profile_csv
 
 CAUTION = (
     "Caution: hand warmers, cold packs, heaters and wet cement can injure skin; follow the "
@@ -42,7 +43,7 @@ def _from_box(
     return b.heat_capacity.value, b.heat_capacity.u, b.loss.value, b.loss.u
 
 
-def _text(result: ProfileResult, source: str) -> str:
+def _text(result: ProfileResult, source: str, findings: tuple[Finding, ...] = ()) -> str:
     d = result.to_dict()
     s = result.settings
     m = result.metrics
@@ -50,6 +51,7 @@ def _text(result: ProfileResult, source: str) -> str:
     lines = [
         f"{source}: {s.kind}, {seg.time_s.size} samples over {_h(seg.duration_s)} "
         f"(segment {result.segment_index} of {len(result.check.segments)})",
+        *(f"  {line}" for line in findings_text(findings)),
         f"  method: {d['method']}",
         f"  G = {result.heat.loss.G_W_per_K:.4g} ± {result.heat.loss.u_G_W_per_K:.2g} W/K (u, k=1) "
         f"({result.heat.loss.source}); C = {s.heat_capacity.value:.5g} ± {s.heat_capacity.u:.2g} J/K (u, k=1)",
@@ -325,7 +327,7 @@ def profile(
     """
     if file.lower().endswith(".toml"):
         spec = load_run(file)
-        result = profile_run(spec)
+        result, findings = profile_run_checked(spec)
         source = str(spec.log.file)
     else:
         if box_path is not None:
@@ -366,15 +368,14 @@ def profile(
             reference_C=reference,
             probe_tau=tau,
         )
-        optional = [c for c in (env_col, flags_col) if c]
-        data = read_columns(Path(file), [time_col, temp_col, *optional], what="log")
-        lookup = {k.lower(): v for k, v in data.items()}
-        time_s, temp = lookup[time_col.lower()], lookup[temp_col.lower()]
-        env = lookup[env_col.lower()] if env_col else None
-        flags = lookup[flags_col.lower()] if flags_col else None
+        check_profile_settings(settings, "heatlog profile")
+        time_s, temp, env, flags, findings = read_profile_csv(
+            Path(file), time_col, temp_col, env_col, flags_col, run_kind=kind
+        )
         source = file
         result = analyse_profile(time_s, temp, settings, env_C=env, flags=flags, where=source)
     payload = result.to_dict()
     payload["file"] = file
+    payload["findings"] = [f.to_dict() for f in findings]
     payload["caution"] = CAUTION
-    emit(as_json, payload, lambda: _text(result, source))
+    emit(as_json, payload, lambda: _text(result, source, findings))

@@ -8,6 +8,7 @@ import click
 
 from heatlog.cli.output import emit, json_option
 from heatlog.gum import Budget
+from heatlog.inputgate import findings_of, findings_text
 from heatlog.reduce import METHODS, Reduction, reduce_thermogram
 from heatlog.thermogram import read_thermogram_csv
 
@@ -52,7 +53,7 @@ def _budget_line(label: str, b: Budget) -> str:
 
 
 def _run_text(result: RunResult) -> str:
-    lines = [result.spec.title, _text(result.reduction)]
+    lines = [result.spec.title, *findings_text(result.findings), _text(result.reduction)]
     if result.c_cal is not None:
         what = "calorimeter constant" if result.spec.electrical else "calorimeter constant used"
         lines.append(_budget_line(what, result.c_cal))
@@ -111,6 +112,11 @@ def _run_text(result: RunResult) -> str:
     default=None,
     help="Reading step in K (ADC/probe resolution); default: from the data, else 0.",
 )
+@click.option(
+    "--allow-negative",
+    is_flag=True,
+    help="Print a run file's negative calorimeter constant instead of refusing it.",
+)
 @json_option
 def reduce(
     file: str,
@@ -122,6 +128,7 @@ def reduce(
     event_start: float | None,
     after_start: float | None,
     resolution: float | None,
+    allow_negative: bool,
     as_json: bool,
 ) -> None:
     """Corrected temperature change (with uncertainty) of one event in FILE.
@@ -135,7 +142,7 @@ def reduce(
         from heatlog.runfile import run_file  # energetics, probes, profile: only for run files
 
         with run_file_hints(file):
-            result = run_file(file)
+            result = run_file(file, allow_negative=allow_negative)
         payload = result.to_dict()
         payload["file"] = file
         payload["caution"] = CAUTION
@@ -150,7 +157,9 @@ def reduce(
         after_start_s=after_start,
         resolution_K=resolution,
     )
+    found = findings_of(thermogram)
     payload = red.to_dict()
     payload["file"] = file
+    payload["findings"] = [f.to_dict() for f in found]
     payload["caution"] = CAUTION
-    emit(as_json, payload, lambda: _text(red))
+    emit(as_json, payload, lambda: "\n".join([*findings_text(found), _text(red)]))

@@ -39,6 +39,7 @@ import numpy as np
 import tomli_w
 
 from heatlog.errors import CalibrationError, HeatlogError
+from heatlog.probes.digest import probe_digest
 from heatlog.probes.fitting import CalibrationFit
 from heatlog.probes.models import MODEL_KINDS, MODEL_NAMES, ProbeModel, build_model
 
@@ -160,6 +161,7 @@ def probe_from_fit(
         "covariance": [[float(v) for v in row] for row in np.atleast_2d(fit.covariance)],
     }
     probe = ProbeFile(probe_id, fit.model, calibration_date, reference, float(u), summary)
+    summary["digest"] = probe_digest(probe.to_dict())  # a later edit or damage is refused
     return parse_probe(probe_to_toml(probe), "fitted probe")  # one validation path
 
 
@@ -227,6 +229,12 @@ def parse_probe(text: str, where: str = "probe file") -> ProbeFile:
         if not isinstance(table, dict):
             raise CalibrationError(f"{where}: [{key}] must be a table")
     _check_covariance(fit, where)
+    if "digest" in fit and fit["digest"] != probe_digest(doc):
+        raise CalibrationError(
+            f"{where}: the file's content no longer matches the digest that 'heatlog probe fit' "
+            "wrote into [fit] (the file was damaged or edited); fit the probe again, or delete "
+            "the digest line if the edit was deliberate"
+        )
     bad_const = sorted(set(constants) - set(_CONSTANTS))
     if bad_const:
         raise CalibrationError(f"{where}: unknown constant(s) {', '.join(bad_const)}")

@@ -502,6 +502,21 @@ def _figure_html(f: Figure) -> str:
     )
 
 
+def _findings_section(inputs: ReportInputs) -> list[str]:
+    """The input gate's findings (spikes left out, units converted, ...): a short section."""
+    from heatlog.inputgate import findings_of
+
+    found = findings_of(inputs.run) if inputs.run is not None else findings_of(inputs.thermogram)
+    if not found:
+        return []
+    items = [
+        f"<li><strong>{esc('refused' if f.severity == 'refuse' else 'flagged')} "
+        f"[{esc(f.code)}]</strong>: {esc(f.message)}; {esc(f.action)}</li>"
+        for f in found
+    ]
+    return ["<h2>Input checks</h2><ul>", *items, "</ul>"]
+
+
 def render_html(inputs: ReportInputs, progress: Progress | None = None) -> str:
     """The whole report as one HTML document (no external resources)."""
     figs = make_figures(inputs, progress)
@@ -551,6 +566,7 @@ def render_html(inputs: ReportInputs, progress: Progress | None = None) -> str:
     body += ["<h2>Probe and calibration</h2>", _probe_section(inputs.probe, inputs.calibration)]
     if "calibration" in by_key:
         body.append(_figure_html(by_key["calibration"]))
+    body += _findings_section(inputs)
     notes = list(inputs.notes)
     if red is not None:
         notes += list(red.notes)

@@ -399,10 +399,14 @@ class PtyServer(_BoardServer):
         self.port = os.ttyname(self.slave)
         self.link_path = link_path
         if link_path is not None:
-            link_path = Path(link_path)
-            if link_path.is_symlink() or link_path.exists():
-                link_path.unlink()
-            link_path.symlink_to(self.port)
+            from heatlog.sim.linkpath import make_link
+
+            try:
+                make_link(link_path, self.port)  # never over an existing file
+            except Exception:
+                for fd in (self.master, self.slave):
+                    os.close(fd)
+                raise
 
     @property
     def path(self) -> str:
