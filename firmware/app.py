@@ -89,6 +89,11 @@ def run():
                 wdt.feed()
             if led is not None:
                 led.value(1 if lg.store.active else 0)
+            if lg.leave:  # the host asked for the REPL (protocol 0x0C); the reply is out
+                time.sleep_ms(100)
+                if wdt is not None:
+                    machine.reset()  # the watchdog cannot be stopped: the host Ctrl-Cs at boot
+                break
             poller.poll(min(wait, 20))
     finally:
         micropython.kbd_intr(3)
