@@ -57,6 +57,7 @@ _COMMAND_MODULES: tuple[tuple[str, str], ...] = (
     ("archive", "probes"),
     ("archive", "runs"),
     ("report", "report"),
+    ("board", "board"),
 )
 
 
