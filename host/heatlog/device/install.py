@@ -290,57 +290,71 @@ def install(
         rep.left_repl = _leave_to_repl(board, info, port, baud)
     with Repl(port, baud) as repl:
         repl.enter()
-        facts = repl.facts()
-        rep.board = facts.to_dict()
-        say(
-            f"MicroPython {rep.board['version']} on {facts.platform}, .mpy {rep.board['mpy_version']}"
-        )
-        if config_text is not None:
-            errs = config_problems(config_text, _board_port(facts.platform))
-            if errs:
-                raise InstallRefused("config refused, nothing written: " + "; ".join(errs))
-        bid = _board_id(repl)
-        missing = unarchived_runs(repl, facts, bid, archive)
-        if missing and not force:
-            where = f"in {archive}" if archive is not None else "(no --archive folder given)"
-            raise InstallRefused(
-                f"the board holds {len(missing)} run(s) not in the archive {where}: "
-                + ", ".join(missing[:10])
-                + "; pull them (`heatlog pull --port P --out DIR`) and pass --archive DIR, "
-                "or --force to install anyway (the runs stay on the board)"
-            )
-        files, rep.form, rep.form_reason = plan_files(facts, source_only)
-        if config_text is not None:
-            files.append(PlannedFile(CONFIG_PATH, config_text.encode("utf-8")))
-        repl.mkdir(FW_DIR)
-        repl.mkdir(DATA_DIR)
-        wanted = {f.path for f in files}
-        for f in files:
-            if repl.sha256(f.path, facts.hashlib) == f.sha256:
-                rep.unchanged.append(f.path)
-                continue
-            say(f"writing {f.path} ({len(f.data)} bytes)")
-            _put(repl, f, facts)
-            rep.written.append(f.path)
-        for name, is_dir in repl.listdir(FW_DIR):
-            path = FW_DIR + "/" + name
-            if not is_dir and path not in wanted:
-                repl.remove(path)  # the other form (.py/.mpy) or a module the firmware dropped
-                rep.removed.append(path)
-        other_app = "/app.py" if "/app.mpy" in wanted else "/app.mpy"
-        if repl.sha256(other_app, facts.hashlib) is not None:
-            repl.remove(other_app)
-            rep.removed.append(other_app)
-        for f in files:
-            got = repl.sha256(f.path, facts.hashlib)
-            if got != f.sha256:
-                raise LinkError(f"{f.path}: verification failed after the install; run it again")
-            rep.verified[f.path] = got
-        if config_text is None:
-            rep.config = "kept" if repl.read(CONFIG_PATH) is not None else "none"
-        else:
-            rep.config = "written" if CONFIG_PATH in rep.written else "unchanged"
+        try:
+            _checks_and_copy(repl, rep, config_text, archive, force, source_only, say)
+        except InstallRefused:
+            repl.soft_reset()  # nothing written: start the firmware again before refusing
+            raise
         say("soft reset: starting the firmware")
         repl.soft_reset()
     rep.identify = _identify_after_boot(port, baud, boot_wait_s)
     return rep
+
+
+def _checks_and_copy(
+    repl: Repl,
+    rep: InstallReport,
+    config_text: str | None,
+    archive: Path | None,
+    force: bool,
+    source_only: bool,
+    say: Callable[[str], None],
+) -> None:
+    facts = repl.facts()
+    rep.board = facts.to_dict()
+    say(f"MicroPython {rep.board['version']} on {facts.platform}, .mpy {rep.board['mpy_version']}")
+    if config_text is not None:
+        errs = config_problems(config_text, _board_port(facts.platform))
+        if errs:
+            raise InstallRefused("config refused, nothing written: " + "; ".join(errs))
+    bid = _board_id(repl)
+    missing = unarchived_runs(repl, facts, bid, archive)
+    if missing and not force:
+        where = f"in {archive}" if archive is not None else "(no --archive folder given)"
+        raise InstallRefused(
+            f"the board holds {len(missing)} run(s) not in the archive {where}: "
+            + ", ".join(missing[:10])
+            + "; pull them (`heatlog pull --port P --out DIR`) and pass --archive DIR, "
+            "or --force to install anyway (the runs stay on the board)"
+        )
+    files, rep.form, rep.form_reason = plan_files(facts, source_only)
+    if config_text is not None:
+        files.append(PlannedFile(CONFIG_PATH, config_text.encode("utf-8")))
+    repl.mkdir(FW_DIR)
+    repl.mkdir(DATA_DIR)
+    wanted = {f.path for f in files}
+    for f in files:
+        if repl.sha256(f.path, facts.hashlib) == f.sha256:
+            rep.unchanged.append(f.path)
+            continue
+        say(f"writing {f.path} ({len(f.data)} bytes)")
+        _put(repl, f, facts)
+        rep.written.append(f.path)
+    for name, is_dir in repl.listdir(FW_DIR):
+        path = FW_DIR + "/" + name
+        if not is_dir and path not in wanted:
+            repl.remove(path)  # the other form (.py/.mpy) or a module the firmware dropped
+            rep.removed.append(path)
+    other_app = "/app.py" if "/app.mpy" in wanted else "/app.mpy"
+    if repl.sha256(other_app, facts.hashlib) is not None:
+        repl.remove(other_app)
+        rep.removed.append(other_app)
+    for f in files:
+        got = repl.sha256(f.path, facts.hashlib)
+        if got != f.sha256:
+            raise LinkError(f"{f.path}: verification failed after the install; run it again")
+        rep.verified[f.path] = got
+    if config_text is None:
+        rep.config = "kept" if repl.read(CONFIG_PATH) is not None else "none"
+    else:
+        rep.config = "written" if CONFIG_PATH in rep.written else "unchanged"
