@@ -1,6 +1,6 @@
 """A board's raw REPL, through `mpremote` used as a library (PyPI, MicroPython's own tool).
 
-mpremote 1.27+ opens the port with ``serial.serial_for_url`` (so paths, ptys and pyserial URLs all
+mpremote 1.29 opens the port with ``serial.serial_for_url`` (so paths, ptys and pyserial URLs all
 work) and tolerates a pty that refuses RTS/DTR, so no raw-REPL client of our own is needed: this
 module only adds what heatlog needs on top (board facts, hashing with a read-back fallback,
 atomic writes, soft reset) and turns mpremote's errors into :class:`~heatlog.errors.LinkError`.
