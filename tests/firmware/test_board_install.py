@@ -56,9 +56,14 @@ def test_install_then_refusals_then_reinstall(board, tmp_path):
     # 1. a bare MicroPython REPL: everything written, verified, and the firmware answers
     code, rep = _install(board.path, "--config", str(cfg))
     assert code == 0, rep
-    assert rep["board"]["implementation"] == "micropython" and rep["form"] == "mpy", rep
+    from heatlog.device.install import mpy_cross_version
+
+    have = mpy_cross_version()
+    matches = have is not None and ".".join(map(str, have)) == rep["board"]["mpy_version"]
+    assert rep["board"]["implementation"] == "micropython", rep
+    assert rep["form"] == ("mpy" if matches else "source"), rep
     assert "/main.py" in rep["written"] and "/heatlog/config.json" in rep["written"]
-    assert any(p.endswith("/logstore.mpy") for p in rep["written"])
+    assert any(p.endswith("/logstore." + ("mpy" if matches else "py")) for p in rep["written"])
     assert rep["unchanged"] == [] and set(rep["verified"]) == set(rep["written"])
     ident = rep["identify"]
     assert ident["board_id"] == "unix-1" and ident["config_errors"] == [], ident
