@@ -83,8 +83,19 @@ def test_install_then_refusals_then_reinstall(board, tmp_path):
     assert code == 2 and f"run {run} is active" in out, out
     assert _board_call(board.path, lambda b: b.identify()).run == run
 
-    # 4. a finished run the archive does not hold: refused, nothing written
+    # 4. a run was logged since boot, so the watchdog runs: asked for the REPL, the board resets
+    # and the host stops it with Ctrl-C in the boot's abort window (the fake machine.reset() ends
+    # the interpreter; the harness starts it again, as a board restarts). --force: the run is
+    # not archived, and stays on the board
     _board_call(board.path, lambda b: b.stop_run())
+    empty = tmp_path / "empty"
+    empty.mkdir()
+    code, rep_wd = _install(board.path, "--archive", str(empty), "--force")
+    assert code == 0, rep_wd
+    assert rep_wd["left_repl"].startswith("reset"), rep_wd["left_repl"]
+    assert rep_wd["written"] == [] and rep_wd["identify"]["board_id"] == "unix-1"
+
+    # 5. a finished run the archive does not hold: refused, nothing written
     other = tmp_path / "other.json"
     other.write_text(cfg.read_text().replace("unix-1", "unix-2"))
     code, out = _install(board.path, "--config", str(other))
@@ -94,19 +105,17 @@ def test_install_then_refusals_then_reinstall(board, tmp_path):
     from heatlog.device.install import _identify_after_boot
 
     assert _identify_after_boot(board.path, 115200, 20)["board_id"] == "unix-1"
-    empty = tmp_path / "empty"
-    empty.mkdir()
     code, out = _install(board.path, "--config", str(other), "--archive", str(empty))
     assert code == 2 and "not in the archive" in out, out
     assert _identify_after_boot(board.path, 115200, 20)["board_id"] == "unix-1"
 
-    # 5. a broken config: refused before anything is written
+    # 6. a broken config: refused before anything is written
     bad = tmp_path / "bad.json"
     bad.write_text(cfg.read_text().replace('"pin": 26', '"pin": 5'))
     code, out = _install(board.path, "--config", str(bad))
     assert code == 2 and "config refused, nothing written" in out and "GPIO 5" in out, out
 
-    # 6. pulled into the archive: the install goes ahead, and keeps the run on the board
+    # 7. --force without the run archived, then pulled into the archive: the install goes ahead
     code, rep3 = _install(board.path, "--archive", str(empty), "--force")
     assert code == 0, rep3
     assert rep3["written"] == [] and rep3["config"] == "kept"
