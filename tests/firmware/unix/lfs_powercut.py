@@ -165,6 +165,7 @@ class Expect:
         self.flushed = {}  # run -> number of leading records whose flush returned
         self.erased = set()
         self.erasing = None
+        self.after = []  # (run, seq) logged after the resume: flushed by stop(), must be there
 
 
 def session(seed, ex, flash):
@@ -225,6 +226,7 @@ def recover(ex, counts):
             raw = _raw(run, seq0 + k)
             ex.written.setdefault(run, {})[seq0 + k] = (base + k * 1000, raw[0], raw[1])
             st.add(seq0 + k, base + k * 1000, 0, 0, raw, k)
+            ex.after.append((run, seq0 + k))
         st.stop(5000)
         ex.flushed.setdefault(run, 0)
     run = st.start("after", "0.1.0", 1000, 4, CHANNELS, 0, 0)
@@ -236,6 +238,7 @@ def recover(ex, counts):
 
 
 def verify(ex, counts):
+    found = {}  # run -> {seq: True} of the CRC-valid records on flash
     names = {}
     for name in FlashFs().listdir(ROOT):
         names[name] = True
@@ -258,6 +261,7 @@ def verify(ex, counts):
             counts["corrupt"] += 1
             continue
         seen = {}
+        found[run] = seen
         last = -1
         for b in _blocks(data, lf.RECORD_TAG):
             seq, off, r0, r1 = lf.struct.unpack_from("<IIii", b, 4)
@@ -271,6 +275,10 @@ def verify(ex, counts):
             counts["checked"] += 1
             if seq not in seen:
                 counts["lost"] += 1
+    for run, seq in ex.after:
+        counts["checked"] += 1
+        if seq not in found.get(run, {}):
+            counts["lost"] += 1
 
 
 def main():
