@@ -101,9 +101,7 @@ def firmware_config_module() -> Any:
 def config_problems(text: str, port: str | None) -> list[str]:
     """Every problem the firmware would find in config text (port: "rp2"/"esp32"/None)."""
     cfg = firmware_config_module()
-    _parsed, errs = cfg.parse(text, port)
-    if port is None and not errs:  # off a board: still check pins for the chip the config names
-        errs = cfg.validate(json.loads(text), None)
+    _parsed, errs = cfg.parse(text, port)  # port None: pins checked for the chip the file names
     return list(errs)
 
 
