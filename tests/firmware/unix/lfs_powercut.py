@@ -2,9 +2,10 @@
 # The firmware's log store on a real littlefs v2 volume (vfs.VfsLfs2), power cut at every flash
 # operation of seeded sessions, under the MicroPython unix port.
 #
-# Usage: micropython tests/firmware/unix/lfs_powercut.py REPO [SESSIONS [FIRST_SEED [no-sync]]]
-# (no-sync: a deliberately broken store whose flush does not reach flash, to show the sweep
-# catches lost records.)
+# Usage: micropython tests/firmware/unix/lfs_powercut.py REPO [SESSIONS [FIRST_SEED [OPTION]]]
+# OPTION no-sync: a deliberately broken store whose flush does not reach flash, to show the sweep
+# catches lost records; export=DIR: after every 5th cut, copy the run files to the host folder
+# DIR as SEED_OP_TORN_NAME, for the host decoder to read (tests/firmware/test_unixport.py).
 #
 # The block device behaves like NOR flash: erase sets a 4 KiB block to 0xFF, program ANDs bytes
 # into it (it can only clear bits). A session (seeded) starts runs, adds records in flushed
@@ -27,6 +28,7 @@ repo = sys.argv[1]
 SESSIONS = int(sys.argv[2]) if len(sys.argv) > 2 else 12
 FIRST_SEED = int(sys.argv[3]) if len(sys.argv) > 3 else 1
 NO_SYNC = sys.argv[4:] == ["no-sync"]
+EXPORT = sys.argv[4][7:] if len(sys.argv) > 4 and sys.argv[4].startswith("export=") else None
 for p in (repo + "/tests/firmware", repo + "/firmware", repo + "/tests/firmware/fakes"):
     sys.path.insert(0, p)
 
@@ -281,6 +283,15 @@ def verify(ex, counts):
             counts["lost"] += 1
 
 
+def export(folder, prefix):
+    for name in FlashFs().listdir(ROOT):
+        if name.endswith(".hlg"):
+            with open(ROOT + "/" + name, "rb") as f:
+                data = f.read()
+            with open(folder + "/" + prefix + name, "wb") as f:  # the host's file system
+                f.write(data)
+
+
 def main():
     counts = {k: 0 for k in ("lost", "corrupt", "disorder", "unmounted", "reused", "resumed",
                              "checked", "before", "torn")}  # fmt: skip
@@ -322,6 +333,8 @@ def main():
                 recover(ex, counts)
                 before = counts["lost"] + counts["corrupt"] + counts["disorder"]
                 verify(ex, counts)
+                if EXPORT and k % 5 == 0:
+                    export(EXPORT, "%d_%d_%d_" % (seed, k, torn))
                 if counts["lost"] + counts["corrupt"] + counts["disorder"] != before:
                     print("seed", seed, "op", k, "torn", torn, "failed:", counts)
     vfs.umount(MOUNT)
