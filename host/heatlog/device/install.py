@@ -172,10 +172,7 @@ def _heatlog_board(port: str, baud: int, timeout: float) -> Any:
     from heatlog.device.commands import Board
     from heatlog.device.link import Link
 
-    try:
-        link = Link.open(port, baudrate=baud, timeout=timeout, retries=1)
-    except LinkError:
-        raise
+    link = Link.open(port, baudrate=baud, timeout=timeout, retries=1)  # LinkError if no port
     board = Board(link)
     try:
         return board, board.identify()
@@ -217,7 +214,7 @@ def unarchived_runs(
         m = _RUN_FILE.match(n)
         assert m is not None
         entry = arch.find(board_id, int(m[1])) if arch is not None and board_id else None
-        if entry is None or not arch or not arch.verify(entry):
+        if entry is None or arch is None or not arch.verify(entry):
             missing.append(n)
             continue
         if repl.sha256(DATA_DIR + "/" + n, facts.hashlib) != entry.sha256:
