@@ -106,6 +106,10 @@ COMMANDS: dict[str, tuple[str, str]] = {
         "heatlog.cli.new:new",
         "Write a commented run-file template of KIND (cup, calibration, profile) to PATH.",
     ),
+    "board": (
+        "heatlog.cli.board:board",
+        "Install the firmware on a board; write and check its config.",
+    ),
     "report": (
         "heatlog.cli.report:report",
         "Write a self-contained HTML report of RUN: a run file (TOML) or a CSV log (reduction only).",
