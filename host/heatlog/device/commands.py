@@ -9,7 +9,7 @@ from __future__ import annotations
 import json
 import struct
 import time
-from collections.abc import Iterator
+from collections.abc import Container, Iterator
 from dataclasses import dataclass
 from typing import Any
 
@@ -197,9 +197,12 @@ class Board:
             raise BadReply("get config: expected a JSON object")
         return d
 
-    def read_request(self, run: int, offset: int, length: int) -> int:
-        """Send one read request (no wait); returns its request id. See :meth:`parse_read`."""
-        return self.link.send(fr.READ_RUN, struct.pack("<IIH", run, offset, length))
+    def read_request(
+        self, run: int, offset: int, length: int, busy: Container[int] = ()
+    ) -> int:
+        """Send one read request (no wait) under a request id not in ``busy``; returns the id.
+        See :meth:`parse_read`."""
+        return self.link.send(fr.READ_RUN, struct.pack("<IIH", run, offset, length), busy=busy)
 
     @staticmethod
     def parse_read(payload: bytes, run: int, offset: int, length: int) -> tuple[int, bytes]:
