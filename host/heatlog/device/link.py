@@ -107,6 +107,7 @@ class Link:
         self._last_rx = time.monotonic()
         self._good_frames = 0
         self._junk_seen = 0
+        self._framed = 0  # frames with a start byte, version and length that failed their CRC
         try:
             port.reset_input_buffer()
         except (AttributeError, OSError, serial.SerialException):
@@ -205,6 +206,8 @@ class Link:
                 self._junk_seen += 1
             else:
                 self.stats.bad_frames += 1
+                if item.reason == "crc":
+                    self._framed += 1
                 if item.request_id:
                     self.bad_rids.append(item.request_id)
 
@@ -214,7 +217,7 @@ class Link:
         Returns the reply payload; raises BoardError for an error reply, LinkTimeout after
         ``retries`` + 1 silent tries in a row, LinkGarbled when the board answers but no reply
         arrives intact within ``stall_s`` (and ``retries`` + 1 tries), NotABoard when only
-        non-protocol bytes ever arrive."""
+        non-protocol bytes ever arrive (no frame, not even one failing its CRC)."""
         tries = (self.retries if retries is None else retries) + 1
         t0 = time.monotonic()
         attempt = silent_run = garbled = 0
@@ -251,7 +254,7 @@ class Link:
                 silent_run = 0
             else:
                 silent_run += 1
-            if attempt >= tries and self._good_frames == 0 and self._junk_seen:
+            if attempt >= tries and self._good_frames == 0 and self._junk_seen and not self._framed:
                 raise NotABoard(
                     f"something answers on {self.name}, but not a heatlog board (no valid frame "
                     f"in {attempt} tries); check the port with `heatlog ports`"
