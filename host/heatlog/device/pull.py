@@ -18,6 +18,7 @@ import struct
 import time
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import Any
 
 from heatlog.device import framing as fr
@@ -26,6 +27,7 @@ from heatlog.device.commands import MAX_RUN_BYTES, READ_CHUNK, Board
 from heatlog.device.link import BoardError, LinkGarbled, LinkTimeout
 from heatlog.device.readwindow import ReadWindow
 from heatlog.errors import InputError, LinkError
+from heatlog.logformat import Damage, LogCorrupt, read_log
 
 MIN_RUN_BYTES = 64 + 24 + 4  # the smallest header (one channel)
 Progress = Callable[[int, int, int], None]  # (run, bytes done, bytes total)
@@ -40,12 +42,20 @@ class PullReport:
     bytes: int = 0
     seconds: float = 0.0
     retries: int = 0
+    damage: dict[str, dict[str, Any]] = field(default_factory=dict)  # file name -> Damage
+
+    @property
+    def damaged(self) -> list[str]:
+        """Archived files (pulled now or before) whose contents are damaged."""
+        return [name for name, d in self.damage.items() if d["damaged"]]
 
     def to_dict(self) -> dict[str, Any]:
         return {
             "board_id": self.board_id,
-            "pulled": [e.to_dict() for e in self.pulled],
-            "already_archived": [e.to_dict() for e in self.already],
+            "pulled": [e.to_dict() | {"damage": self.damage.get(e.name)} for e in self.pulled],
+            "already_archived": [
+                e.to_dict() | {"damage": self.damage.get(e.name)} for e in self.already
+            ],
             "skipped": self.skipped,
             "bytes": self.bytes,
             "seconds": self.seconds,
@@ -205,9 +215,22 @@ def pull(
         report.pulled.append(
             _pull_one(board, archive, bid, e.run, e.size, window, progress, report)
         )
+    for e in report.pulled + report.already:
+        report.damage[e.name] = file_damage(archive.root / e.name)
     report.seconds = time.monotonic() - t0
     report.retries = board.link.stats.retries - retries0
     return report
+
+
+def file_damage(path: Path) -> dict[str, Any]:
+    """The decoder's damage summary of an archived run file (``Damage.to_dict`` plus a one-line
+    ``summary``); a header it cannot use is damage too. The file is a faithful copy of the
+    board's: the damage was on the board (a power cut, failing flash), not made by the link."""
+    try:
+        d = read_log(path).damage()
+    except LogCorrupt as exc:
+        d = Damage(problems=(str(exc),))
+    return d.to_dict() | {"summary": d.describe()}
 
 
 def _pull_one(
