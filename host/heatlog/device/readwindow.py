@@ -12,9 +12,13 @@ Invariants (:meth:`ReadWindow.check`, called by the pull loop after every step):
 * While bytes are missing, something is pending or can be asked for (the loop cannot stall
   with nothing outstanding).
 
-Chunk length adapts to the line: a damaged or lost reply halves it (down to ``MIN_CHUNK``),
-``GROW_AFTER`` intact replies in a row double it again (up to ``READ_CHUNK``), so a pull keeps
-making progress on a line that garbles most long frames (common practice, no source).
+Chunk length adapts to the line: from recent intact and damaged (or lost) replies, decayed by
+``DECAY`` per reply, the window estimates the chance p that a byte on the line is damaged and
+asks for the length c in ``SIZES`` that maximises the share of useful bytes,
+c / (c + ``REPLY_OVERHEAD``) · (1 − p)^(c + ``REPLY_OVERHEAD``) (a reply arrives whole only if
+none of its bytes is hit). On a clean line that is the protocol's 512; on a line that garbles
+most long frames it drops to 32..128 and the pull keeps making progress (common practice, no
+source).
 """
 
 from __future__ import annotations
@@ -24,8 +28,10 @@ from dataclasses import dataclass
 from heatlog.device.commands import READ_CHUNK  # the protocol's largest read
 from heatlog.errors import LinkError
 
-MIN_CHUNK = 32
-GROW_AFTER = 4
+SIZES = (32, 64, 128, 256, READ_CHUNK)
+MIN_CHUNK = SIZES[0]
+REPLY_OVERHEAD = 8 + 12  # frame bytes + the read reply's run, offset and size
+DECAY = 0.97
 
 
 class PipelineError(LinkError):
@@ -50,7 +56,8 @@ class ReadWindow:
         self.held: dict[int, bytes] = {}
         self.todo: list[tuple[int, int]] = []  # (offset, length), sorted
         self.chunk = min(max(chunk, MIN_CHUNK), READ_CHUNK)
-        self._streak = 0
+        self._ok_bytes = 0.0  # frame bytes of recent intact replies (decayed)
+        self._bad = 0.0  # recent damaged or lost replies (decayed)
 
     # -- what to ask for ------------------------------------------------------------------
     @property
@@ -99,10 +106,7 @@ class ReadWindow:
         if len(data) < a.n:
             raise PipelineError(f"{len(data)} bytes accepted for a {a.n}-byte request")
         self.held[a.off] = bytes(data[: a.n])
-        self._streak += 1
-        if self._streak >= GROW_AFTER and self.chunk < READ_CHUNK:
-            self.chunk = min(self.chunk * 2, READ_CHUNK)
-            self._streak = 0
+        self._tune(ok_bytes=a.n + REPLY_OVERHEAD, bad=0)
         out = []
         while self.write_off in self.held:
             d = self.held.pop(self.write_off)
@@ -117,11 +121,20 @@ class ReadWindow:
         if a is None:
             return None
         if damaged:
-            self._streak = 0
-            self.chunk = max(self.chunk // 2, MIN_CHUNK)
+            self._tune(ok_bytes=0, bad=1)
         self.todo.append((a.off, a.n))
         self.todo.sort()
         return a
+
+    def _tune(self, ok_bytes: int, bad: int) -> None:
+        self._ok_bytes = self._ok_bytes * DECAY + ok_bytes
+        self._bad = self._bad * DECAY + bad
+        sent = self._ok_bytes + self._bad * (self.chunk + REPLY_OVERHEAD)
+        p = self._bad / sent if sent > 0 else 0.0
+        self.chunk = max(
+            SIZES,
+            key=lambda c: c / (c + REPLY_OVERHEAD) * (1.0 - p) ** (c + REPLY_OVERHEAD),
+        )
 
     def overdue(self, now: float, timeout: float) -> list[int]:
         return [rid for rid, a in self.pending.items() if now - a.sent_at >= timeout]
