@@ -170,3 +170,47 @@ def test_request_ids_never_collide_at_window_16_under_duplicates_and_junk(board,
     port = FaultySerial(DirectPort(board), FaultPlan(dup=3e-3, junk=0.3, seed=seed))
     pull(Board(Link(port, timeout=0.15, retries=6)), Archive(tmp_path / "a"), window=16)
     assert archived(tmp_path / "a") == before
+
+
+class GoesQuiet:
+    """A port on which the board stops sending after ``after`` bytes (hung, or TX wire off)."""
+
+    def __init__(self, inner, after):
+        self.inner, self.after, self.n = inner, after, 0
+        self.timeout = 0.0
+
+    @property
+    def in_waiting(self):
+        return self.inner.in_waiting if self.n < self.after else 0
+
+    def read(self, n=1):
+        if self.n >= self.after:
+            return b""
+        data = self.inner.read(n)[: self.after - self.n]
+        self.n += len(data)
+        return data
+
+    def write(self, data):
+        return self.inner.write(data)
+
+    def reset_input_buffer(self):
+        self.inner.reset_input_buffer()
+
+
+def test_a_board_gone_quiet_mid_pull_is_reported_as_silence(small_flash, tmp_path):
+    board = fresh_board(small_flash, tmp_path / "flash")
+    link = Link(GoesQuiet(DirectPort(board), 3000), timeout=0.05, retries=3)
+    with pytest.raises(LinkTimeout, match="no answer from the board: silent for 4 timeouts"):
+        pull(Board(link), Archive(tmp_path / "a"), window=4)
+    part = next((tmp_path / "a" / ".partial").glob("*.part"))
+    assert 0 < part.stat().st_size < 3000  # the verified part is kept for the resume
+
+
+def test_a_board_answering_only_garbled_is_reported_as_garbled(small_flash, tmp_path):
+    board = fresh_board(small_flash, tmp_path / "flash")
+    b = Board(Link(DirectPort(board), timeout=0.05, retries=3, stall_s=0.5))
+    b.identify()  # the board proved itself; then the line turns bad
+    b.link.port = FaultySerial(DirectPort(board), FaultPlan(flip=0.2, seed=1))
+    with pytest.raises(LinkGarbled, match="answers, but garbled") as e:
+        fetch(b, 1, 0, 5000, lambda d: None, window=4)
+    assert "no answer" not in str(e.value) and "resume" in str(e.value)
