@@ -39,8 +39,10 @@ PLANS = [
     ("drop 1e-4", FaultPlan(drop=1e-4)),
     ("dup 1e-4 + flip 1e-4", FaultPlan(dup=1e-4, flip=1e-4)),
     ("drop/dup/flip 1e-3, junk 5 %", FaultPlan(drop=1e-3, dup=1e-3, flip=1e-3, junk=0.05)),
-    ("drop/dup/flip 3e-3, junk 10 %, fake headers 2 %",
-     FaultPlan(drop=3e-3, dup=3e-3, flip=3e-3, junk=0.1, fake_header=0.02)),  # fmt: skip
+    (
+        "drop/dup/flip 3e-3, junk 10 %, fake headers 2 %",
+        FaultPlan(drop=3e-3, dup=3e-3, flip=3e-3, junk=0.1, fake_header=0.02),
+    ),  # fmt: skip
     ("flip 1e-2", FaultPlan(flip=1e-2)),
 ]
 

@@ -283,9 +283,7 @@ class Damage:
             return "no damage found"
         parts = []
         if self.bad_blocks or self.bytes_skipped:
-            parts.append(
-                f"{self.bad_blocks} bad block(s), {self.bytes_skipped} bytes skipped"
-            )
+            parts.append(f"{self.bad_blocks} bad block(s), {self.bytes_skipped} bytes skipped")
         for n, what in (
             (self.trailing_bytes, "trailing bytes (an incomplete block at the end)"),
             (self.records_repeated, "record(s) repeated"),
@@ -372,9 +370,7 @@ def parse_header(data: bytes) -> LogHeader:
 
 def _text(raw: bytes) -> str:
     """A 16-byte ASCII name field: printable ASCII kept, anything else shown as '?'."""
-    return "".join(
-        chr(b) if 0x20 <= b < 0x7F else "?" for b in raw.rstrip(b"\0")
-    )
+    return "".join(chr(b) if 0x20 <= b < 0x7F else "?" for b in raw.rstrip(b"\0"))
 
 
 def _block_ok(data: bytes, pos: int, rsize: int) -> int:

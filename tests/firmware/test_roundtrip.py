@@ -37,9 +37,7 @@ def runs(draw):
             max_size=30,
         )
     )
-    anchor = draw(
-        st.one_of(st.just(0), st.integers(*host.ANCHOR_MS), st.integers(1, 2**62))
-    )
+    anchor = draw(st.one_of(st.just(0), st.integers(*host.ANCHOR_MS), st.integers(1, 2**62)))
     return chans, recs, anchor
 
 

@@ -206,7 +206,6 @@ def pull_cmd(port: str, baud: int, timeout: float, out: Path, runs: tuple[int, .
     from heatlog.device.archive import Archive
     from heatlog.device.export import export_run
     from heatlog.device.pull import pull
-
     from heatlog.logformat import DamagedLog, LogCorrupt
 
     show = sys.stderr.isatty() if progress is None else progress

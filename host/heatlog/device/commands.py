@@ -217,9 +217,7 @@ class Board:
             raise BadReply("get config: expected a JSON object")
         return d
 
-    def read_request(
-        self, run: int, offset: int, length: int, busy: Container[int] = ()
-    ) -> int:
+    def read_request(self, run: int, offset: int, length: int, busy: Container[int] = ()) -> int:
         """Send one read request (no wait) under a request id not in ``busy``; returns the id.
         See :meth:`parse_read`."""
         return self.link.send(fr.READ_RUN, struct.pack("<IIH", run, offset, length), busy=busy)

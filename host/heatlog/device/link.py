@@ -22,9 +22,9 @@ from __future__ import annotations
 
 import time
 from collections import deque
+from collections.abc import Container
 from dataclasses import dataclass
 from typing import Any
-from collections.abc import Container
 
 import serial
 

@@ -215,8 +215,8 @@ def pull(
         report.pulled.append(
             _pull_one(board, archive, bid, e.run, e.size, window, progress, report)
         )
-    for e in report.pulled + report.already:
-        report.damage[e.name] = file_damage(archive.root / e.name)
+    for got in report.pulled + report.already:
+        report.damage[got.name] = file_damage(archive.root / got.name)
     report.seconds = time.monotonic() - t0
     report.retries = board.link.stats.retries - retries0
     return report
