@@ -164,3 +164,13 @@ def test_every_damaged_file_on_the_board_is_named_by_pull(clean_run, tmp_path, m
         assert r.output.count("DAMAGED") == len(names)
     finally:
         server.close()
+
+
+def test_the_export_metadata_carries_the_damage(clean_run, tmp_path):
+    from heatlog.device.export import export_run
+
+    f = tmp_path / "swap.hlg"
+    f.write_bytes(damage(clean_run, "swap", 3))
+    _, meta = export_run(f, None)
+    d = json.loads(meta.read_text())["damage"]
+    assert d["damaged"] and d["records_out_of_order"] == 1 and d["summary"].startswith("DAMAGED")
