@@ -82,3 +82,15 @@ def test_a_broken_tiling_is_caught():
     w.todo.append((900, 10))  # a range that does not belong
     with pytest.raises(PipelineError, match="bookkeeping error"):
         w.check()
+
+
+def test_requests_sent_before_an_answered_one_are_known_lost():
+    w = ReadWindow(0, 5000, 4)
+    for rid in (10, 11, 12, 13):
+        w.asked(rid, *w.take(), 0.0)
+    # the board answers in order: the reply to 12 means 10 and 11 will never be answered
+    assert sorted(w.sent_before(w.pending[12].order)) == [10, 11]
+    for rid in w.sent_before(w.pending[12].order):
+        w.again(rid)
+    w.check()
+    assert sorted(w.pending) == [12, 13] and w.todo == [(0, 512), (512, 512)]

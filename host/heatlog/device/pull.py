@@ -5,8 +5,9 @@ Reads are pipelined: up to ``window`` read requests are outstanding, each under 
 id (never one still outstanding; :class:`~heatlog.device.readwindow.ReadWindow` keeps the books
 and checks its invariants every step), and chunks are appended to the partial file strictly in
 order, so the partial's length is always the last verified offset. A damaged reply is asked for
-again at once, a timeout resends the overdue requests, and a late reply to a request already
-asked again is used. The pull stops after ``link.retries`` + 1 silent timeouts in a row, or
+again at once, and so is a request whose reply is missing when the reply to a later request
+arrives (the board answers in order); a timeout resends the overdue requests, and a late reply
+to a request already asked again is used. The pull stops after ``link.retries`` + 1 silent timeouts in a row, or
 ``link.stall_s`` seconds without one verified chunk while the board answers garbled, with a
 message saying which; the partial is kept for the next pull to resume. A finished file must
 match the board's whole-run CRC-32 and size.
@@ -151,6 +152,10 @@ def fetch(
                     f"run {run} changed size on the board ({size} -> {rep[1]} bytes) during the "
                     "pull; stop the run first, then pull again"
                 )
+            if hit[0] == f.request_id:  # replies come in order: earlier ones missing are lost
+                for lost in w.sent_before(hit[1].order):
+                    w.again(lost)
+                    link.stats.retries += 1
             for d in w.arrived(hit[0], rep[2]):
                 sink(d)
             t_progress = time.monotonic()

@@ -43,6 +43,7 @@ class Asked:
     off: int
     n: int
     sent_at: float
+    order: int = 0  # the how-manieth request of this read
 
 
 class ReadWindow:
@@ -58,6 +59,7 @@ class ReadWindow:
         self.chunk = min(max(chunk, MIN_CHUNK), READ_CHUNK)
         self._ok_bytes = 0.0  # frame bytes of recent intact replies (decayed)
         self._bad = 0.0  # recent damaged or lost replies (decayed)
+        self._sent = 0
 
     # -- what to ask for ------------------------------------------------------------------
     @property
@@ -82,7 +84,8 @@ class ReadWindow:
     def asked(self, rid: int, off: int, n: int, now: float) -> None:
         if rid in self.pending or not 1 <= rid <= 255:
             raise PipelineError(f"request id {rid} handed out while still outstanding")
-        self.pending[rid] = Asked(off, n, now)
+        self._sent += 1
+        self.pending[rid] = Asked(off, n, now, self._sent)
 
     def oldest(self) -> float | None:
         return min((a.sent_at for a in self.pending.values()), default=None)
@@ -135,6 +138,12 @@ class ReadWindow:
             SIZES,
             key=lambda c: c / (c + REPLY_OVERHEAD) * (1.0 - p) ** (c + REPLY_OVERHEAD),
         )
+
+    def sent_before(self, order: int) -> list[int]:
+        """Pending requests sent before request number ``order``. The board answers requests
+        one at a time in the order they arrive (firmware/PROTOCOL.md: one reply per request),
+        so once the reply to a later request is in, an earlier one still pending was lost."""
+        return [rid for rid, a in self.pending.items() if a.order < order]
 
     def overdue(self, now: float, timeout: float) -> list[int]:
         return [rid for rid, a in self.pending.items() if now - a.sent_at >= timeout]
