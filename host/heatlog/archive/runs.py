@@ -37,7 +37,7 @@ from heatlog.archive.calibrations import add_calibration_text
 from heatlog.archive.db import Archive, open_archive, utc_now
 from heatlog.archive.rawfiles import ChecksumMismatch, read_bytes, read_verified, sha256_bytes
 from heatlog.errors import HeatlogError, InputError
-from heatlog.logformat import LogHeader, RunLog, decode, parse_header
+from heatlog.logformat import DamagedLog, LogHeader, RunLog, decode, parse_header
 from heatlog.runfile import parse_run
 from heatlog.storedpath import resolve_stored, to_stored
 
@@ -50,6 +50,7 @@ class ImportedRun:
     raw_path: str
     raw_sha256: str
     dependencies: tuple[int, ...] = ()
+    damage: dict[str, Any] | None = None  # a board run log's Damage (None for a TOML run file)
 
     def to_dict(self) -> dict[str, Any]:
         return dict(self.__dict__)
@@ -100,9 +101,12 @@ def _record_device_log(
     base: Path,
 ) -> ImportedRun:
     identity = f"log:{digest}"
+    damage = _damage(log)
     old = _existing(conn, identity)
     if old is not None:
-        return ImportedRun(old["id"], False, old["kind"], _shown(old["raw_path"], base), digest)
+        return ImportedRun(
+            old["id"], False, old["kind"], _shown(old["raw_path"], base), digest, (), damage
+        )
     h = log.header
     if h.anchor_ms is not None:
         date = dt.datetime.fromtimestamp(h.anchor_ms / 1000, dt.UTC).date().isoformat()
@@ -120,6 +124,7 @@ def _record_device_log(
         "bad_blocks": log.bad_blocks,
         "bad_bytes": log.bad_bytes,
         "trailing_bytes": log.trailing_bytes,
+        "damage": damage,
     }
     run_id = _insert_run(
         conn,
@@ -150,7 +155,12 @@ def _record_device_log(
             "VALUES (?, ?, ?, ?, ?)",
             (run_id, i, ch.probe_id or None, ch.kind, spec),
         )
-    return ImportedRun(run_id, True, "device-log", str(path), digest)
+    return ImportedRun(run_id, True, "device-log", str(path), digest, (), damage)
+
+
+def _damage(log: RunLog) -> dict[str, Any]:
+    d = log.damage()
+    return d.to_dict() | {"summary": d.describe()}
 
 
 def archive_dir(archive: Archive) -> Path:
@@ -206,12 +216,23 @@ def record_pulled_run(
 
 
 def import_device_log(
-    archive: Archive, path: str | Path, run_date: dt.date | str | None = None
+    archive: Archive,
+    path: str | Path,
+    run_date: dt.date | str | None = None,
+    *,
+    strict: bool = False,
 ) -> ImportedRun:
-    """Import a board run log file from disk (``heatlog runs import RUN.bin``)."""
+    """Import a board run log file from disk (``heatlog runs import RUN.bin``). The reply's
+    ``damage`` says what the decoder found; with ``strict`` a damaged file is refused
+    (:class:`~heatlog.logformat.DamagedLog`) and nothing is stored."""
     p = Path(path).resolve()
     data = read_bytes(p, "run log")
     log = decode(data)  # LogCorrupt for an unusable header; damaged blocks are counted
+    if strict and log.damaged:
+        raise DamagedLog(
+            f"{p}: {log.damage().describe()}; not imported (--strict); import it without "
+            "--strict to keep it with the damage recorded"
+        )
     digest = sha256_bytes(data)
     rawstore.keep(archive.path, data, digest)
     with archive.transaction() as conn:
@@ -307,13 +328,18 @@ def import_run_file(
 
 
 def import_path(
-    archive: Archive, path: str | Path, run_date: dt.date | str | None = None
+    archive: Archive,
+    path: str | Path,
+    run_date: dt.date | str | None = None,
+    *,
+    strict: bool = False,
 ) -> ImportedRun:
-    """``heatlog runs import FILE``: a ``.toml`` run file, or else a board run log."""
+    """``heatlog runs import FILE``: a ``.toml`` run file, or else a board run log (with
+    ``strict``, refused if damaged)."""
     _date_from(run_date)  # a malformed date is reported before any file is read
     if str(path).lower().endswith(".toml"):
         return import_run_file(archive, path, run_date)
-    return import_device_log(archive, path, run_date)
+    return import_device_log(archive, path, run_date, strict=strict)
 
 
 @dataclass(frozen=True)

@@ -195,10 +195,15 @@ class _Progress:
               default=None, help="Run archive that records every verified run "
               "(default: $HEATLOG_DB, else ./heatlog.sqlite).")  # fmt: skip
 @click.option("--no-db", is_flag=True, help="Do not record the pulled runs in the run archive.")
+@click.option("--give-up-after", "stall_s", type=click.FloatRange(1.0, 3600.0), default=30.0,
+              show_default=True, help="Seconds without one intact reply (while the board "
+              "answers garbled) before the pull stops; it resumes where it stopped.")  # fmt: skip
+@click.option("--strict", is_flag=True, help="Exit with code 4 if a run file is damaged (bad "
+              "blocks, records missing, repeated or out of order); the files are still kept.")  # fmt: skip
 @json_option
 def pull_cmd(port: str, baud: int, timeout: float, out: Path, runs: tuple[int, ...], probes: Path | None,
-             window: int, progress: bool | None, db: Path | None, no_db: bool,
-             as_json: bool) -> None:  # fmt: skip
+             window: int, progress: bool | None, db: Path | None, no_db: bool, stall_s: float,
+             strict: bool, as_json: bool) -> None:  # fmt: skip
     """Download runs, verify them (chunk CRC + whole-run CRC-32) and archive them read-only.
 
     Resumes after a fault from the last verified byte; a second pull fetches nothing new. Each
@@ -206,41 +211,61 @@ def pull_cmd(port: str, baud: int, timeout: float, out: Path, runs: tuple[int, .
     from heatlog.device.archive import Archive
     from heatlog.device.export import export_run
     from heatlog.device.pull import pull
+    from heatlog.logformat import DamagedLog, LogCorrupt
 
     show = sys.stderr.isatty() if progress is None else progress
     archive = Archive(out)
     b = _board(port, baud, timeout)
+    b.link.stall_s = stall_s
     with b.link:
         report = pull(
             b, archive, runs=runs or None, window=window, progress=_Progress() if show else None
         )
     exports = []
     for e in report.pulled + (report.already if probes else []):
-        csv, meta = export_run(out / e.name, probes)
+        try:
+            csv, meta = export_run(out / e.name, probes)
+        except LogCorrupt as exc:  # a header out of range: the file is kept, not exported
+            exports.append({"run": e.run, "error": str(exc)})
+            continue
         exports.append({"run": e.run, "csv": str(csv), "metadata": str(meta)})
-    recorded = []
+    recorded: list[dict[str, Any]] = []
     if not no_db:
         from heatlog.archive import open_archive, record_pulled_run
 
         with open_archive(db) as store:
             for e in report.pulled + report.already:
-                rec = record_pulled_run(store, out / e.name, e.sha256)
+                try:
+                    rec = record_pulled_run(store, out / e.name, e.sha256)
+                except LogCorrupt as exc:
+                    recorded.append({"run": e.run, "error": str(exc)})
+                    continue
                 recorded.append({"run": e.run, "run_id": rec.run_id, "new": rec.new})
     payload = report.to_dict() | {"exports": exports, "recorded": recorded}
 
     def text() -> str:
         lines = [f"board {report.board_id}: pulled {len(report.pulled)} run(s), {report.bytes} bytes in {report.seconds:.1f} s; "
                  f"{len(report.already)} already archived"]  # fmt: skip
-        lines += [f"  {e.name}  sha256 {e.sha256[:16]}…" for e in report.pulled]
+        lines += [f"  {e.name}  sha256 {e.sha256[:16]}…  {report.damage[e.name]['summary']}"
+                  for e in report.pulled]  # fmt: skip
+        lines += [f"  {e.name} (already archived)  {report.damage[e.name]['summary']}"
+                  for e in report.already if report.damage[e.name]["damaged"]]  # fmt: skip
+        lines += [f"  run {r['run']} not recorded in the run archive: {r['error']}"
+                  for r in recorded if "error" in r]  # fmt: skip
         lines += [f"  run {s['run']} skipped: {s['reason']}" for s in report.skipped]
-        new = [r for r in recorded if r["new"]]
+        new = [r for r in recorded if r.get("new")]
         if recorded:
             lines.append(
-                f"  run archive: {len(new)} new run(s) recorded, {len(recorded) - len(new)} already there"
+                f"  run archive: {len(new)} new run(s) recorded, {sum(r.get('new') is False for r in recorded)} already there"
             )
         return "\n".join(lines)
 
     emit(as_json, payload, text)
+    if strict and report.damaged:
+        raise DamagedLog(
+            f"{len(report.damaged)} archived run file(s) damaged on the board "
+            f"({', '.join(report.damaged)}); kept in {out} (--strict)"
+        )
 
 
 pull_cmd.name = "pull"
