@@ -14,17 +14,28 @@ Criterion (stated, our own design):
    turn rounding into events); runs of the same
    sign closer than W are merged; runs whose size ∫r dt is below 10× the reading noise, 5
    resolution steps or 0.1 mK are dropped.
-4. Event start: walk back from the first crossing of 5σ_r to where |r| falls below σ_r, then a further
-   W/2 + 2h earlier (the smoothing window spreads the onset; an early start costs nothing, since the
-   corrections are exact for any start inside the Newtonian fore-period).
+4. Event start, coarse: walk back from the first crossing of 5σ_r to where |r| falls below σ_r,
+   then a further W/2 + 2h earlier (the smoothing window spreads the onset).
+   Refined on the readings themselves, so the margin scales with the sampling and with the
+   event's own rise instead of the fixed window: a straight line is fitted to the readings from
+   the fore-period start to where |r| fell below σ_r and extrapolated; t_a and t_b are the first
+   times the readings leave it (in the event's direction, three readings in a row) by
+   a = max(3σ_p, 3q, 10⁻⁵·|size|, 1 µK) and by 3a (σ_p: the line's residual noise with its
+   prediction error). From the true onset the departure grows at least as the cube of the time
+   (a release through a first-order probe lag grows as its square, a second lag as its cube),
+   so the onset is no earlier than t_a − 2.3·(t_b − t_a); the start is
+   t_a − max(2.5·(t_b − t_a) + 2h, 3h) (2h for the sampling), and never earlier than the coarse
+   start (an early start costs little: the corrections are exact for any start
+   inside the Newtonian fore-period).
 5. After-period start: from the peak of |r|, t_½ and t_e are the last times |r| is above ½ and 1/e
    of the peak; the tail time constant is τ = (t_e − t_½)/(1 − ln 2) (exact for an exponential
-   tail), at least h and W/6. The after-period begins at t_e + 6τ, when the remaining release rate is
-   below e⁻⁷ ≈ 0.1 % of its peak, and not before the last 5σ_r crossing + W/2.
+   tail), at least h and W/6. The release still to come after t is R(t) = |r(t_e)|·τ·e^(−(t−t_e)/τ).
+   The after-period begins where R has fallen below a fifth of the reading noise (max(σ/5, q,
+   10⁻⁴·|size|)),
+   and no later than t_e + 6τ (R below e⁻⁶ of its value at t_e); never before the last 5σ_r
+   crossing + W/2. ``Event.tail_K`` is R at that start; the reduction carries it in the budget.
 
-Fore- and after-periods must each last at least ``MIN_PERIOD_S`` seconds and hold
-``MIN_PERIOD_POINTS`` readings (common practice, no source: enough readings to fit a drift line
-with its uncertainty).
+Fore- and after-periods must meet the one stated minimum in ``periods`` (readings and seconds).
 """
 
 from __future__ import annotations
@@ -35,8 +46,10 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.signal import savgol_filter
 
-MIN_PERIOD_S = 120.0
-MIN_PERIOD_POINTS = 12
+from heatlog.reduce.periods import MIN_PERIOD_POINTS, MIN_PERIOD_S
+
+__all__ = ["MIN_PERIOD_POINTS", "MIN_PERIOD_S", "Event", "detect_events", "reading_noise"]
+
 THRESHOLD_SIGMA = 5.0
 MIN_EVENT_K = 1e-4  # smaller changes are below any logger this tool serves
 
@@ -53,6 +66,7 @@ class Event:
     direction: int  # +1 rising (exothermic / heating), −1 falling
     size_K: float  # rough size: integral of the residual rate
     tail_s: float  # tail time constant used for the after-period start
+    tail_K: float = 0.0  # release still to come after the after-period start (estimate, K)
 
     def to_dict(self) -> dict[str, float | int]:
         return {
@@ -64,6 +78,7 @@ class Event:
             "direction": self.direction,
             "size_K": self.size_K,
             "tail_s": self.tail_s,
+            "tail_K": self.tail_K,
         }
 
 
@@ -149,6 +164,61 @@ def rate_residual(t: np.ndarray, y: np.ndarray, resolution_K: float = 0.0) -> Ra
     return RateResidual(grid, ys, d, r, sigma, win * h, h)
 
 
+def tail_release(rate_at_te: float, tau: float, since_te: float) -> float:
+    """Release still to come (K) ``since_te`` seconds after t_e on an exponential tail."""
+    return abs(rate_at_te) * tau * math.exp(-max(since_te, 0.0) / tau)
+
+
+def _refined_start(
+    t: np.ndarray,
+    y: np.ndarray,
+    lo: float,
+    coarse: float,
+    quiet_end: float,
+    peak: float,
+    s: int,
+    size: float,
+    q: float,
+    h: float,
+) -> float:
+    """The event start from the readings' own departure from the fore-period line (step 4)."""
+    fm = (t >= lo) & (t <= quiet_end)
+    if np.count_nonzero(fm) < 5:
+        return coarse
+    tf, yf = t[fm], y[fm]
+    tc = float(tf.mean())
+    x = tf - tc
+    sxx = float(x @ x)
+    if sxx <= 0:
+        return coarse
+    b = float(x @ (yf - yf.mean())) / sxx
+    a0 = float(yf.mean())
+    res = yf - (a0 + b * x)
+    sig = math.sqrt(float(res @ res) / max(res.size - 2, 1))
+    after = (t > quiet_end) & (t <= peak)
+    if not after.any():
+        return coarse
+    ta_, ya_ = t[after], y[after]
+    pred_se = sig * np.sqrt(1.0 / tf.size + (ta_ - tc) ** 2 / sxx)
+    dev = s * (ya_ - (a0 + b * (ta_ - tc)))
+    base = max(3 * q, 1e-5 * abs(size), 1e-6)
+
+    def first_run(level: np.ndarray | float) -> int | None:
+        hit = dev > level
+        run = hit[:-2] & hit[1:-1] & hit[2:] if hit.size >= 3 else hit
+        idx = np.flatnonzero(run)
+        return int(idx[0]) if idx.size else None
+
+    lev_a = np.maximum(3 * np.hypot(sig, pred_se), base)
+    ia = first_run(lev_a)
+    ib = first_run(3 * lev_a)
+    if ia is None or ib is None:
+        return coarse
+    ta, tb = float(ta_[ia]), float(ta_[max(ib, ia)])
+    refined = ta - max(2.5 * (tb - ta) + 2 * h, 3 * h)
+    return max(coarse, refined)
+
+
 def detect_events(
     t: np.ndarray, y: np.ndarray, *, noise_K: float | None = None, resolution_K: float = 0.0
 ) -> tuple[tuple[Event, ...], RateResidual]:
@@ -196,7 +266,15 @@ def detect_events(
         i_half = ipk + (int(below_half[0]) if below_half.size else tail.size - 1)
         i_e = ipk + (int(below_e[0]) if below_e.size else tail.size - 1)
         tau = max((grid[i_e] - grid[i_half]) / (1 - math.log(2.0)), h, w / 6)
-        after = max(grid[i_e] + 6 * tau, grid[b - 1] + w / 2)
+        lo = events[-1].after_start_s if events else float(t[0])
+        start = _refined_start(
+            t, y, lo, float(start), float(grid[i0]), float(grid[ipk]), s, size, resolution_K, h
+        )
+        r_e = peak / math.e
+        floor = max(0.2 * noise, resolution_K, 1e-4 * abs(size), 1e-9)
+        rel = r_e * tau / floor
+        t_quiet = grid[i_e] + tau * math.log(rel) if rel > 1 else grid[i_e]
+        after = max(min(grid[i_e] + 6 * tau, t_quiet), grid[b - 1] + w / 2)
         events.append(
             Event(
                 index=len(events),
@@ -207,6 +285,7 @@ def detect_events(
                 direction=s,
                 size_K=size,
                 tail_s=float(tau),
+                tail_K=float(tail_release(r_e, tau, float(after) - float(grid[i_e]))),
             )
         )
     return tuple(events), rr
