@@ -75,6 +75,12 @@ def _run_text(result: RunResult) -> str:
 @click.option("--temp-col", default="temp_C", show_default=True, help="Column with °C readings.")
 @click.option("--iso-time", is_flag=True, help="The time column holds ISO-8601 timestamps.")
 @click.option(
+    "--env-col",
+    default=None,
+    help="Column with the logged surroundings (room/ambient) temperature, °C; the exchange is "
+    "then reduced against it.",
+)
+@click.option(
     "--method",
     type=click.Choice(["auto", *METHODS]),
     default="auto",
@@ -103,6 +109,7 @@ def reduce(
     time_col: str,
     temp_col: str,
     iso_time: bool,
+    env_col: str | None,
     method: str,
     event_index: int,
     event_start: float | None,
@@ -123,7 +130,13 @@ def reduce(
         payload["caution"] = CAUTION
         emit(as_json, payload, lambda: _run_text(result))
         return
-    thermogram = read_thermogram_csv(file, time_col=time_col, temp_col=temp_col, iso_time=iso_time)
+    thermogram = read_thermogram_csv(
+        file,
+        time_col=time_col,
+        temp_col=temp_col,
+        channels=(env_col,) if env_col else (),
+        iso_time=iso_time,
+    )
     red = reduce_thermogram(
         thermogram,
         method=method,
@@ -131,6 +144,7 @@ def reduce(
         event_start_s=event_start,
         after_start_s=after_start,
         resolution_K=resolution,
+        env_channel=env_col,
     )
     payload = red.to_dict()
     payload["file"] = file

@@ -5,9 +5,11 @@ Criterion (stated, our own design):
 1. Resample onto a uniform grid (median step h) and take a Savitzky–Golay smoothed derivative
    dT/dt over a window W = max(60 s, 9h) (quadratic, Savitzky & Golay 1964).
 2. In every quiet stretch of a Newtonian vessel the drift is the same straight line in temperature,
-   dT/dt = g(T) = a − kT (module ``drift``). Fit that line robustly (iteratively trimmed least
+   dT/dt = g(T) = a − kT (module ``drift``); with a logged surroundings temperature it is the
+   plane a − kT + c·T_env (``surroundings``). Fit that line robustly (iteratively trimmed least
    squares, points beyond 4σ dropped; started from both ends, the first or the last fifth of the
-   log, keeping the start that ends with the most quiet points) and take
+   log, keeping the start whose quiet points still hold both ends of the log, then the one with
+   the most quiet points) and take
    the residual r(t) = dT/dt − g(T).
 3. An event is a run of |r| > 5σ_r (σ_r: 1.4826·MAD of r on the quiet points, at least 10⁻⁵ of the
    largest |dT/dt| and q/W for a reading step q, so noise-free or coarsely rounded logs do not
@@ -51,6 +53,7 @@ from heatlog.reduce.periods import MIN_PERIOD_POINTS, MIN_PERIOD_S
 __all__ = ["MIN_PERIOD_POINTS", "MIN_PERIOD_S", "Event", "detect_events", "reading_noise"]
 
 THRESHOLD_SIGMA = 5.0
+TAIL_NOISE_FRACTION = 0.2
 MIN_EVENT_K = 1e-4  # smaller changes are below any logger this tool serves
 
 
@@ -116,9 +119,10 @@ def _starting_masks(n: int) -> list[np.ndarray]:
 
 
 def _quiet_line(
-    ys: np.ndarray, d: np.ndarray, mask: np.ndarray, floor: float
+    ys: np.ndarray, d: np.ndarray, mask: np.ndarray, floor: float, env: np.ndarray | None = None
 ) -> tuple[np.ndarray, float, np.ndarray]:
-    """Iteratively trimmed fit of d = a + b·T; returns residual, robust σ and the quiet mask."""
+    """Iteratively trimmed fit of d = a + b·T (+ c·T_env); returns residual, robust σ and the
+    quiet mask."""
     n = d.size
     r = d.copy()
     sigma = 0.0
@@ -129,6 +133,10 @@ def _quiet_line(
         # a temperature span below a microkelvin carries no slope (flat or rounded readings)
         b = float(xc @ (z - z.mean())) / sxx if np.ptp(x) > 1e-6 else 0.0
         r = d - (z.mean() + b * (ys - x.mean()))
+        if env is not None and np.ptp(env[mask]) > 1e-6 and np.ptp(x) > 1e-6:
+            cols = np.column_stack([np.ones(x.size), xc, env[mask] - env[mask].mean()])
+            coef, *_ = np.linalg.lstsq(cols, z, rcond=None)
+            r = d - (coef[0] + coef[1] * (ys - x.mean()) + coef[2] * (env - env[mask].mean()))
         sigma = float(1.4826 * np.median(np.abs(r[mask] - np.median(r[mask]))))
         new = np.abs(r) < 4 * max(sigma, floor)
         if new.sum() < max(6, n // 20) or np.array_equal(new, mask):
@@ -137,7 +145,11 @@ def _quiet_line(
     return r, sigma, mask
 
 
-def rate_residual(t: np.ndarray, y: np.ndarray, resolution_K: float = 0.0) -> RateResidual:
+def rate_residual(
+    t: np.ndarray, y: np.ndarray, resolution_K: float = 0.0, env: np.ndarray | None = None
+) -> RateResidual:
+    """The residual rate of step 2; with ``env`` (surroundings, °C, on ``t``) the quiet line is
+    d = a + b·T + c·T_env (Newton's law against a moving surroundings temperature)."""
     h = float(np.median(np.diff(t)))
     grid = np.arange(t[0], t[-1] + 1e-9 * h, h)
     yg = np.interp(grid, t, y)
@@ -152,12 +164,17 @@ def rate_residual(t: np.ndarray, y: np.ndarray, resolution_K: float = 0.0) -> Ra
     # no finer rate is real: 1e-5 of the largest, and a reading step q moves the slope over the
     # window by about q/W
     floor = max(1e-12 + 1e-5 * float(np.max(np.abs(d))), resolution_K / (win * h))
-    best: tuple[int, float, np.ndarray] | None = None
+    es = None if env is None else savgol_filter(np.interp(grid, t, env), win, 2, mode="interp")
+    best: tuple[tuple[bool, int], float, np.ndarray] | None = None
+    edge = max(2, n // 50)
     for mask in _starting_masks(n):
-        r, sigma, mask = _quiet_line(ys, d, mask, floor)
-        quiet = int(mask.sum())
-        if best is None or quiet > best[0]:
-            best = (quiet, sigma, r)
+        r, sigma, mask = _quiet_line(ys, d, mask, floor, es)
+        # a quiet line that leaves out the start or the end of the log has mistaken a period
+        # for the event (a long reaction's tail also lies on a line in T): prefer one that
+        # holds both ends, then the most quiet points
+        key = (bool(mask[:edge].any() and mask[-edge:].any()), int(mask.sum()))
+        if best is None or key > best[0]:
+            best = (key, sigma, r)
     assert best is not None
     _, sigma, r = best
     sigma = max(sigma, floor)
@@ -220,10 +237,17 @@ def _refined_start(
 
 
 def detect_events(
-    t: np.ndarray, y: np.ndarray, *, noise_K: float | None = None, resolution_K: float = 0.0
+    t: np.ndarray,
+    y: np.ndarray,
+    *,
+    noise_K: float | None = None,
+    resolution_K: float = 0.0,
+    env: np.ndarray | None = None,
 ) -> tuple[tuple[Event, ...], RateResidual]:
-    """All events in a thermogram, in time order, by the criterion in the module docstring."""
-    rr = rate_residual(t, y, resolution_K)
+    """All events in a thermogram, in time order, by the criterion in the module docstring.
+
+    ``env``: the logged surroundings temperature on ``t``, or None."""
+    rr = rate_residual(t, y, resolution_K, env)
     grid, r, sig, h, w = rr.grid_s, rr.residual_K_per_s, rr.sigma_K_per_s, rr.step_s, rr.window_s
     thr = THRESHOLD_SIGMA * sig
     above = np.abs(r) > thr
@@ -271,7 +295,7 @@ def detect_events(
             t, y, lo, float(start), float(grid[i0]), float(grid[ipk]), s, size, resolution_K, h
         )
         r_e = peak / math.e
-        floor = max(0.2 * noise, resolution_K, 1e-4 * abs(size), 1e-9)
+        floor = max(TAIL_NOISE_FRACTION * noise, resolution_K, 1e-4 * abs(size), 1e-9)
         rel = r_e * tau / floor
         t_quiet = grid[i_e] + tau * math.log(rel) if rel > 1 else grid[i_e]
         after = max(min(grid[i_e] + 6 * tau, t_quiet), grid[b - 1] + w / 2)

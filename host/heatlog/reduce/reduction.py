@@ -302,7 +302,7 @@ def reduce_thermogram(
     if q < 0 or not math.isfinite(q):
         raise ReductionError("the resolution must be a step of zero or more kelvin")
     noise = reading_noise(y)
-    events, rr = detect_events(t, y, noise_K=noise, resolution_K=q)
+    events, rr = detect_events(t, y, noise_K=noise, resolution_K=q, env=env)
 
     notes: list[str] = []
     ev: Event | None = None

@@ -13,8 +13,9 @@ change of X is the corrected change of T.
   smallest residual sum of squares wins.
 * ramp (no ambient column): e(t) = β·(t − t_m), a room warming or cooling steadily; β enters
   linearly (one more column w1_k), k by the same search. Chosen over the steady-room model by
-  the Akaike information criterion (Akaike 1974) with the same margin of 2 as the
-  linear/Newtonian choice in ``drift``.
+  the Akaike information criterion (Akaike 1974), see ``ramp_preferred`` for the margin. When it
+  is not chosen but its β is significant (|β| > 2u(β)), the budget gets a row for the spread
+  between the two (the fore- and after-period drifts disagree with a steady room).
 
 w_k is computed exactly for e piecewise linear between readings:
 w_{i+1} = a·w_i + e_{i+1} − a·e_i − m·(1 − a)/k, a = e^(−kΔ), m the slope of e over the step.
@@ -35,6 +36,12 @@ from heatlog.reduce.drift import AIC_MARGIN, _design, _expo, residual_sigma
 ENV_LAG_BOUND_S = 120.0
 #: Seeded draws for the surroundings-noise row (a Monte Carlo estimate, JCGM 101:2008 style).
 ENV_NOISE_DRAWS = 16
+#: The drifting-room model is taken over the steady room only on strong evidence: an AIC lower
+#: by more than this (stricter than the linear/Newtonian margin, since a ramp also soaks up
+#: small misfits such as probe lag) and a drift of at least ``RAMP_MIN_K_PER_H`` (a room
+#: steadier than 0.1 K/h counts as steady); both common practice, no source.
+RAMP_AIC_MARGIN = 10.0
+RAMP_MIN_K_PER_H = 0.1
 
 
 def env_response(t: np.ndarray, e: np.ndarray, k: float) -> np.ndarray:
@@ -153,5 +160,9 @@ def fit_surroundings(
 
 
 def ramp_preferred(ramp: SurroundingsFit, steady_aic: float) -> bool:
-    """The stated criterion: the ramp model's AIC is lower by more than ``AIC_MARGIN``."""
-    return ramp.aic < steady_aic - AIC_MARGIN
+    """The stated criterion: the ramp model's AIC is lower by more than ``RAMP_AIC_MARGIN`` and
+    the room drifts by at least ``RAMP_MIN_K_PER_H``."""
+    return (
+        ramp.aic < steady_aic - RAMP_AIC_MARGIN
+        and abs(ramp.beta_K_per_s) * 3600.0 >= RAMP_MIN_K_PER_H
+    )
