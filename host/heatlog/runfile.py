@@ -308,7 +308,9 @@ def read_run_log(log: LogSpec, probe: ProbeFile | None = None) -> Thermogram:
     (or through ``probe``, when given)."""
     env = (log.env_col,) if log.env_col else ()
     if log.raw_col is None:
-        th = read_thermogram_csv(log.file, time_col=log.time_col, temp_col=log.temp_col, channels=env)
+        th = read_thermogram_csv(
+            log.file, time_col=log.time_col, temp_col=log.temp_col, channels=env
+        )
         if not env:
             return th
         return replace(th, metadata={**th.metadata, "env_col": log.env_col})

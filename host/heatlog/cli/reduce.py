@@ -27,6 +27,7 @@ def _text(red: Reduction) -> str:
         f"(fore-period from {red.fore_start_s:.1f} s, after-period to {red.after_end_s:.1f} s)",
         f"  drift: {drift.model}, k = {k:.3g} ± {u_k:.2g} 1/s, T∞ = "
         + (f"{t_inf:.3f} ± {u_t:.2g} °C" if t_inf == t_inf else "undefined (k ≈ 0)"),
+        f"  drift choice: {red.drift_reason}",
         f"  method choice: {red.method_reason}",
         "  methods: " + ", ".join(f"{m} {r.delta_t_K:+.5f}" for m, r in red.methods.items()),
         f"  events found: {len(red.events)}"

@@ -16,8 +16,8 @@ Criterion (stated, our own design):
    turn rounding into events); runs of the same
    sign closer than W are merged; runs whose size ∫r dt is below 10× the reading noise, 5
    resolution steps or 0.1 mK are dropped.
-4. Event start, coarse: walk back from the first crossing of 5σ_r to where |r| falls below σ_r,
-   then a further W/2 + 2h earlier (the smoothing window spreads the onset).
+4. Event start, coarse: walk back from the first crossing of 5σ_r to where |r| falls below σ_r
+   (at most W back), then a further W/2 + 2h earlier (the smoothing window spreads the onset).
    Refined on the readings themselves, so the margin scales with the sampling and with the
    event's own rise instead of the fixed window: a straight line is fitted to the readings from
    the fore-period start to where |r| fell below σ_r and extrapolated; t_a and t_b are the first
@@ -48,7 +48,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.signal import savgol_filter
 
-from heatlog.reduce.periods import MIN_PERIOD_POINTS, MIN_PERIOD_S
+from heatlog.reduce.periods import MIN_PERIOD_POINTS, MIN_PERIOD_S, detector_window_s
 
 __all__ = ["MIN_PERIOD_POINTS", "MIN_PERIOD_S", "Event", "detect_events", "reading_noise"]
 
@@ -154,7 +154,7 @@ def rate_residual(
     grid = np.arange(t[0], t[-1] + 1e-9 * h, h)
     yg = np.interp(grid, t, y)
     n = grid.size
-    w_s = max(60.0, 9 * h)
+    w_s = detector_window_s(h)
     win = int(round(w_s / h)) | 1
     win = max(5, min(win, (n - 1) | 1 if n % 2 == 0 else n))
     if win > n:
@@ -279,7 +279,9 @@ def detect_events(
             continue
         # start: walk back to |r| < sigma
         i0 = a
-        while i0 > 0 and s * r[i0 - 1] > sig:
+        # (at most W back from the onset: the smoothing spreads an onset by W/2; further back
+        # the fore-period itself is off the quiet line, e.g. in a drifting room)
+        while i0 > 0 and s * r[i0 - 1] > sig and grid[i0 - 1] >= grid[a] - w:
             i0 -= 1
         start = grid[i0] - w / 2 - 2 * h
         ipk = a + int(np.argmax(s * seg))

@@ -46,3 +46,22 @@ def period_shortfall(t: np.ndarray, lo: float, hi: float, what: str) -> str | No
 def min_period_s(step_s: float) -> float:
     """The shortest usable period at a sampling step ``step_s``: both minimums met."""
     return max(MIN_PERIOD_S, (MIN_PERIOD_POINTS - 1) * max(step_s, 0.0))
+
+
+def detector_window_s(step_s: float) -> float:
+    """The event detector's smoothing window W at a sampling step (``events``, step 1)."""
+    return max(60.0, 9.0 * max(step_s, 0.0))
+
+
+def baseline_needed_s(step_s: float) -> float:
+    """Readings before an event that always leave a usable fore-period.
+
+    The detector's event start lies at most 1.5·W + 2h before the onset it detects (``events``
+    step 4: walk back by at most W on the smoothed rate, then W/2 + 2h); what is left must meet
+    the stated minimum. Most runs need less (the start is refined on the
+    readings), so a run may be reduced with less baseline than this. Never below
+    ``FULL_PERIOD_S``: the detector needs that much quiet drift before an event to tell the two
+    apart reliably.
+    """
+    h = max(step_s, 0.0)
+    return max(FULL_PERIOD_S, min_period_s(h) + 1.5 * detector_window_s(h) + 2.0 * h)

@@ -208,6 +208,15 @@ def _surroundings_rows(
         hi_v = _rp_with(t, y_meas - (sur.beta_K_per_s + ub) * w1, lo, t0, ta, hi, k)
         lo_v = _rp_with(t, y_meas - (sur.beta_K_per_s - ub) * w1, lo, t0, ta, hi, k)
         row("room drift (fitted)", abs(hi_v - lo_v) / 2, "A", "u(β) of the fitted room drift")
+        # k and β are told apart only by the curvature of the drift periods: the spread to the
+        # steady-room result stays in the budget as a rectangular row
+        steady_v = _one_pass(t, y_meas, lo, t0, ta, hi, "auto").values["regnault-pfaundler"]
+        row(
+            "room-drift model",
+            abs(steady_v - ref) / math.sqrt(3.0),
+            "B",
+            "difference to the steady-room result, rectangular",
+        )
         return rows
     e = np.asarray(env, dtype=float) - float(np.mean(env))
     if math.isfinite(u_k) and u_k > 0:
@@ -243,9 +252,7 @@ def _surroundings_rows(
         from scipy.ndimage import uniform_filter1d
 
         rate = uniform_filter1d(rate, size=max(3, int(60.0 / max(np.median(np.diff(t)), 1e-9))))
-    lagged = _rp_with(
-        t, y_meas - env_response(t, e + ENV_LAG_BOUND_S * rate, k), lo, t0, ta, hi, k
-    )
+    lagged = _rp_with(t, y_meas - env_response(t, e + ENV_LAG_BOUND_S * rate, k), lo, t0, ta, hi, k)
     row(
         "surroundings probe lag",
         abs(lagged - ref) / math.sqrt(3.0),
@@ -381,7 +388,9 @@ def reduce_thermogram(
         steady = fit_surroundings(t, y, fm, am, None, ramp=False)
         if ramp_preferred(ramp, steady.aic):
             sur = ramp
-        elif math.isfinite(ramp.u_beta_K_per_s) and abs(ramp.beta_K_per_s) > 2 * ramp.u_beta_K_per_s:
+        elif (
+            math.isfinite(ramp.u_beta_K_per_s) and abs(ramp.beta_K_per_s) > 2 * ramp.u_beta_K_per_s
+        ):
             steady_alt = ramp
     if sur is not None:
         y = y - sur.w

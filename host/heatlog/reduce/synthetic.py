@@ -143,7 +143,10 @@ def synthetic_run(
     if preroll > 0:
         # let both probes settle on the drifting curves before the log starts at t = 0
         x[clock] = -preroll
-        x[cos_i], x[sin_i] = np.cos(room_phase - omega * preroll), np.sin(room_phase - omega * preroll)
+        x[cos_i], x[sin_i] = (
+            np.cos(room_phase - omega * preroll),
+            np.sin(room_phase - omega * preroll),
+        )
         x[1] = x[0]
         x[env_i] = jacket(x)
         x = expm(matrix(0.0) * preroll) @ x
@@ -249,7 +252,9 @@ def random_run(seed: int) -> SyntheticRun:
 ROOM_MAX_DRIFT_K_PER_H = 1.5
 
 
-def room_run(seed: int, *, fore_s: tuple[float, float] = (120.0, 240.0), log_env: bool = True) -> SyntheticRun:
+def room_run(
+    seed: int, *, fore_s: tuple[float, float] = (120.0, 240.0), log_env: bool = True
+) -> SyntheticRun:
     """A cup run on a bench in an ordinary room (invented data; ranges chosen by us).
 
     The room warms or cools at up to ±1.5 K/h in total: a steady rate β uniform in ±1.5 K/h

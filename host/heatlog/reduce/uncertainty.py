@@ -53,6 +53,7 @@ def delta_t_budget(
 ) -> Budget:
     """The ΔT budget. ``extra`` replaces the drift rows (a whole-curve fit); ``more`` adds rows
     (surroundings model, unfinished release) to any method."""
+
     def row(name: str, u: float, dof: float, evaluation: str, note: str) -> Component:
         return Component(name, 0.0, u, 1.0, "K", dof, evaluation, note)
 
