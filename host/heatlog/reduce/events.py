@@ -21,12 +21,14 @@ Criterion (stated, our own design):
    Refined on the readings themselves, so the margin scales with the sampling and with the
    event's own rise instead of the fixed window: a straight line is fitted to the readings from
    the fore-period start to where |r| fell below σ_r and extrapolated; t_a and t_b are the first
-   times the readings leave it (in the event's direction, three readings in a row) by
+   times the readings leave it (in the event's direction, three readings in a row, looking
+   up to 4h past the peak of the rate) by
    a = max(3σ_p, 3q, 10⁻⁵·|size|, 1 µK) and by 3a (σ_p: the line's residual noise with its
-   prediction error). From the true onset the departure grows at least as the cube of the time
-   (a release through a first-order probe lag grows as its square, a second lag as its cube),
-   so the onset is no earlier than t_a − 2.3·(t_b − t_a); the start is
-   t_a − max(2.5·(t_b − t_a) + 2h, 3h) (2h for the sampling), and never earlier than the coarse
+   prediction error). Near the true onset the departure grows as a power of the time no higher
+   than the third (a release seen through a first-order probe lag as its square, through a
+   second lag as its cube), so the onset is no earlier than t_a − 2.3·(t_b − t_a); the start is
+   t_a − max(2.5·(t_b − t_a) + 2h, 3h, W/4) (2h for the sampling; W/4 against noise hiding the
+   first departures), and never earlier than the coarse
    start (an early start costs little: the corrections are exact for any start
    inside the Newtonian fore-period).
 5. After-period start: from the peak of |r|, t_½ and t_e are the last times |r| is above ½ and 1/e
@@ -54,6 +56,7 @@ __all__ = ["MIN_PERIOD_POINTS", "MIN_PERIOD_S", "Event", "detect_events", "readi
 
 THRESHOLD_SIGMA = 5.0
 TAIL_NOISE_FRACTION = 0.2
+REFINED_MARGIN_W = 0.25  # the refined start is at least W/4 before the first departure
 MIN_EVENT_K = 1e-4  # smaller changes are below any logger this tool serves
 
 
@@ -197,6 +200,7 @@ def _refined_start(
     size: float,
     q: float,
     h: float,
+    w: float,
 ) -> float:
     """The event start from the readings' own departure from the fore-period line (step 4)."""
     fm = (t >= lo) & (t <= quiet_end)
@@ -212,7 +216,9 @@ def _refined_start(
     a0 = float(yf.mean())
     res = yf - (a0 + b * x)
     sig = math.sqrt(float(res @ res) / max(res.size - 2, 1))
-    after = (t > quiet_end) & (t <= peak)
+    # up to a little past the rate's peak: the readings keep leaving the line while the rate has
+    # the event's sign, and a fast event at slow sampling has few readings before its peak
+    after = (t > quiet_end) & (t <= peak + 4 * h)
     if not after.any():
         return coarse
     ta_, ya_ = t[after], y[after]
@@ -232,7 +238,7 @@ def _refined_start(
     if ia is None or ib is None:
         return coarse
     ta, tb = float(ta_[ia]), float(ta_[max(ib, ia)])
-    refined = ta - max(2.5 * (tb - ta) + 2 * h, 3 * h)
+    refined = ta - max(2.5 * (tb - ta) + 2 * h, 3 * h, REFINED_MARGIN_W * w)
     return max(coarse, refined)
 
 
@@ -294,7 +300,7 @@ def detect_events(
         tau = max((grid[i_e] - grid[i_half]) / (1 - math.log(2.0)), h, w / 6)
         lo = events[-1].after_start_s if events else float(t[0])
         start = _refined_start(
-            t, y, lo, float(start), float(grid[i0]), float(grid[ipk]), s, size, resolution_K, h
+            t, y, lo, float(start), float(grid[i0]), float(grid[ipk]), s, size, resolution_K, h, w
         )
         r_e = peak / math.e
         floor = max(TAIL_NOISE_FRACTION * noise, resolution_K, 1e-4 * abs(size), 1e-9)
