@@ -10,10 +10,10 @@ and that the interval is not inflated (mean U within 10× the RMS error) — com
 Cup runs in an ordinary room (``room_run``, invented): the room drifts by up to ±1.5 K/h and is
 logged as ``env_C`` by a probe with its own lag and noise, reactions last up to about ten minutes,
 two to four minutes of baseline, sampling 0.5–5 s. Every run must be accepted and the k = 2
-interval must cover the truth in ≥ 90 % (with the ambient column; docs/REFERENCES.md: JCGM-100). Without the column the same
-runs must all be accepted and covered in ≥ 85 % (a drifting room is then only partly
-identifiable from the drift periods; stated, our own bound). ``bench/bench_room.py`` prints the
-figures for more runs.
+interval must cover the truth in ≥ 90 % (with the ambient column; docs/REFERENCES.md: JCGM100).
+Without the column the same runs must all be accepted and covered in ≥ 85 % (a drifting room
+is then only partly identifiable from the drift periods; stated, our own bound).
+``bench/bench_room.py`` prints the figures for more runs.
 """
 
 import numpy as np

@@ -2,7 +2,7 @@
 
 Runs come from ``room_run`` / ``synthetic_run`` with a drifting room (reduce/synthetic.py); the
 truth is the generator's adiabatic change of a vessel under Newtonian exchange with the room
-(docs/REFERENCES.md: ISO-1928). Where a test compares with and without the ambient column, the
+(docs/REFERENCES.md: ISO1928). Where a test compares with and without the ambient column, the
 drifting room is the only difference.
 """
 

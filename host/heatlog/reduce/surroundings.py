@@ -1,6 +1,6 @@
 """A surroundings temperature that changes during the run: measured (an ambient column) or fitted.
 
-Newton's law of exchange (docs/REFERENCES.md: ISO-1928) with a moving surroundings temperature
+Newton's law of exchange (docs/REFERENCES.md: ISO1928) with a moving surroundings temperature
 T_env(t) = T_e0 + e(t):
 dT/dt = k(T_e0 + e(t) − T) + u + P(t)/C. Let w be e seen through the vessel's own exchange,
 dw/dt = k(e − w) (any start value). Then X = T − w obeys dX/dt = k(T_e0 − X) + u + P(t)/C
@@ -14,9 +14,10 @@ change of X is the corrected change of T.
   smallest residual sum of squares wins.
 * ramp (no ambient column): e(t) = β·(t − t_m), a room warming or cooling steadily; β enters
   linearly (one more column w1_k), k by the same search. Chosen over the steady-room model by
-  the Akaike information criterion (docs/REFERENCES.md: AKAIKE-1974), see ``ramp_preferred`` for the margin. When it
-  is not chosen but its β is significant (|β| > 2u(β)), the budget gets a row for the spread
-  between the two (the fore- and after-period drifts disagree with a steady room).
+  the Akaike information criterion (docs/REFERENCES.md: AKAIKE1974), see ``ramp_preferred``
+  for the margin. When it is not chosen but its β is significant (|β| > 2u(β)), the budget
+  gets a row for the spread between the two (the fore- and after-period drifts disagree with
+  a steady room).
 
 w_k is computed exactly for e piecewise linear between readings:
 w_{i+1} = a·w_i + e_{i+1} − a·e_i − m·(1 − a)/k, a = e^(−kΔ), m the slope of e over the step.
@@ -35,7 +36,7 @@ from heatlog.reduce.drift import _design, _expo, residual_sigma
 #: Bound on how far the logged surroundings reading may lag what the vessel exchanges with
 #: (probe time constant in still air plus the vessel wall): common practice, no source.
 ENV_LAG_BOUND_S = 120.0
-#: Seeded draws for the surroundings-noise row (Monte Carlo, docs/REFERENCES.md: JCGM-101).
+#: Seeded draws for the surroundings-noise row (Monte Carlo, docs/REFERENCES.md: JCGM101).
 ENV_NOISE_DRAWS = 16
 #: The drifting-room model is taken over the steady room only on strong evidence: an AIC lower
 #: by more than this (stricter than the linear/Newtonian margin, since a ramp also soaks up
