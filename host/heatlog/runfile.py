@@ -13,6 +13,7 @@ RUN.toml`` evaluates it. The layout, with every key optional unless marked::
     raw_col = "counts"            # raw readings, converted with `probe` (and `chain` for counts)
     chain = "divider:rs=10000,side=low,bits=12,oversample=64"
     probe = "probe.toml"
+    env_col = "env_C"             # logged surroundings temperature, °C (reduced against it)
     [reduce]
     method = "auto"   event = 0   event_start_s = …   after_start_s = …   resolution_K = …
     [calorimeter]
@@ -96,6 +97,7 @@ class LogSpec:
     raw_col: str | None = None
     chain: str | None = None
     probe: Path | None = None
+    env_col: str | None = None  # logged surroundings temperature (°C)
 
 
 @dataclass(frozen=True)
@@ -207,6 +209,7 @@ def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
         raw_col=None if raw_col is None else str(raw_col),
         chain=None if log.get("chain") is None else str(log["chain"]),
         probe=None if log.get("probe") is None else _path(base, log["probe"], where),
+        env_col=None if log.get("env_col") is None else str(log["env_col"]),
     )
     red = dict(_table(doc, "reduce", where))
     unknown = set(red) - _REDUCE_KEYS
@@ -379,10 +382,20 @@ def read_log_arrays(
 def read_run_log(log: LogSpec, probe: ProbeFile | None = None) -> Thermogram:
     """The run's thermogram: a temperature column, or raw readings through the probe file
     (or through ``probe``, when given)."""
+    env = (log.env_col,) if log.env_col else ()
     if log.raw_col is None:
-        return read_thermogram_csv(log.file, time_col=log.time_col, temp_col=log.temp_col)
-    time_s, temp, _, meta = read_log_arrays(log, probe=probe, kind="thermogram")
-    return Thermogram(time_s, temp, metadata=meta)
+        th = read_thermogram_csv(
+            log.file, time_col=log.time_col, temp_col=log.temp_col, channels=env
+        )
+        if not env:
+            return th
+        return replace(th, metadata={**th.metadata, "env_col": log.env_col})
+    time_s, temp, extras, meta = read_log_arrays(
+        log, env, probe=probe, kind="thermogram", temperature_channels=env
+    )
+    if env:
+        meta["env_col"] = log.env_col
+    return Thermogram(time_s, temp, channels=extras, metadata=meta)
 
 
 @dataclass(frozen=True, eq=False)
@@ -507,6 +520,7 @@ def reduce_with_settings(thermogram: Thermogram, r: Mapping[str, Any]) -> Reduct
         event_start_s=r.get("event_start_s"),
         after_start_s=r.get("after_start_s"),
         resolution_K=None if resolution is None else float(resolution),
+        env_channel=thermogram.metadata.get("env_col"),
     )
     return with_probe_curve(red, thermogram.metadata.get("probe_file"))
 

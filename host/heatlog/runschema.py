@@ -34,7 +34,7 @@ TOP_LEVEL = {
     "profile",
 }
 TABLE_KEYS: dict[str, set[str]] = {
-    "log": {"file", "time_col", "temp_col", "raw_col", "chain", "probe"},
+    "log": {"file", "time_col", "temp_col", "raw_col", "chain", "probe", "env_col"},
     "calorimeter": {"heat_capacity_J_per_K", "u_heat_capacity_J_per_K", "calibrations"},
     "contents": {"name", "mass_g", "u_mass_g", "cp", "u_cp"},
     "electrical": {
@@ -47,7 +47,17 @@ TABLE_KEYS: dict[str, set[str]] = {
         "seconds",
         "u_seconds",
     },
-    "sample": {"name", "mass_g", "u_mass_g", "molar_mass_g_per_mol", "reaction"},
+    "sample": {
+        "name",
+        "mass_g",
+        "u_mass_g",
+        "molar_mass_g_per_mol",
+        "reaction",
+        "formation_table",
+        "contents_state",
+        "delta_cp_J_per_mol_K",
+        "u_delta_cp_J_per_mol_K",
+    },
 }
 
 #: Physical bounds on run-file numbers: (low, high), both included. Beyond them the value is a

@@ -32,6 +32,7 @@ def _text(red: Reduction) -> str:
         f"(fore-period from {red.fore_start_s:.1f} s, after-period to {red.after_end_s:.1f} s)",
         f"  drift: {drift.model}, k = {k:.3g} 1/s (u = {u_k:.2g}, k=1), T∞ = "
         + (f"{t_inf:.3f} °C (u = {u_t:.2g} K, k=1)" if t_inf == t_inf else "undefined (k ≈ 0)"),
+        f"  drift choice: {red.drift_reason}",
         f"  method choice: {red.method_reason}",
         "  methods: " + ", ".join(f"{m} {r.delta_t_K:+.5f}" for m, r in red.methods.items()),
         f"  events found: {len(red.events)}"
@@ -90,6 +91,12 @@ def _run_text(result: RunResult) -> str:
 @click.option("--temp-col", default="temp_C", show_default=True, help="Column with °C readings.")
 @click.option("--iso-time", is_flag=True, help="The time column holds ISO-8601 timestamps.")
 @click.option(
+    "--env-col",
+    default=None,
+    help="Column with the logged surroundings (room/ambient) temperature, °C; the exchange is "
+    "then reduced against it.",
+)
+@click.option(
     "--method",
     type=click.Choice(["auto", *METHODS]),
     default="auto",
@@ -123,6 +130,7 @@ def reduce(
     time_col: str,
     temp_col: str,
     iso_time: bool,
+    env_col: str | None,
     method: str,
     event_index: int,
     event_start: float | None,
@@ -148,7 +156,13 @@ def reduce(
         payload["caution"] = CAUTION
         emit(as_json, payload, lambda: _run_text(result))
         return
-    thermogram = read_thermogram_csv(file, time_col=time_col, temp_col=temp_col, iso_time=iso_time)
+    thermogram = read_thermogram_csv(
+        file,
+        time_col=time_col,
+        temp_col=temp_col,
+        channels=(env_col,) if env_col else (),
+        iso_time=iso_time,
+    )
     red = reduce_thermogram(
         thermogram,
         method=method,
@@ -156,6 +170,7 @@ def reduce(
         event_start_s=event_start,
         after_start_s=after_start,
         resolution_K=resolution,
+        env_channel=env_col,
     )
     found = findings_of(thermogram)
     payload = red.to_dict()

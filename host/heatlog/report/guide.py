@@ -17,7 +17,10 @@ practice, no source):
    is steady: the rates b₁, b₂ of lines fitted to the first and second half of the window differ
    by |b₂ − b₁| + 2·u(b₂ − b₁) ≤ ``max_drift_change_K_per_min`` (default 5 mK/min). A steady
    drift is what the corrections (Regnault–Pfaundler, Dickinson) assume for the fore-period; a
-   small one keeps the exchange correction, and its uncertainty, small.
+   small one keeps the exchange correction, and its uncertainty, small. The window is never
+   shorter than :func:`heatlog.reduce.periods.baseline_needed_s` at the run's sampling step: the
+   rule the reduction applies, so a run started at the signal leaves the reduction a fore-period
+   it accepts.
 2. ``stable`` → ``event``: once stable, a reading that leaves the extrapolated fore-period line
    by more than max(``event_sigmas``·σ, ``min_event_K``) (defaults 8σ and 5 mK), three readings
    in a row, marks the event at the first of them. A release started before the stable signal
@@ -43,7 +46,8 @@ import numpy as np
 
 from heatlog.errors import InputError, ReductionError
 from heatlog.reduce import reduce_thermogram
-from heatlog.reduce.events import MIN_PERIOD_S, detect_events, reading_noise
+from heatlog.reduce.events import detect_events, reading_noise
+from heatlog.reduce.periods import baseline_needed_s
 from heatlog.reduce.reduction import MAX_POINTS, detect_resolution
 from heatlog.reduce.sampling import block_means
 from heatlog.thermogram import Thermogram
@@ -51,6 +55,7 @@ from heatlog.thermogram import Thermogram
 PHASES = ("settling", "stable", "event", "after", "enough")
 _DEPARTURES = 3  # readings in a row off the fore-period line that make an event
 _JUMP_S = 20.0  # span of the "recent rate" used to spot an event before the stable signal
+_FIRST_REDUCE_S = 120.0  # age of the event before the first running reduction is tried
 
 
 @dataclass(frozen=True)
@@ -169,8 +174,14 @@ class LiveGuide:
         # keep only readings not flagged as departures (they are at the end)
         end = t.size - len(self._departures)
         t, y = t[:end], y[:end]
-        lo = int(np.searchsorted(t, t[-1] - self.options.window_s)) if t.size else 0
+        lo = int(np.searchsorted(t, t[-1] - self._window_s())) if t.size else 0
         return t[lo:], y[lo:]
+
+    def _window_s(self) -> float:
+        """The stable window: the option, and never less than the reduction needs."""
+        t = self._t
+        step = float(np.median(np.diff(t[-50:]))) if len(t) > 2 else 0.0
+        return max(self.options.window_s, baseline_needed_s(step))
 
     def _fore(self, s: GuideState) -> GuideState:
         o = self.options
@@ -193,11 +204,12 @@ class LiveGuide:
                 return s
             self._departures.clear()
         t, y = self._window()
-        if t.size < 5 or t[-1] - t[0] < 0.95 * o.window_s:
+        window = self._window_s()
+        if t.size < 5 or t[-1] - t[0] < 0.95 * window:
             have = t[-1] - t[0] if t.size else 0.0
             return replace(
                 s,
-                message=f"{have:.0f} of {o.window_s:.0f} s of fore-period readings so far",
+                message=f"{have:.0f} of {window:.0f} s of fore-period readings so far",
             )
         a, b, u_b, sigma, tm = _line(t, y)
         drift, u_drift = 60.0 * b, 60.0 * u_b
@@ -212,7 +224,7 @@ class LiveGuide:
             "steady": f"|{change * 1e3:.2f}| + 2·{u_change * 1e3:.2f} mK/min ≤ "
             f"{o.max_drift_change_K_per_min * 1e3:g} mK/min (second-half minus first-half rate)",
             "noise": f"{sigma * 1e3:.2f} mK ≤ {o.max_noise_K * 1e3:g} mK",
-            "window": f"last {o.window_s:g} s",
+            "window": f"last {window:g} s (at least what the reduction needs at this sampling)",
             "source": "thresholds: common practice, no source",
         }
         stable = (
@@ -296,7 +308,7 @@ class LiveGuide:
         o = self.options
         assert s.event_s is not None
         t_now = s.time_s
-        if t_now - s.event_s < MIN_PERIOD_S:
+        if t_now - s.event_s < _FIRST_REDUCE_S:
             return s
         if self._last_reduce is not None and t_now - self._last_reduce < o.reduce_every_s:
             return s
