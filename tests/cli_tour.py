@@ -110,6 +110,47 @@ def main_tour(work: Path) -> None:
             "--sample-g", "40", "--u-sample-g", "0.05")  # fmt: skip
     heatlog("report", demo / "dissolution.toml", "--out", work / "report.html")
 
+    # the first-hour tools: templates, a probe's time constant, a box, exports, a comparison
+    for kind in ("cup", "calibration", "profile"):
+        heatlog("new", kind, work / f"new-{kind}.toml")
+    t = np.arange(0.0, 120.0, 0.5)
+    plunge = np.where(t < 10.0, 21.0, 60.0 + (21.0 - 60.0) * np.exp(-(t - 10.0) / 4.0))
+    np.savetxt(work / "plunge.csv", np.column_stack([t, plunge]), delimiter=",",
+               header="time_s,temp_C", comments="", fmt="%.5f")  # fmt: skip
+    heatlog("probe", "tau", work / "plunge.csv")
+    heatlog(
+        "box",
+        "fit",
+        warmer,
+        "--cooling",
+        "--env-col",
+        "room_C",
+        "--heat-capacity",
+        "60",
+        "--u-heat-capacity",
+        "1",
+        "--start",
+        "20000",
+        ok=False,
+    )  # a warmer still releases heat
+    heatlog("export", "thermogram", demo / "dissolution.toml", "--out", work / "thermo.csv")
+    profile_toml = work / "warmer.toml"
+    profile_toml.write_text(
+        '# invented data\n[log]\nfile = "warmer.csv"\n[profile]\nheat_capacity_J_per_K = 60.0\n'
+        "u_heat_capacity_J_per_K = 1.0\nloss_W_per_K = 0.06\nu_loss_W_per_K = 0.002\n"
+        'env_col = "room_C"\nkind = "warmer"\n',
+        encoding="utf-8",
+    )
+    heatlog("export", "profile", profile_toml, "--out", work / "profile.csv")
+    heatlog("compare", demo / "calibration.toml", demo / "dissolution.toml", "--out",
+            work / "compare.html")  # fmt: skip
+    board_cfg = work / "board.json"
+    heatlog(
+        "board", "config", "new", "--variant", "divider", "--board", "rp2040", "--out", board_cfg
+    )
+    heatlog("board", "config", "check", board_cfg, "--board", "rp2040")
+    heatlog("board", "install", "--port", "loop://", "--config", board_cfg, ok=False)  # no board
+
     # the run archive
     heatlog("probes", "add", demo / "probe.toml", *db)
     heatlog("probes", "list", *db)

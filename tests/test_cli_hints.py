@@ -27,7 +27,7 @@ def assert_hinted_options_exist(name: str, message: str) -> None:
 
 def _early_event_csv(tmp_path):
     run = synthetic_run(
-        releases=(Release(60.0, 2.0, 10.0),), duration_s=2000.0, dt_s=2.0, noise_K=0.005
+        releases=(Release(20.0, 2.0, 10.0),), duration_s=2000.0, dt_s=2.0, noise_K=0.005
     )
     p = tmp_path / "early.csv"
     rows = "\n".join(
@@ -54,9 +54,9 @@ def test_period_hints_name_what_each_command_accepts(tmp_path):
     # the report's own period options work on a CSV log
     r = CliRunner().invoke(
         main,
-        ["report", str(csv), "--event-start", "60", "--after-start", "150", "--json"],
+        ["report", str(csv), "--event-start", "20", "--after-start", "150", "--json"],
     )
-    assert "fore-period" in json.loads(r.output)["error"]  # honest: 60 s is still too short
+    assert "fore-period" in json.loads(r.output)["error"]  # honest: 20 s is still too short
 
 
 def test_a_missing_file_to_add_says_check_the_path_not_reimport(tmp_path, monkeypatch):

@@ -302,3 +302,25 @@ def test_a_short_warmer_log_in_milliseconds_is_recognised_by_its_kind(tmp_path):
     d = json.loads(r.output)
     assert [f["code"] for f in d["findings"]] == ["time-unit"]
     assert abs(d["heat_J"] - ok["heat_J"]) < ok["u_heat_J"]
+
+
+def test_clean_board_log_has_no_spikes(tmp_path):
+    # A clean log of the simulator's dissolution (the real firmware; invented data): sums of 64
+    # reads, through the event. Readings a few σ off are no spikes (a noise estimate from the
+    # residuals to a running median was a third of the real one here, and flagged two); a
+    # reading 30 σ off is one.
+    from heatlog.logformat import read_log
+    from heatlog.sim import scenarios as sc
+    from heatlog.sim.board import VirtualBoard
+
+    board = VirtualBoard(sc.SCENARIOS["endothermic"], tmp_path / "flash", seed=1)
+    run = board.log_run(2400.0)
+    y = read_log(board.root / f"r{run:04d}.hlg").raw[:, 0].astype(float)
+    spikes, _ = spike_rows(y, np.ones(y.size, dtype=bool))
+    assert spikes.size == 0, (spikes, y[spikes])
+    y[600] += 5 * 8.3  # 5 σ of a sum of 64 one-code noises: rare, but a reading, not a spike
+    spikes, _ = spike_rows(y, np.ones(y.size, dtype=bool))
+    assert spikes.size == 0, (spikes, y[spikes])
+    y[600] += 25 * 8.3  # 30 σ
+    spikes, _ = spike_rows(y, np.ones(y.size, dtype=bool))
+    assert list(spikes) == [600]

@@ -147,8 +147,9 @@ def test_every_damaged_file_on_the_board_is_named_by_pull(clean_run, tmp_path, m
         out = tmp_path / "arch"
         r = CliRunner().invoke(main, ["pull", "--port", port, "--out", str(out), "--json", "--strict"])  # fmt: skip
         assert r.exit_code == 4, r.output
-        assert "damaged on the board" in r.stderr and "kept in" in r.stderr
-        d = json.loads(r.stdout)
+        d = json.loads(r.stdout)  # one JSON object: the pull and the refusal
+        assert "damaged on the board" in d["error"] and "kept in" in d["error"]
+        assert d["kind"] == "DamagedLog"
         by_run = {e["run"]: e["damage"] for e in d["pulled"]}
         assert set(by_run) == set(names) | {100}
         assert not by_run[100]["damaged"]

@@ -260,12 +260,18 @@ def pull_cmd(port: str, baud: int, timeout: float, out: Path, runs: tuple[int, .
             )
         return "\n".join(lines)
 
-    emit(as_json, payload, text)
+    damaged = None
     if strict and report.damaged:
-        raise DamagedLog(
+        damaged = DamagedLog(
             f"{len(report.damaged)} archived run file(s) damaged on the board "
             f"({', '.join(report.damaged)}); kept in {out} (--strict)"
         )
+        payload.update(error=str(damaged), kind=type(damaged).__name__)  # one JSON object
+    emit(as_json, payload, text)
+    if damaged is not None:
+        if as_json:
+            click.get_current_context().exit(damaged.exit_code)
+        raise damaged
 
 
 pull_cmd.name = "pull"
