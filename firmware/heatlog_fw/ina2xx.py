@@ -125,10 +125,8 @@ class Ina2xx:
             return 0
         if v & 0x8000:
             v -= 0x10000
-        if self.kind == "ina226":
-            full = INA226_SHUNT_FULL
-        else:
-            full = INA219_PGA_MV[self.pga_index] * 100  # 10 uV codes
+        # INA219: 10 uV codes, so the PGA range in mV x 100
+        full = INA226_SHUNT_FULL if self.kind == "ina226" else INA219_PGA_MV[self.pga_index] * 100
         self.fault = FAULT_RANGE if v >= full or v <= -full else FAULT_NONE
         return v
 

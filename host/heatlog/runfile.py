@@ -22,6 +22,9 @@ RUN.toml`` evaluates it. The layout, with every key optional unless marked::
     name = "water"  mass_g = 150.0  u_mass_g = 0.05  cp = "water"  # or cp = 4.0, u_cp = 0.02
     [electrical]                 # this run calibrates: heater energy
     power_W = 5.0  u_power_W = 0.01  seconds = 300.0  u_seconds = 0.1   # or voltage_V/current_A
+    # or the energy ∫V·I dt from a logged INA226/INA219 (columns of the same log):
+    monitor = "ina226"  bus_col = "ch1_bus_V"  shunt_col = "ch2_shunt_V"
+    shunt_ohm = 0.1  u_shunt_rel = 0.0005          # the shunt's tolerance/√3 or calibration u
     [sample]                     # this run measures
     name = "NH4NO3"  mass_g = 8.0  u_mass_g = 0.002
     molar_mass_g_per_mol = 80.043                  # or taken from the reaction's first reactant
@@ -63,6 +66,7 @@ from heatlog.energetics.heat import (
     specific_enthalpy,
     substitute,
 )
+from heatlog.energetics.heater_energy import HeaterEnergy, heater_energy
 from heatlog.errors import InputError
 from heatlog.gum import Budget, Component, Input
 from heatlog.probes import ProbeFile, chain_from_spec, load_probe
@@ -79,6 +83,7 @@ class LogSpec:
     raw_col: str | None = None
     chain: str | None = None
     probe: Path | None = None
+    extra_cols: tuple[str, ...] = ()  # further columns read beside the temperature
 
 
 @dataclass(frozen=True)
@@ -89,11 +94,23 @@ class ContentSpec:
 
 
 @dataclass(frozen=True)
+class LoggedPowerSpec:
+    """The heater's energy from a logged current/voltage monitor (energetics.heater_energy)."""
+
+    monitor: str
+    bus_col: str
+    shunt_col: str
+    shunt_ohm: float
+    u_shunt_rel: float
+
+
+@dataclass(frozen=True)
 class ElectricalSpec:
-    seconds: Input
+    seconds: Input | None
     power_W: Input | None = None
     voltage_V: Input | None = None
     current_A: Input | None = None
+    logged: LoggedPowerSpec | None = None
 
 
 @dataclass(frozen=True)
@@ -205,7 +222,20 @@ def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
     if "electrical" in doc:
         e = _table(doc, "electrical", where)
         w = f"{where} [electrical]"
-        if "power_W" in e:
+        if "monitor" in e:
+            for key in ("bus_col", "shunt_col"):
+                if not isinstance(e.get(key), str):
+                    raise InputError(f'{w}: monitor needs {key} = "…" (a column of the log)')
+            logged = LoggedPowerSpec(
+                str(e["monitor"]),
+                e["bus_col"],
+                e["shunt_col"],
+                _number(e, "shunt_ohm", w),
+                _number(e, "u_shunt_rel", w),
+            )
+            electrical = ElectricalSpec(None, logged=logged)
+            log_spec = replace(log_spec, extra_cols=(logged.bus_col, logged.shunt_col))
+        elif "power_W" in e:
             electrical = ElectricalSpec(
                 _quantity(e, "seconds", "s", w), power_W=_quantity(e, "power_W", "W", w)
             )
@@ -216,7 +246,10 @@ def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
                 current_A=_quantity(e, "current_A", "A", w),
             )
         else:
-            raise InputError(f"{w}: give power_W, or voltage_V and current_A, and seconds")
+            raise InputError(
+                f"{w}: give power_W, or voltage_V and current_A, and seconds; or monitor with "
+                "bus_col, shunt_col, shunt_ohm and u_shunt_rel"
+            )
 
     sample = None
     if "sample" in doc:
@@ -303,10 +336,10 @@ def read_log_arrays(
 def read_run_log(log: LogSpec, probe: ProbeFile | None = None) -> Thermogram:
     """The run's thermogram: a temperature column, or raw readings through the probe file
     (or through ``probe``, when given)."""
-    if log.raw_col is None:
+    if log.raw_col is None and not log.extra_cols:
         return read_thermogram_csv(log.file, time_col=log.time_col, temp_col=log.temp_col)
-    time_s, temp, _, meta = read_log_arrays(log, probe=probe)
-    return Thermogram(time_s, temp, metadata=meta)
+    time_s, temp, extras, meta = read_log_arrays(log, log.extra_cols, probe=probe)
+    return Thermogram(time_s, temp, channels=extras, metadata=meta)
 
 
 @dataclass(frozen=True, eq=False)
@@ -323,6 +356,7 @@ class RunResult:
     specific: Budget | None = None
     hess: hess.Comparison | None = None
     predicted: Budget | None = None
+    heater: HeaterEnergy | None = None  # the energy from a logged monitor, when that was used
 
     def to_dict(self) -> dict[str, Any]:
         out: dict[str, Any] = {"title": self.spec.title, "run_file": str(self.spec.path)}
@@ -335,6 +369,8 @@ class RunResult:
                 "u_J_per_K": self.c_cal.u,
                 "budget": self.c_cal.to_dict(),
             }
+        if self.heater is not None:
+            out["heater_energy"] = self.heater.to_dict()
         if self.heat_J is not None:
             out.update(
                 heat_J=self.heat_J.value, u_heat_J=self.heat_J.u, heat_budget=self.heat_J.to_dict()
@@ -412,11 +448,26 @@ def reduce_with_settings(thermogram: Thermogram, r: Mapping[str, Any]) -> Reduct
     return with_probe_curve(red, thermogram.metadata.get("probe_file"))
 
 
-def _energy(e: ElectricalSpec) -> Budget:
+def _energy(e: ElectricalSpec, thermogram: Thermogram) -> tuple[Budget, HeaterEnergy | None]:
+    if e.logged is not None:
+        g = e.logged
+        for col in (g.bus_col, g.shunt_col):
+            if col not in thermogram.channels:
+                raise InputError(f"the log has no column {col!r} for the heater monitor")
+        he = heater_energy(
+            thermogram.time_s,
+            thermogram.channels[g.bus_col],
+            thermogram.channels[g.shunt_col],
+            shunt_ohm=g.shunt_ohm,
+            u_shunt_rel=g.u_shunt_rel,
+            monitor=g.monitor,
+        )
+        return he.budget, he
+    assert e.seconds is not None
     if e.power_W is not None:
-        return calorimeter.power_energy(e.power_W, e.seconds)
+        return calorimeter.power_energy(e.power_W, e.seconds), None
     assert e.voltage_V is not None and e.current_A is not None
-    return calorimeter.electrical_energy(e.voltage_V, e.current_A, e.seconds)
+    return calorimeter.electrical_energy(e.voltage_V, e.current_A, e.seconds), None
 
 
 def _molar_mass(sample: SampleSpec) -> float | None:
@@ -451,11 +502,10 @@ def evaluate_run(
     dt = red.budget
 
     if spec.electrical is not None:
-        c = calorimeter.electrical_calibration(
-            _energy(spec.electrical), as_input(dt), list(contents)
-        )
+        energy, heater = _energy(spec.electrical, thermogram)
+        c = calorimeter.electrical_calibration(energy, as_input(dt), list(contents))
         c = substitute(c, "ΔT", dt)  # ΔT's own parts, so a later run can share its probe rows
-        return RunResult(spec, red, mean_temp, contents, c_cal=c)
+        return RunResult(spec, red, mean_temp, contents, c_cal=c, heater=heater)
 
     c_cal: Budget | Input | None = spec.heat_capacity
     if spec.calibrations:

@@ -574,7 +574,10 @@ def check_ina_power_monitor(vectors):
 
     # config words (TI SBOS547 / SBOS448, from memory): AVG 16 = 0b010, CT 1100 us = 0b100
     assert ina2xx.config_word("ina226", 16, 4) == (2 << 9) | (4 << 6) | (4 << 3) | 7
-    assert ina2xx.config_word("ina219", 128, 0, 3, True) == 0x2000 | (3 << 11) | (0xF << 7) | (0xF << 3) | 7
+    assert (
+        ina2xx.config_word("ina219", 128, 0, 3, True)
+        == 0x2000 | (3 << 11) | (0xF << 7) | (0xF << 3) | 7
+    )
     assert ina2xx.result_ms("ina226", 16, 4) == 36  # 16 x (1100 + 1100) us = 35.2 ms
     assert ina2xx.result_ms("ina219", 128, 0) == 137  # 2 x 68.1 ms
     i2c = machine.I2C(0)

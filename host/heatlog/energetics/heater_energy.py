@@ -51,7 +51,9 @@ MONITORS = {
     ),
 }  # fmt: skip
 
-ON_FRACTION = 0.9  # a sample at or above 90 % of the on-level current is "on" (common practice, no source)
+ON_FRACTION = (
+    0.9  # a sample at or above 90 % of the on-level current is "on" (common practice, no source)
+)
 OFF_FRACTION = 0.1  # at or below 10 % is "off"; between them, the sample straddles a switching edge
 
 
@@ -173,11 +175,15 @@ def heater_energy(
     q = core + ps[0] * (ts[0] - t_on) + ps[-1] * (t_off - ts[-1])
     if not q > 0:
         raise InputError(f"the logged heater energy is {q:.4g} J; expected a positive energy")
-    v_int = float(np.trapezoid(v[a_on : z_on + 1], ts)) + v[a_on] * (ts[0] - t_on) + v[z_on] * (
-        t_off - ts[-1]
+    v_int = (
+        float(np.trapezoid(v[a_on : z_on + 1], ts))
+        + v[a_on] * (ts[0] - t_on)
+        + v[z_on] * (t_off - ts[-1])
     )
-    i_int = float(np.trapezoid(i[a_on : z_on + 1], ts)) + i[a_on] * (ts[0] - t_on) + i[z_on] * (
-        t_off - ts[-1]
+    i_int = (
+        float(np.trapezoid(i[a_on : z_on + 1], ts))
+        + i[a_on] * (ts[0] - t_on)
+        + i[z_on] * (t_off - ts[-1])
     )
     dt = np.diff(ts)
     # held edge values vs the trapezoid's own straight line: the rule's error is at most the
@@ -185,10 +191,15 @@ def heater_energy(
     rule = float(np.sum(np.abs(np.diff(ps)) * dt)) / 2.0 if ts.size > 1 else 0.0
     n = int(ts.size)
     step = float(np.median(dt)) if dt.size else 0.0
-    quant = math.sqrt(n) * step * math.hypot(
-        float(np.mean(v[a_on : z_on + 1])) * spec.shunt_lsb_V / shunt_ohm,
-        float(np.mean(i[a_on : z_on + 1])) * spec.bus_lsb_V,
-    ) / SQRT12
+    quant = (
+        math.sqrt(n)
+        * step
+        * math.hypot(
+            float(np.mean(v[a_on : z_on + 1])) * spec.shunt_lsb_V / shunt_ohm,
+            float(np.mean(i[a_on : z_on + 1])) * spec.bus_lsb_V,
+        )
+        / SQRT12
+    )
     comps = (
         Component("∫V·I dt (logged)", q, 0.0, 1.0, "J", note=f"{n} readings with the heater on"),
         Component("switch-on instant", t_on, u_on, -float(ps[0]), "s", note="between two readings"),
