@@ -95,3 +95,34 @@ def test_run_file_refuses_a_missing_monitor_column(calibration_csv):
     half = _run_file(out, csv, 'monitor = "ina226"\nbus_col = "ch1_bus_V"\n')
     with pytest.raises(InputError, match="shunt_col"):
         run_file(half)
+
+
+def test_calibrate_electrical_takes_the_energy_from_the_monitor_log(calibration_csv, tmp_path):
+    import json
+
+    from click.testing import CliRunner
+
+    from heatlog.cli import main
+
+    _, csv, _ = calibration_csv
+    runner = CliRunner()
+    red = runner.invoke(main, ["reduce", str(csv), "--json"])
+    assert red.exit_code == 0, red.output
+    rj = tmp_path / "reduce.json"
+    rj.write_text(red.output, encoding="utf-8")
+    args = ["calibrate", "electrical", "--monitor-log", str(csv), "--reduce-json", str(rj),
+            "--water-g", "150", "--u-water-g", "0.05", "--temp", "22.5"]  # fmt: skip
+    r = runner.invoke(main, [*args, "--shunt-ohm", "0.1", "--u-shunt-rel", "0.000577", "--json"])
+    assert r.exit_code == 0, r.output
+    d = json.loads(r.output)
+    assert abs(d["value"] - sc.CUP_C_J_PER_K) <= 2 * d["standard_uncertainty"]
+    assert d["heater_energy"]["monitor"] == "INA226"
+    text = runner.invoke(main, [*args, "--shunt-ohm", "0.1", "--u-shunt-rel", "0.000577"])
+    assert text.exit_code == 0 and "Heater energy ∫V·I dt" in text.output, text.output
+    # every missing input named at once, one line, non-zero exit
+    bad = runner.invoke(main, args)
+    assert bad.exit_code != 0
+    assert "--shunt-ohm and --u-shunt-rel" in bad.output and "Traceback" not in bad.output
+    wrong = runner.invoke(main, [*args, "--shunt-ohm", "0.1", "--u-shunt-rel", "0.001",
+                                 "--bus-col", "volts"])  # fmt: skip
+    assert wrong.exit_code != 0 and "volts" in wrong.output
