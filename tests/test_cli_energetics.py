@@ -72,13 +72,21 @@ def test_reaction_reference_and_reduce_json(tmp_path):
     r_args = [
         "calibrate", "reaction", "--reference", "tris-hcl", "--amount", "0.5", "--u-amount",
         "0.0002", "--reduce-json", str(red), "--water-g", "100", "--u-water-g", "0.05", "--cp",
-        "4.15", "--u-cp", "0.01", "--json",
+        "4.15", "--u-cp", "0.01", "--temp", "25", "--json",
     ]  # fmt: skip
     r = run(*r_args)
     assert r.exit_code == 0, r.output
     data = json.loads(r.output)
     assert data["value"] == pytest.approx(50.0, abs=1e-9)
     assert data["reference"]["source"].startswith("Prosen & Kilday")
+    assert data["reference"]["concentration"] == pytest.approx(5.0)  # 0.5 g per 100 g
+    # at 20 °C the same rise means a larger C_cal: ΔH(20 °C) = −252.935 J/g (PROSEN1973 ΔCp)
+    r20 = run(*[a if a != "25" else "20" for a in r_args])
+    assert json.loads(r20.output)["value"] == pytest.approx(0.5 * 252.935 / (122.88 / 465) - 415)
+    missing = run(*[a for a in r_args if a not in ("--temp", "25")])
+    assert missing.exit_code != 0 and "--temp" in missing.output
+    cold = run(*[a if a != "25" else "15" for a in r_args])
+    assert cold.exit_code != 0 and "293.15–303.15 K" in cold.output
     assert "eye protection" in data["caution"]
     text = run(*[a for a in r_args if a != "--json"]).output
     assert "Reference: tris" in text and "Prosen & Kilday" in text
@@ -110,7 +118,9 @@ def test_hess_text_json_and_compare():
     assert all(c["note"] for c in data["budget"]["components"])  # every value is sourced
     r = run("hess", "H+(aq) + OH-(aq) -> H2O(l)", "--measured", "-56.2", "--u-measured", "0.8")
     assert r.exit_code == 0
-    assert "z = 0.48" in r.output and "agrees" in r.output
+    # NBS 1982: −55.836, u = 0.42; z = 0.364/√(0.8² + 0.42²) = 0.40; every ± names its k
+    assert "z = 0.40" in r.output and "agrees" in r.output
+    assert "u = 0.8 (k = 1)" in r.output and "(k = 1)" in r.output.split("predicted")[1]
     assert "eye protection" in r.output  # neutralisation: acids and bases caution
 
 
@@ -126,11 +136,17 @@ def test_hess_text_json_and_compare():
         (["calibrate", "electrical", "--voltage", "12", "--power", "18"], "exactly one"),
         (["calibrate", "electrical", "--power", "18", "--u-power", "0.1", "--seconds", "300",
           "--u-seconds", "1"], "--delta-t"),
-        (["calibrate", "reaction", "--reference", "kcl", "--amount", "0.02", "--u-amount", "0",
-          "--delta-t", "0.5", "--u-delta-t", "0.01", "--water-g", "400", "--u-water-g", "0.1"],
+        (["calibrate", "reaction", "--reference", "kcl", "--amount", "0.0444", "--u-amount", "0",
+          "--delta-t", "0.5", "--u-delta-t", "0.01", "--water-g", "400", "--u-water-g", "0.1",
+          "--temp", "25"],
          "sign of ΔT"),
+        (["calibrate", "reaction", "--reference", "kcl", "--amount", "0.8", "--u-amount", "0",
+          "--delta-t", "-0.5", "--u-delta-t", "0.01", "--water-g", "400", "--u-water-g", "0.1",
+          "--temp", "25"],
+         "0.02–0.5 mol/kg"),
         (["calibrate", "reaction", "--reference", "tris-hcl", "--amount", "0.5", "--u-amount",
-          "0", "--reduce-json", "missing.json"], "no such file"),
+          "0", "--reduce-json", "missing.json", "--temp", "25", "--water-g", "100"],
+         "no such file"),
         (["calibrate", "combine", "150"], "VALUE:U"),
         (["calibrate", "electrical", "--power", "nan", "--u-power", "0.1", "--seconds", "300",
           "--u-seconds", "1", "--delta-t", "2", "--u-delta-t", "0.01"], "finite"),
@@ -159,3 +175,72 @@ def test_hess_fuzz_never_tracebacks(text):
     else:
         assert r.exception is None or isinstance(r.exception, SystemExit), r.exception
         assert r.output.startswith("Error: ") or "Usage" in r.output
+
+
+def test_hess_user_table_and_alternative_compilation(tmp_path):
+    # A user's cited row in front of the packaged table (invented value, marked so)
+    t = tmp_path / "mine.csv"
+    t.write_text(
+        "species,phase,dHf_kJ_per_mol,u_kJ_per_mol,source\n"
+        'KClO4,s,-432.75,0.5,"invented test value"\n',
+        encoding="utf-8",
+    )
+    r = run("hess", "KClO4(s) -> K+(aq) + ClO4-(aq)", "--table", str(t))
+    assert r.exit_code != 0 and "ClO4-(aq)" in r.output  # still missing: one clear line
+    t.write_text(
+        t.read_text(encoding="utf-8") + 'ClO4-,aq,-129.33,0.5,"invented test value"\n',
+        encoding="utf-8",
+    )
+    r = run("hess", "KClO4(s) -> K+(aq) + ClO4-(aq)", "--table", str(t), "--json")
+    assert r.exit_code == 0, r.output
+    data = json.loads(r.output)
+    assert data["value"] == pytest.approx(-129.33 - 252.38 + 432.75)
+    assert data["coverage_factor"] == 2 and data["U_value"] == pytest.approx(2 * data["u_value"])
+    r = run("hess", "KNO3(s) -> K+(aq) + NO3-(aq)", "--compilation", "codata1989")
+    assert r.exit_code != 0 and "KNO3(s)" in r.output and "codata1989" in r.output
+
+
+@pytest.mark.parametrize(
+    ("row", "message"),
+    [
+        ('KClO4,s,abc,0.5,"x"', "must be numbers"),
+        ('KClO4,s,-432.75,-1,"x"', "positive standard uncertainty"),
+        ('KClO4,s,-432.75,0,"x"', "positive standard uncertainty"),
+        ('KClO4,s,-432.75,nan,"x"', "positive standard uncertainty"),
+        ('KClO4,s,inf,0.5,"x"', "finite"),
+        ("KClO4,s,-432.75,0.5,", "source is empty"),
+        ('KClO4,solid,-432.75,0.5,"x"', "phase 'solid'"),
+        ('K$ClO4,s,-432.75,0.5,"x"', "species"),
+        ('KClO4,s,-432.75,0.5,"x",extra', "exactly the 5 columns"),
+        ('KClO4,s,-432.75,0.5,"x"\nKClO4,s,-432.70,0.5,"y"', "repeats row 1"),
+    ],
+)
+def test_bad_user_table_rows_are_refused_in_one_line(tmp_path, row, message):
+    t = tmp_path / "bad.csv"
+    t.write_text("species,phase,dHf_kJ_per_mol,u_kJ_per_mol,source\n" + row + "\n", "utf-8")
+    r = run("hess", "NaCl(s) -> Na+(aq) + Cl-(aq)", "--table", str(t))
+    assert r.exit_code != 0
+    assert message in r.output and "row " in r.output
+    assert "Traceback" not in r.output and len(r.output.strip().splitlines()) == 1
+
+
+def test_user_table_seeded_mutations_never_traceback(tmp_path):
+    # Seeded damage to a good file: every case is a clean refusal or a readable table.
+    import random
+
+    good = (
+        "species,phase,dHf_kJ_per_mol,u_kJ_per_mol,source\n"
+        'KClO4,s,-432.75,0.5,"invented"\nClO4-,aq,-129.33,0.5,"invented"\n'
+    )
+    rng = random.Random(12)
+    for i in range(40):
+        chars = list(good)
+        for _ in range(rng.randint(1, 4)):
+            j = rng.randrange(len(chars))
+            chars[j] = rng.choice([",", '"', "x", "-", "", "\n", "9", "é", " "])
+        t = tmp_path / f"m{i}.csv"
+        t.write_text("".join(chars), encoding="utf-8")
+        r = run("hess", "NaCl(s) -> Na+(aq) + Cl-(aq)", "--table", str(t))
+        assert r.exception is None or isinstance(r.exception, SystemExit), r.output
+        if r.exit_code != 0:
+            assert len(r.output.strip().splitlines()) == 1, r.output

@@ -10,6 +10,7 @@ from heatlog.energetics.calorimeter import (
     combine_calibrations,
     electrical_calibration,
     electrical_energy,
+    kcl_phi_l,
     logged_energy,
     mixing_calibration,
     power_energy,
@@ -25,7 +26,7 @@ from heatlog.energetics.heat import (
     specific_enthalpy,
 )
 from heatlog.energetics.hess import reaction
-from heatlog.errors import CalibrationError, InputError
+from heatlog.errors import CalibrationError, InputError, RangeError
 from heatlog.gum import Input
 
 
@@ -115,25 +116,108 @@ def test_mixing_defaults_to_iapws_water_and_checks_order():
 
 
 def test_tris_reference_recovers_a_known_constant():
-    # Invented run built from the certified value (Prosen & Kilday 1973, −245.76 J/g): 0.5000 g
-    # tris releases 122.88 J; with 100.0 g of acid at 4.15 J/(g·K) (415 J/K) and C_cal = 50 J/K
-    # the rise is 122.88/465 K. The calibration must give back 50 J/K.
+    # Invented run built from the certified value (Prosen & Kilday 1973, −245.76 J/g at
+    # 298.15 K; docs/REFERENCES.md: PROSEN1973): 0.5000 g tris in 100.0 g of acid (5 g/kg, the
+    # certified condition) releases 122.88 J; with 100.0 g at 4.15 J/(g·K) (415 J/K) and
+    # C_cal = 50 J/K the rise is 122.88/465 K. The calibration must give back 50 J/K.
     tris = REFERENCE_PROCESSES["tris-hcl"]
     assert tris.dh.value == -245.76
     dt = 0.5 * 245.76 / 465.0
-    b = reaction_calibration(tris, Input(0.5, 1e-4), Input(dt, 0.001), [water(100.0, cp=4.15)])
+    b = reaction_calibration(
+        tris, Input(0.5, 1e-4), Input(dt, 0.001), [water(100.0, cp=4.15)], t_c=25.0,
+        concentration=tris.concentration(0.5, 100.0),
+    )  # fmt: skip
     assert b.value == pytest.approx(50.0, abs=1e-9)
+    names = {c.name for c in b.components}
+    assert {"ΔCp_ref", "T of the reference process"} <= names  # the correction's own rows
+
+
+def test_tris_at_20_and_30_c_follows_the_published_heat_capacity_change():
+    # Prosen & Kilday 1973 (docs/REFERENCES.md: PROSEN1973): ΔCp = +1.435 ± 0.023 J/(g·K) over
+    # 293–303 K, so ΔH(20 °C) = −245.76 − 5·1.435 = −252.935 J/g, ΔH(30 °C) = −238.585 J/g.
+    tris = REFERENCE_PROCESSES["tris-hcl"]
+    assert tris.enthalpy(20.0, 5.0).value == pytest.approx(-252.935, abs=1e-9)
+    assert tris.enthalpy(30.0, 5.0).value == pytest.approx(-238.585, abs=1e-9)
+    # the correction's uncertainty is a row: 5 K · 0.0115 J/(g·K) (the ± read as k = 2)
+    rows = {c.name: c for c in tris.enthalpy(20.0, 5.0).components}
+    assert rows["ΔCp_ref"].contribution == pytest.approx(5 * 0.0115)
+
+
+@pytest.mark.parametrize(
+    ("key", "t_c", "conc", "message"),
+    [
+        ("tris-hcl", 19.9, 5.0, "293.15–303.15 K"),
+        ("tris-hcl", 30.5, 5.0, "293.15–303.15 K"),
+        ("tris-hcl", 25.0, 10.0, "3–7 g/kg"),
+        ("kcl", 35.0, 0.111, "293.15–303.15 K"),
+        ("kcl", 25.0, 1.0, "0.02–0.5 mol/kg"),
+        ("kcl", float("nan"), 0.111, "outside"),
+    ],
+)
+def test_reference_process_refuses_outside_its_published_range(key, t_c, conc, message):
+    with pytest.raises(RangeError, match=message):
+        REFERENCE_PROCESSES[key].enthalpy(t_c, conc)
+
+
+def test_reference_process_needs_temperature_and_concentration():
+    with pytest.raises(InputError, match="mean temperature and final concentration"):
+        reaction_calibration(
+            REFERENCE_PROCESSES["kcl"], Input(0.02, 0.0), Input(-0.2, 0.001), [water(400.0)]
+        )
+
+
+def test_kcl_concentration_model_reproduces_the_infinite_dilution_value():
+    # Kilday's certified 17.584 kJ/mol at 0.111 mol/kg (docs/REFERENCES.md: KILDAY1980, from
+    # memory) minus the Pitzer ΦL(0.111) (docs/REFERENCES.md: PITZER-KCL, parameters from
+    # memory) must give Parker's independent infinite-dilution 17.22 kJ/mol (docs/REFERENCES.md:
+    # PARKER1965, read in the CRC table copy). Parker prints no ±; tolerance 0.03 kJ/mol = the
+    # model's 5 J/mol floor, the certificate's u 8.5 J/mol and Parker's last digit, with margin.
+    assert (17584.0 - kcl_phi_l(0.111)) / 1000 == pytest.approx(17.22, abs=0.03)
+    # Debye–Hückel limiting law: ΦL → A_H·√m at low m (1:1), A_H = 0.801·RT (from memory)
+    m = 1e-6
+    assert kcl_phi_l(m) == pytest.approx(0.8010 * 8.314462618 * 298.15 * math.sqrt(m), rel=3e-3)
+
+
+def test_kcl_heat_capacity_change_is_derived_from_reachable_data():
+    # ΔCp = Φcp(KCl, aq) − Cp(KCl, s): Φcp from thermo's own Laliberté implementation
+    # (docs/REFERENCES.md: LALIBERTE2009), Cp(s) = 51.3 J/(mol·K) from the CRC table shipped in
+    # chemicals (docs/REFERENCES.md: CRC-CHEMICALS). The coded −148 ± 10 J/(mol·K) must cover
+    # the range 0.02–0.5 mol/kg, 20–30 °C.
+    import chemicals.heat_capacity as chc
+    import thermo.electrochem as te
+
+    cp_s = float(chc.CRC_standard_data.loc["7447-40-7", "Cps"])
+    kcl = REFERENCE_PROCESSES["kcl"]
+    for t_c in (20.0, 25.0, 30.0):
+        for m in (0.02, 0.111, 0.5):
+            w = m * 74.5513 / (1000 + m * 74.5513)
+            cp_sol = te.Laliberte_heat_capacity(t_c + 273.15, [w], ["7447-40-7"])  # J/(kg·K)
+            cp_w = te.Laliberte_heat_capacity_w(t_c + 273.15)  # J/(kg·K), its own water
+            phi = ((1000 + m * 74.5513) * cp_sol / 1000 - cp_w) / m
+            assert abs(phi - cp_s - kcl.dcp.value) < 2 * kcl.dcp.u, (t_c, m, phi)
 
 
 def test_endothermic_reference_and_sign_check():
-    # KCl dissolution is endothermic (+17.584 kJ/mol, Kilday 1980, from memory): ΔT < 0.
+    # KCl dissolution is endothermic (+17.584 kJ/mol at 0.111 mol/kg and 298.15 K, Kilday 1980,
+    # docs/REFERENCES.md: KILDAY1980): ΔT < 0. 0.0444 mol in 400 g water is 0.111 mol/kg.
     kcl = REFERENCE_PROCESSES["kcl"]
-    n = 0.02  # mol
+    n = 0.0444  # mol
+    m = kcl.concentration(n, 400.0)
+    assert m == pytest.approx(0.111)
     dt = -n * 17584.0 / (400.0 * 4.18 + 80.0)
-    b = reaction_calibration(kcl, Input(n, 1e-5), Input(dt, 1e-3), [water(400.0)])
+    b = reaction_calibration(
+        kcl, Input(n, 1e-5), Input(dt, 1e-3), [water(400.0)], t_c=25.0, concentration=m
+    )
     assert b.value == pytest.approx(80.0, abs=1e-9)
     with pytest.raises(CalibrationError, match="sign of ΔT"):
-        reaction_calibration(kcl, Input(n, 1e-5), Input(-dt, 1e-3), [water(400.0)])
+        reaction_calibration(
+            kcl, Input(n, 1e-5), Input(-dt, 1e-3), [water(400.0)], t_c=25.0, concentration=m
+        )
+    # At 0.05 mol/kg (0.02 mol in 400 g) the enthalpy is lower by ΦL(0.111) − ΦL(0.05)
+    assert kcl.enthalpy(25.0, 0.05).value == pytest.approx(
+        17584.0 + kcl_phi_l(0.05) - kcl_phi_l(0.111)
+    )
+    assert kcl.enthalpy(25.0, 0.05).value < 17584.0 - 50
 
 
 def test_combine_consistent_and_scattered():
@@ -216,7 +300,7 @@ def test_limiting_reagent():
 
 def test_kirchhoff_correction():
     # Neutralisation measured at 20 °C with ΔCp = +215 J/(K·mol) (magnitude from Singh et al.
-    # 1976 as listed in REFERENCES.md; positive for H+ + OH- → H2O, negative for the
+    # 1976, docs/REFERENCES.md: SINGH1976; positive for H+ + OH- → H2O, negative for the
     # ionisation of water): ΔH(25) = ΔH(20) + 0.215·5 kJ/mol.
     b = kirchhoff(Input(-56.89, 0.3), Input(20.0, 0.1), Input(215.0, 10.0))
     assert b.value == pytest.approx(-56.89 + 1.075)

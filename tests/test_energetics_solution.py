@@ -31,7 +31,8 @@ CAS = {
 
 
 def test_nacl_half_molal_at_25c():
-    # REFERENCES.md: 4.034 J/(g·K), Laliberté model (thermo) / CoolProp INCOMP; tol 0.005
+    # 4.034 J/(g·K): Laliberté model (thermo) and CoolProp INCOMP (docs/REFERENCES.md:
+    # LALIBERTE2009, COOLPROP-INCOMP); tol 0.005
     x = solution_cp("NaCl", 0.5, 25.0)
     assert x.value == pytest.approx(4.034, abs=0.005)
     assert 0 < x.u < 0.01
@@ -95,3 +96,15 @@ def test_ranges_and_unknowns_give_clean_errors():
     with pytest.raises(RangeError, match="J/\\(g·K\\)"):
         given_cp(4181.0, 1.0)
     assert given_cp(4.0, 0.01).u == 0.01
+
+
+@pytest.mark.parametrize("solute", sorted(SOLUTES))
+def test_zero_concentration_carries_pure_waters_uncertainty(solute):
+    # A solution at zero concentration is pure water: same value, same u (IAPWS-95's 0.1 %).
+    from heatlog.energetics.water import water_cp_input
+
+    t = 25.0
+    x, w = solution_cp(solute, 0.0, t), water_cp_input(t)
+    assert x.value == pytest.approx(w.value, abs=1e-12)
+    assert x.u == pytest.approx(w.u, rel=1e-12)
+    assert solution_cp(solute, 0.01, t).u >= 0.9 * w.u  # and it does not drop just above zero

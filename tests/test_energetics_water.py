@@ -19,13 +19,13 @@ from heatlog.errors import RangeError
     ids=["0.01C", "20C", "25C", "40C"],
 )
 def test_cp_published_values(t_c, cp):
-    # IAPWS-95 at 0.101325 MPa (REFERENCES.md, computed with the iapws package); tol 1e-4 J/(g·K)
+    # IAPWS-95 at 0.101325 MPa (docs/REFERENCES.md: IAPWS95, computed with the iapws package); tol 1e-4 J/(g·K)
     assert water_cp(t_c) == pytest.approx(cp, abs=1e-4)
 
 
 @pytest.mark.parametrize(("t_c", "rho"), [(20.0, 998.21), (25.0, 997.05)], ids=["20C", "25C"])
 def test_density_published_values(t_c, rho):
-    # IAPWS-95 at 0.101325 MPa (REFERENCES.md); tol 0.02 kg/m³
+    # IAPWS-95 at 0.101325 MPa (docs/REFERENCES.md: IAPWS95); tol 0.02 kg/m³
     assert water_density(t_c) == pytest.approx(rho, abs=0.02)
 
 

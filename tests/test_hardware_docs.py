@@ -146,7 +146,7 @@ def boiling_table(text: str) -> list[tuple[float, float]]:
 
 def test_boiling_table_matches_iapws_if97():
     """Saturation temperature of water at each pressure: IAPWS-IF97 via `iapws`, tol 2 mK
-    (REFERENCES check values 99.974 °C at 101.325 kPa, 96.687 °C at 90 kPa)."""
+    (check values 99.974 °C at 101.325 kPa, 96.687 °C at 90 kPa; docs/REFERENCES.md: IAPWS-IF97)."""
     table = boiling_table((HARDWARE / "calibration.md").read_text(encoding="utf-8"))
     assert len(table) >= 5
     for p_kpa, t_c in table:

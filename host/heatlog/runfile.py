@@ -29,6 +29,10 @@ RUN.toml`` evaluates it. The layout, with every key optional unless marked::
     name = "NH4NO3"  mass_g = 8.0  u_mass_g = 0.002
     molar_mass_g_per_mol = 80.043                  # or taken from the reaction's first reactant
     reaction = "NH4NO3(s) -> NH4+(aq) + NO3-(aq)"  # for the Hess's-law comparison
+    formation_table = "my_dhf.csv"  # your own cited ΔfH rows, in front of the NBS 1982 table
+    contents_state = "initial"   # [[contents]] describe the cup before the reaction (so ΔH
+                                 # refers to the final temperature) or "final" (the initial one)
+    delta_cp_J_per_mol_K = -150.0  u_delta_cp_J_per_mol_K = 20.0   # ΔrCp: ΔH moved to 25 °C
     [profile]                    # a long run: heat-release profile (``heatlog profile RUN.toml``)
     heat_capacity_J_per_K = 2500.0  u_heat_capacity_J_per_K = 50.0     # box + contents + sample
     loss_W_per_K = 0.03  u_loss_W_per_K = 0.002    # or: cooling_fit_after_s = 200000.0
@@ -62,6 +66,7 @@ from heatlog.energetics.heat import (
     as_input,
     carry_calibration,
     heat,
+    kirchhoff,
     molar_enthalpy,
     specific_enthalpy,
     substitute,
@@ -119,6 +124,9 @@ class SampleSpec:
     mass_g: Input
     molar_mass_g_per_mol: float | None = None
     reaction: str | None = None
+    formation_table: Path | None = None  # the user's ΔfH rows (hess.load_formation_table)
+    contents_state: str = "initial"  # "initial": ΔH at the final temperature; "final": initial
+    delta_cp: Input | None = None  # ΔrCp, J/(K·mol), for the Kirchhoff step to 25 °C
 
 
 @dataclass(frozen=True)
@@ -262,7 +270,18 @@ def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
             if "molar_mass_g_per_mol" not in s
             else _number(s, "molar_mass_g_per_mol", w),
             reaction=None if s.get("reaction") is None else str(s["reaction"]),
+            formation_table=None
+            if s.get("formation_table") is None
+            else _path(base, s["formation_table"], w),
+            contents_state=str(s.get("contents_state", "initial")),
+            delta_cp=None
+            if "delta_cp_J_per_mol_K" not in s
+            else _quantity(s, "delta_cp_J_per_mol_K", "J/(K·mol)", w),
         )
+        if sample.contents_state not in ("initial", "final"):
+            raise InputError(
+                f'{w}: contents_state must be "initial" or "final", got {sample.contents_state!r}'
+            )
     if electrical is not None and sample is not None:
         raise InputError(
             f"{where}: a run either calibrates ([electrical]) or measures ([sample]), not both"
@@ -357,6 +376,10 @@ class RunResult:
     hess: hess.Comparison | None = None
     predicted: Budget | None = None
     heater: HeaterEnergy | None = None  # the energy from a logged monitor, when that was used
+    hess_warning: str | None = None  # why no prediction could be made (the measurement stands)
+    enthalpy_temp_C: float | None = None  # the temperature the measured ΔH refers to
+    enthalpy_temp_basis: str = ""  # why that temperature (which heat capacity was used)
+    molar_25: Budget | None = None  # ΔH moved to 25 °C with the run file's ΔrCp (Kirchhoff)
 
     def to_dict(self) -> dict[str, Any]:
         out: dict[str, Any] = {"title": self.spec.title, "run_file": str(self.spec.path)}
@@ -382,14 +405,31 @@ class RunResult:
                 U_enthalpy_kJ_per_mol=self.molar.expanded,
                 enthalpy_budget=self.molar.to_dict(),
             )
+        if self.enthalpy_temp_C is not None:
+            out["enthalpy_temperature_C"] = self.enthalpy_temp_C
+            out["enthalpy_temperature_basis"] = self.enthalpy_temp_basis
+        if self.molar_25 is not None:
+            out.update(
+                enthalpy_25C_kJ_per_mol=self.molar_25.value,
+                u_enthalpy_25C_kJ_per_mol=self.molar_25.u,
+                U_enthalpy_25C_kJ_per_mol=self.molar_25.expanded,
+                enthalpy_25C_budget=self.molar_25.to_dict(),
+            )
+        if self.molar is not None:
+            out["coverage_factor"] = self.molar.k
         if self.specific is not None:
             out.update(enthalpy_J_per_g=self.specific.value, u_enthalpy_J_per_g=self.specific.u)
         if self.hess is not None and self.predicted is not None:
             out["hess"] = {
                 "predicted_kJ_per_mol": self.predicted.value,
                 "u_predicted_kJ_per_mol": self.predicted.u,
+                "U_predicted_kJ_per_mol": self.predicted.expanded,
+                "coverage_factor": self.predicted.k,
+                "reference_temperature_C": 25.0,
                 "comparison": self.hess.to_dict(),
             }
+        if self.hess_warning is not None:
+            out["hess_warning"] = self.hess_warning
         out["sign_convention"] = SIGN_CONVENTION
         return out
 
@@ -544,7 +584,19 @@ def evaluate_run(
         return result
     spec_h = carried(specific_enthalpy(dt, c_cal, list(contents), sample.mass_g))
     mm = _molar_mass(sample)
-    molar = predicted = comparison = None
+    molar = predicted = comparison = molar_25 = None
+    warning: str | None = None
+    # The heat capacity used decides the temperature ΔH refers to (Hess cycle): the initial
+    # state's (reactants: water + undissolved sample) gives ΔH at the final temperature, the
+    # final state's (products) ΔH at the initial one. T₁ is the fore-period line at the event.
+    t1 = float(red.drift.fore(red.event_start_s))
+    if sample.contents_state == "initial":
+        t_ref = t1 + red.delta_t_K
+        basis = "final temperature: the contents' heat capacity is that of the initial state"
+    else:
+        t_ref = t1
+        basis = "initial temperature: the contents' heat capacity is that of the final state"
+    u_t_ref = float(thermogram.metadata.get("probe_u_K") or 0.1)
     if mm is not None:
         n = Input(
             sample.mass_g.value / mm,
@@ -553,9 +605,25 @@ def evaluate_run(
             note=f"{sample.name}: m/M, M = {mm:.4f} g/mol",
         )
         molar = carried(molar_enthalpy(dt, c_cal, list(contents), n))
+        if sample.delta_cp is not None:
+            # Kirchhoff to 25 °C; u(T) is the probe's (0.1 K without one: common practice, no
+            # source); the measured ΔH keeps its own rows.
+            k25 = kirchhoff(molar, Input(t_ref, u_t_ref, "°C"), sample.delta_cp)
+            molar_25 = substitute(k25, "ΔH(T)", molar)
         if sample.reaction is not None:
-            predicted = hess.reaction_enthalpy(sample.reaction)
-            comparison = hess.compare(molar, predicted)
+            # A table that lacks a species costs the prediction, never the measured result.
+            try:
+                table = hess.load_formation_table(sample.formation_table)
+                predicted = hess.reaction_enthalpy(sample.reaction, table)
+                comparison = hess.compare(molar if molar_25 is None else molar_25, predicted)
+                if molar_25 is None and abs(t_ref - 25.0) > 0.5:
+                    warning = (
+                        f"the measured ΔH refers to {t_ref:.2f} °C and the prediction to 25 °C; no "
+                        "ΔrCp given ([sample] delta_cp_J_per_mol_K), so no Kirchhoff step was "
+                        "applied and the comparison carries that difference"
+                    )
+            except hess.MissingSpecies as exc:
+                warning = f"no Hess's-law prediction: {exc}"
     return RunResult(
         spec,
         red,
@@ -567,6 +635,10 @@ def evaluate_run(
         specific=spec_h,
         hess=comparison,
         predicted=predicted,
+        hess_warning=warning,
+        enthalpy_temp_C=t_ref if molar is not None else None,
+        enthalpy_temp_basis=basis,
+        molar_25=molar_25,
     )
 
 

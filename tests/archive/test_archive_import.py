@@ -213,3 +213,22 @@ def test_any_bytes_import_cleanly_or_fail_cleanly(data):
             except HeatlogError:
                 assert archive.one("SELECT count(*) FROM runs")[0] == 0
             assert archive.integrity_problems() == []
+
+
+def test_board_log_and_run_file_give_the_same_budget(demo):
+    # The same logged dissolution, reduced from the pulled board log (heatlog runs reduce) and
+    # from its run file (heatlog reduce RUN.toml): one code path (runfile.with_probe_curve), so
+    # the probe curve's rows and u(ΔT) agree.
+    archive, folder, imported = demo
+    logs = sorted((folder / "archive").rglob("*.hlg"), key=lambda p: p.name)
+    assert len(logs) >= 2
+    board = import_path(archive, logs[-1])
+    via_archive = reduce_run(archive, board.run_id)
+    direct = run_file(folder / "dissolution.toml")
+    names = [c["name"] for c in via_archive.results["budget"]["components"]]
+    assert any(n.startswith("probe demo-ntc-1 curve mode") for n in names)
+    assert names == [c.name for c in direct.reduction.budget.components]
+    assert via_archive.results["delta_t_K"] == pytest.approx(direct.reduction.delta_t_K, rel=1e-9)
+    assert via_archive.results["u_delta_t_K"] == pytest.approx(
+        direct.reduction.u_delta_t_K, rel=1e-9
+    )

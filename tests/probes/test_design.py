@@ -18,7 +18,7 @@ SH10K = SteinhartHart(1.129148e-3, 2.34125e-4, 8.76741e-8)  # widely quoted set,
 
 
 def test_self_heating_check_value():
-    # REFERENCES.md (derived): 3.3 V, 10 k/10 k → 0.27 mW, 0.18 K at 1.5 mW/K.
+    # Derived by hand (Ohm's law, no source): 3.3 V, 10 k/10 k → 0.27 mW, 0.18 K at 1.5 mW/K.
     p, dt = self_heating(3.3, 10_000.0, 10_000.0, 1.5)
     assert p == pytest.approx(0.27e-3, abs=0.005e-3)
     assert dt == pytest.approx(0.18, abs=0.005)

@@ -11,7 +11,7 @@ from heatlog.errors import CalibrationError, RangeError
 from heatlog.probes.rtd import CallendarVanDusen, pt100, pt1000, tolerance_class
 from heatlog.probes.validity import RANGE_MARGIN_K
 
-# IEC 60751 reference table, Pt100 (ohms) — REFERENCES.md [pub]; tolerance 1 mΩ.
+# IEC 60751 reference table, Pt100 (ohms) — docs/REFERENCES.md: IEC60751; tolerance 1 mΩ.
 IEC_PT100 = [(0.0, 100.0000), (50.0, 119.3971), (100.0, 138.5055), (200.0, 175.8560)]
 
 
@@ -64,19 +64,40 @@ def test_gallium_fixed_point_round_trip():
         ("A", -100.0, 0.35),
         ("B", 0.0, 0.30),
         ("B", 100.0, 0.80),
-        ("B", -200.0, 1.30),
+        ("B", -196.0, 1.28),
+        ("C", 100.0, 1.6),
+        ("AA", 250.0, 0.525),
         ("b", 50.0, 0.55),
     ],
 )
 def test_iec_60751_tolerance_classes(cls, t, tol):
-    # IEC 60751: class A ±(0.15 + 0.002|t|), class B ±(0.30 + 0.005|t|) °C.
+    # IEC 60751: class A ±(0.15 + 0.002|t|), class B ±(0.30 + 0.005|t|) °C; AA ±(0.10 +
+    # 0.0017|t|), C ±(0.6 + 0.01|t|) (IEC 60751:2008; docs/REFERENCES.md: IEC60751).
     assert tolerance_class(t, cls) == pytest.approx(tol, abs=1e-12)
 
 
 def test_tolerance_class_is_vectorised_and_rejects_unknown_class():
     np.testing.assert_allclose(tolerance_class(np.array([-10.0, 10.0]), "A"), [0.17, 0.17])
     with pytest.raises(CalibrationError, match="unknown IEC 60751 tolerance class"):
-        tolerance_class(0.0, "C")
+        tolerance_class(0.0, "D")
+
+
+@pytest.mark.parametrize(
+    ("t", "cls", "element", "message"),
+    [
+        (-200.0, "B", "wire", "-196…600 °C"),
+        (300.0, "AA", "wire", "-50…250 °C"),
+        (500.0, "A", "wire", "-100…450 °C"),
+        (200.0, "AA", "film", "0…150 °C"),
+        (-40.0, "A", "film", "-30…300 °C"),
+    ],
+)
+def test_tolerance_class_refuses_outside_its_iec_60751_range(t, cls, element, message):
+    # Ranges per class and element type, IEC 60751:2008 (docs/REFERENCES.md: IEC60751)
+    with pytest.raises(RangeError, match=message):
+        tolerance_class(t, cls, element)
+    with pytest.raises(RangeError):
+        tolerance_class(np.array([0.0, t]), cls, element)  # one bad element refuses the array
 
 
 def test_scalar_in_scalar_out_array_in_array_out():

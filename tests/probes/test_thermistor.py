@@ -53,7 +53,7 @@ def test_single_beta_errs_by_tenths_of_a_kelvin_against_sh_curve():
     t = np.linspace(0.0, 100.0, 201)
     err = model.resistance_to_temperature(SH10K.temperature_to_resistance(t)) - t
     worst = np.max(np.abs(err))
-    # REFERENCES.md: "~0.7 K" (common practice); this pair gives 0.70 K at 0 °C.
+    # "~0.7 K" (common practice, no source); this pair gives 0.70 K at 0 °C.
     assert 0.5 < worst < 1.0
     assert abs(err[t == 25.0][0]) < 1e-9  # exact at its own points
 

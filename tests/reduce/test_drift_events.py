@@ -13,7 +13,7 @@ def _newtonian(t, t_inf, start, k):
 
 
 def test_newtonian_drift_recovers_k_and_t_inf():
-    # Exact exponentials dT/dt = k(T_inf - T) (Newton's-law vessel model, REFERENCES.md).
+    # Exact exponentials dT/dt = k(T_inf - T) (docs/REFERENCES.md: NEWTON-VESSEL).
     k, t_inf = 6e-4, 24.0
     ft = np.arange(0.0, 600.0, 2.0)
     at = np.arange(1500.0, 2400.0, 2.0)

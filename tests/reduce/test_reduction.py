@@ -1,7 +1,8 @@
 """Corrected ΔT against synthetic Newtonian runs with a known adiabatic change (invented data).
 
 Sources: Regnault–Pfaundler in the ISO 1928 Annex C form and the Dickinson extrapolation of
-ASTM D240 / D5865 (REFERENCES.md); Newton's-law vessel model (REFERENCES.md). The truth is the
+ASTM D240 / D5865 (docs/REFERENCES.md: ASTM-D240); Newton's-law vessel model
+(docs/REFERENCES.md: NEWTON-VESSEL). The truth is the
 adiabatic change the generator releases; the generator is checked against scipy's ODE solver in
 test_synthetic.py.
 """

@@ -8,7 +8,7 @@ from heatlog.reduce.synthetic import Release, random_run, synthetic_run
 
 
 def test_matches_newtons_law_solved_numerically():
-    # Newton's-law vessel (REFERENCES.md, "Newton's-law vessel model") with a first-order release
+    # Newton's-law vessel (docs/REFERENCES.md: NEWTON-VESSEL) with a first-order release
     # and a first-order probe lag, integrated by scipy's Radau at tight tolerance.
     k, tinf, dtk, tau, lag, ts = 4e-4, 23.0, 3.0, 25.0, 6.0, 300.0
     run = synthetic_run(

@@ -160,3 +160,54 @@ def test_water_cp_shared_with_the_calibration_is_one_input_and_cancels(tmp_path)
     # the two temperature rises enter by their own parts, kept apart
     assert "calibration: period boundaries" in rows and "period boundaries" in rows
     assert any(n.startswith("calibration: ") and "V" in n for n in rows)  # heater voltage
+
+
+def test_missing_species_warns_beside_the_measured_enthalpy(tmp_path):
+    # A reaction the tables cannot predict costs the prediction, not the measured result;
+    # a user's cited rows (run-file key formation_table) then supply it through the one loader.
+    run_path, _ = _calorimeter_runs(tmp_path, c_cal=35.0, dh_kj=17.2, seed=5)
+    text = run_path.read_text(encoding="utf-8")
+    run_path.write_text(text.replace("KCl(s) -> K+(aq) + Cl-(aq)", "KCl(s) -> K+(aq) + Cl-(g)"))
+    res = run_file(run_path)
+    assert res.molar is not None and res.hess is None
+    assert res.hess_warning is not None and "Cl-(g)" in res.hess_warning
+    assert "hess_warning" in res.to_dict()
+    (tmp_path / "mine.csv").write_text(
+        "species,phase,dHf_kJ_per_mol,u_kJ_per_mol,source\n"
+        'Cl-,g,-233.1,1.0,"invented test value"\n',
+        encoding="utf-8",
+    )
+    run_path.write_text(run_path.read_text(encoding="utf-8") + "formation_table = 'mine.csv'\n")
+    res = run_file(run_path)
+    assert res.hess is not None and "no formation enthalpy" not in (res.hess_warning or "")
+    assert res.to_dict()["hess"]["coverage_factor"] == 2
+    (tmp_path / "mine.csv").write_text("species,phase\nCl-,g\n", encoding="utf-8")
+    with pytest.raises(InputError, match="missing column"):
+        run_file(run_path)
+
+
+def test_enthalpy_states_its_temperature_and_moves_to_25c_with_the_given_delta_cp(tmp_path):
+    run_path, _ = _calorimeter_runs(tmp_path, c_cal=35.0, dh_kj=17.2, seed=5)
+    res = run_file(run_path)
+    red = res.reduction
+    t1 = float(red.drift.fore(red.event_start_s))
+    # contents listed before the reaction (water + solid KCl): ΔH at the final temperature
+    assert res.enthalpy_temp_C == pytest.approx(t1 + red.delta_t_K)
+    assert "final temperature" in res.to_dict()["enthalpy_temperature_basis"]
+    assert res.molar_25 is None and "no Kirchhoff step" in (res.hess_warning or "")
+    text = run_path.read_text(encoding="utf-8")
+    run_path.write_text(
+        text
+        + "contents_state = 'final'\ndelta_cp_J_per_mol_K = -148.0\nu_delta_cp_J_per_mol_K = 10.0\n"
+    )
+    res = run_file(run_path)
+    assert res.enthalpy_temp_C == pytest.approx(t1)
+    assert res.molar_25 is not None
+    want = res.molar.value + (-148.0) * (25.0 - t1) * 1e-3  # Kirchhoff, ΔrCp constant
+    assert res.molar_25.value == pytest.approx(want, rel=1e-9)
+    assert res.hess is not None and res.hess.measured == pytest.approx(res.molar_25.value)
+    names = {c.name for c in res.molar_25.components}
+    assert "ΔCp" in names and "ΔT" not in names and "C_cal" not in names  # the rows are carried
+    run_path.write_text(text + "contents_state = 'later'\n")
+    with pytest.raises(InputError, match="contents_state"):
+        run_file(run_path)

@@ -1,5 +1,5 @@
 """The simulator's vessel model against closed-form solutions of Newton's-law cooling
-(REFERENCES.md, Newton's-law vessel model), and every scenario on the virtual board."""
+(docs/REFERENCES.md: NEWTON-VESSEL), and every scenario on the virtual board."""
 
 import math
 

@@ -66,6 +66,9 @@ def thermogram_from_log(log: RunLog, channel: int, probe: ProbeFile, source: str
         "probe_u_K": probe.uncertainty_K,
         "count_step_K": float(np.median(reading.step_K)) if raw.size else 0.0,
         "faulty_records_left_out": int((~ok).sum()),
+        # the probe file itself, so reduce_with_settings adds the calibration curve's rows
+        # (runfile.with_probe_curve) exactly as it does for a run file read through it
+        "probe_file": probe,
     }
     return Thermogram(log.offset_ms[ok] / 1000.0, np.asarray(reading.temp_C), metadata=meta)
 

@@ -71,21 +71,27 @@ def demo(out: Path, as_json: bool) -> None:
             f"  probe: Steinhart–Hart fit of the bundled calibration points -> {out / 'probe.toml'}",
             f"  pulled {len(result.pull.pulled)} runs ({result.pull.bytes} bytes, CRC-32 verified) into "
             f"{out / 'archive'}; demo took {result.seconds:.1f} s",
-            f"  calibration run: ΔT = {cal.reduction.delta_t_K:+.4f} K ± {cal.reduction.u_delta_t_K:.4f} K "
-            f"({cal.reduction.method}); C_cal = {cal.c_cal.value:.1f} ± {cal.c_cal.u:.1f} J/K "
+            f"  calibration run: ΔT = {cal.reduction.delta_t_K:+.4f} K, U(k=2) = "
+            f"{2 * cal.reduction.u_delta_t_K:.4f} K ({cal.reduction.method}); C_cal = "
+            f"{cal.c_cal.value:.1f} J/K, U(k={cal.c_cal.k:g}) = {cal.c_cal.expanded:.1f} J/K "
             f"(invented truth {d['true_calorimeter_constant_J_per_K']:.1f} J/K)",
             *_heater_line(cal, d),
-            f"  dissolution run: ΔT = {run.reduction.delta_t_K:+.4f} K ± {run.reduction.u_delta_t_K:.4f} K "
+            f"  dissolution run: ΔT = {run.reduction.delta_t_K:+.4f} K, U(k=2) = "
+            f"{2 * run.reduction.u_delta_t_K:.4f} K "
             f"(naive peak reading {run.reduction.naive_delta_t_K:+.4f} K)",
-            f"  ΔH(NH4NO3, dissolution) = {run.molar.value:+.2f} ± {run.molar.expanded:.2f} kJ/mol "
-            f"(k = 2; simulator's truth {d['true_enthalpy_kJ_per_mol']:+.2f} kJ/mol, "
-            f"{-_heat(d):.1f} J absorbed)",
+            f"  ΔH(NH4NO3, dissolution) = {run.molar.value:+.2f} kJ/mol, U(k={run.molar.k:g}) = "
+            f"{run.molar.expanded:.2f} kJ/mol (simulator's truth "
+            f"{d['true_enthalpy_kJ_per_mol']:+.2f} kJ/mol, {-_heat(d):.1f} J absorbed)",
+            f"  ΔH refers to {run.enthalpy_temp_C:.2f} °C ({run.enthalpy_temp_basis})",
         ]
         if run.hess is not None:
             lines.append(
-                f"  Hess's law (infinite dilution): {run.hess.predicted:+.2f} ± {run.hess.u_predicted:.2f} kJ/mol; "
-                f"z = {run.hess.z:.1f}: {run.hess.verdict}"
+                f"  Hess's law (25 °C, infinite dilution): {run.hess.predicted:+.2f} kJ/mol, "
+                f"U(k=2) = {2 * run.hess.u_predicted:.2f} kJ/mol; z = {run.hess.z:.1f}: "
+                f"{run.hess.verdict}"
             )
+        if run.hess_warning is not None:
+            lines.append(f"  warning: {run.hess_warning}")
         lines.append(f"  files, results.json, report.html and calibration.html in {out}")
         lines.append(CAUTION)
         return "\n".join(lines)

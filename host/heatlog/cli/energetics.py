@@ -50,8 +50,9 @@ def _contents_options(f: Callable[..., Any]) -> Callable[..., Any]:
                      help="Mass of liquid in the calorimeter (water unless --solute or --cp), g."),
         click.option("--u-water-g", type=_number, default=0.0, show_default=True,
                      help="Standard uncertainty of that mass, g."),
-        click.option("--temp", "temp_c", type=_number, default=25.0, show_default=True,
-                     help="Mean temperature of the run, °C (for c_p)."),
+        click.option("--temp", "temp_c", type=_number, default=None,
+                     help="Mean temperature of the run, °C (for c_p; default 25; required with "
+                          "--reference, whose enthalpy depends on it)."),
         click.option("--solute", default=None,
                      help="Solute of a dilute solution (Laliberté 2009 model), e.g. NaCl."),
         click.option("--molality", type=_number, default=None, help="Solute molality, mol/kg."),
@@ -66,6 +67,7 @@ def _contents_options(f: Callable[..., Any]) -> Callable[..., Any]:
 def _contents(water_g, u_water_g, temp_c, solute, molality, cp, u_cp) -> list[Any]:
     from heatlog.energetics import Content, given_cp, solution_cp, water_cp_input
 
+    temp_c = 25.0 if temp_c is None else temp_c
     _inp(temp_c, 0.0, "°C", "--temp")
     if not (math.isfinite(water_g) and water_g >= 0):
         raise InputError(f"--water-g must be a finite number ≥ 0, got {water_g}")
@@ -126,6 +128,8 @@ def _report(as_json: bool, budget: Any, caution: str, extra: dict[str, Any] | No
         "value": budget.value,
         "unit": budget.unit,
         "standard_uncertainty": budget.u,
+        "expanded_uncertainty": budget.expanded,
+        "coverage_factor": budget.k,
         "budget": budget.to_dict(),
         "caution": caution,
     }
@@ -136,7 +140,9 @@ def _report(as_json: bool, budget: Any, caution: str, extra: dict[str, Any] | No
         ref = payload.get("reference")
         if ref:
             lines.append(
-                f"Reference: {ref['process']}, ΔH = {ref['dh']:g} ± {ref['u_dh']:g} {ref['unit']} "
+                f"Reference: {ref['process']}, ΔH = {ref['dh']:.5g} {ref['unit']}, "
+                f"u = {ref['u_dh']:.2g} {ref['unit']} (k = 1) at {ref['temperature_C']:g} °C and "
+                f"{ref['concentration']:.4g} {ref['concentration_unit']} "
                 f"({ref['conditions']}; {ref['source']})"
             )
         he = payload.get("heater_energy")
@@ -362,29 +368,56 @@ def mixing(
     help="Amount of reference substance: g for tris-hcl, mol for kcl, else as --per.",
 )
 @click.option("--u-amount", type=_number, required=True, help="Standard uncertainty of --amount.")
+@click.option(
+    "--final-conc",
+    type=_number,
+    default=None,
+    help="Final concentration of the reference process: mol/kg for kcl, g per kg for tris-hcl "
+    "(default: --amount per kg of --water-g).",
+)
 @_delta_t_options
 @_contents_options
 @json_option
 def reaction_cmd(
-    reference, dh, u_dh, per, amount, u_amount, delta_t, u_delta_t, reduce_json,
+    reference, dh, u_dh, per, amount, u_amount, final_conc, delta_t, u_delta_t, reduce_json,
     water_g, u_water_g, temp_c, solute, molality, cp, u_cp, as_json,
 ) -> None:  # fmt: skip
-    """Calibrate with a reaction or dissolution of known enthalpy (q = −ΔH·amount)."""
+    """Calibrate with a reaction or dissolution of known enthalpy (q = −ΔH·amount).
+
+    A reference process is taken at the run's mean temperature (--temp) and final concentration,
+    inside the range its published temperature and concentration dependence covers."""
     from heatlog.energetics import REFERENCE_PROCESSES, reaction_calibration
 
     if (reference is None) == (dh is None):
         raise InputError("give exactly one of --reference or --dh")
     extra: dict[str, Any] = {}
+    where: dict[str, Any] = {}
     if reference is not None:
         process = REFERENCE_PROCESSES[reference]
         unit = process.per
         caution = CAUTION_CORROSIVE if process.hazard == "acid" else CAUTION_GENERAL
+        if temp_c is None:
+            raise InputError(
+                f"give --temp, the run's mean temperature: the enthalpy of {reference} depends on it"
+            )
+        conc = (
+            process.concentration(amount, water_g)
+            if final_conc is None
+            else _inp(final_conc, 0.0, process.conc_unit, "--final-conc").value
+        )
+        ref_b = process.enthalpy(temp_c, conc)
+        where = {"t_c": temp_c, "concentration": conc}
         extra = {
             "reference": {
                 "process": process.description,
-                "dh": process.dh.value,
-                "u_dh": process.dh.u,
+                "dh": ref_b.value,
+                "u_dh": ref_b.u,
+                "dh_25C_certified": process.dh.value,
+                "u_dh_25C_certified": process.dh.u,
                 "unit": process.dh.unit,
+                "temperature_C": temp_c,
+                "concentration": conc,
+                "concentration_unit": process.conc_unit,
                 "conditions": process.conditions,
                 "source": process.source,
             }
@@ -402,6 +435,7 @@ def reaction_cmd(
         _inp(amount, u_amount, unit, "--amount"),
         _delta_t(delta_t, u_delta_t, reduce_json),
         contents,
+        **where,
     )
     _report(as_json, b, caution, extra)
 
@@ -435,20 +469,44 @@ def combine(results: tuple[str, ...], as_json: bool) -> None:
 @click.argument("reaction_text", metavar="REACTION")
 @click.option("--measured", type=_number, default=None, help="Your measured ΔH, kJ/mol.")
 @click.option("--u-measured", type=_number, default=None, help="Its standard uncertainty, kJ/mol.")
+@click.option(
+    "--table",
+    "table_path",
+    type=click.Path(dir_okay=False, path_type=Path),
+    default=None,
+    help="Your own ΔfH rows: CSV with species, phase, dHf_kJ_per_mol, u_kJ_per_mol, source "
+    "(used in front of the packaged table).",
+)
+@click.option(
+    "--compilation",
+    type=click.Choice(["nbs1982", "codata1989"]),
+    default="nbs1982",
+    show_default=True,
+    help="Packaged table: NBS 1982 (every species), or the CODATA 1989 alternative (few salts).",
+)
 @json_option
 def hess(
-    reaction_text: str, measured: float | None, u_measured: float | None, as_json: bool
+    reaction_text: str,
+    measured: float | None,
+    u_measured: float | None,
+    table_path: Path | None,
+    compilation: str,
+    as_json: bool,
 ) -> None:
     """Predict a reaction's standard enthalpy (298.15 K) by Hess's law from the cited table.
 
     Example: heatlog hess "NH4NO3(s) -> NH4+(aq) + NO3-(aq)"
     """
     from heatlog.energetics import compare, reaction, reaction_enthalpy
+    from heatlog.energetics.hess import load_formation_table
 
-    r = reaction(reaction_text)
-    b = reaction_enthalpy(r)
-    payload: dict[str, Any] = {"reaction": str(r), "budget": b.to_dict()}
+    table = load_formation_table(table_path, compilation)
+    r = reaction(reaction_text, table)
+    b = reaction_enthalpy(r, table)
+    payload: dict[str, Any] = {"reaction": str(r), "table": table.name, "budget": b.to_dict()}
     payload["value"], payload["unit"], payload["standard_uncertainty"] = b.value, b.unit, b.u
+    payload["u_value"], payload["U_value"] = b.u, b.expanded
+    payload["coverage_factor"] = b.k
     cmp = None
     if (measured is None) != (u_measured is None):
         raise InputError("give both --measured and --u-measured, or neither")
@@ -460,12 +518,12 @@ def hess(
     payload["caution"] = caution
 
     def text() -> str:
-        lines = [b.table()]
+        lines = [b.table(), f"table: {table.name}"]
         if cmp is not None:
             lines.append(
-                f"measured {cmp.measured:.4g} ± {cmp.u_measured:.2g} kJ/mol vs predicted "
-                f"{cmp.predicted:.4g} ± {cmp.u_predicted:.2g}: difference {cmp.difference:+.3g} "
-                f"kJ/mol, z = {cmp.z:.2f} — {cmp.verdict}"
+                f"measured {cmp.measured:.4g} kJ/mol, u = {cmp.u_measured:.2g} (k = 1), vs "
+                f"predicted {cmp.predicted:.4g} kJ/mol, u = {cmp.u_predicted:.2g} (k = 1): "
+                f"difference {cmp.difference:+.3g} kJ/mol, z = {cmp.z:.2f} — {cmp.verdict}"
             )
         lines.append(caution)
         return "\n".join(lines)

@@ -11,7 +11,7 @@ import numpy as np
 
 from heatlog.cli.output import emit, json_option
 from heatlog.csvtable import read_columns
-from heatlog.errors import InputError
+from heatlog.errors import InputError, RangeError
 from heatlog.gum import quantisation
 from heatlog.probes.chains import CHAIN_SPEC_HELP, chain_from_spec
 from heatlog.probes.design import CRITERIA, design_divider
@@ -224,10 +224,15 @@ def convert_command(
             )
         ]
     if standard is not None:
-        # A nominal curve's honest uncertainty is the sensor's tolerance class (IEC 60751).
+        # A nominal curve's honest bound is the sensor's tolerance class (IEC 60751), only
+        # inside the range the standard gives each class (wire-wound elements); outside: null.
         for row in rows:
-            row["tolerance_class_A_K"] = tolerance_class(row["temp_C"], "A")
-            row["tolerance_class_B_K"] = tolerance_class(row["temp_C"], "B")
+            for cls in ("A", "B"):
+                try:
+                    row[f"tolerance_class_{cls}_K"] = tolerance_class(row["temp_C"], cls)
+                except RangeError as exc:
+                    row[f"tolerance_class_{cls}_K"] = None
+                    row.setdefault("tolerance_notes", []).append(str(exc))
     payload = {
         "probe": name,
         "model": model.name,
@@ -253,10 +258,13 @@ def convert_command(
             if "step_K" in row:
                 parts.append(f"one count = {row['step_K'] * 1e3:.3g} mK")
             if "tolerance_class_A_K" in row:
-                parts.append(
-                    f"class A ±{row['tolerance_class_A_K']:.3g} K, "
-                    f"class B ±{row['tolerance_class_B_K']:.3g} K"
-                )
+                for cls in ("A", "B"):
+                    lim = row[f"tolerance_class_{cls}_K"]
+                    parts.append(
+                        f"class {cls} limit ±{lim:.3g} K (IEC 60751 tolerance, not u)"
+                        if lim is not None
+                        else f"class {cls}: outside its IEC 60751 range"
+                    )
             lines.append("  " + "  ↔  ".join(parts))
         return "\n".join(lines)
 

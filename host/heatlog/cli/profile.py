@@ -26,7 +26,7 @@ def _h(seconds: float | None, u: float | None = None) -> str:
     if seconds is None:
         return "never"
     text = f"{seconds / 3600.0:.3g} h"
-    return text if u is None else f"{text} ± {u / 3600.0:.2g} h"
+    return text if u is None else f"{text} ± {u / 3600.0:.2g} h (u, k=1)"
 
 
 def _text(result: ProfileResult, source: str) -> str:
@@ -38,8 +38,8 @@ def _text(result: ProfileResult, source: str) -> str:
         f"{source}: {s.kind}, {seg.time_s.size} samples over {_h(seg.duration_s)} "
         f"(segment {result.segment_index} of {len(result.check.segments)})",
         f"  method: {d['method']}",
-        f"  G = {result.heat.loss.G_W_per_K:.4g} ± {result.heat.loss.u_G_W_per_K:.2g} W/K "
-        f"({result.heat.loss.source}); C = {s.heat_capacity.value:.5g} ± {s.heat_capacity.u:.2g} J/K",
+        f"  G = {result.heat.loss.G_W_per_K:.4g} ± {result.heat.loss.u_G_W_per_K:.2g} W/K (u, k=1) "
+        f"({result.heat.loss.source}); C = {s.heat_capacity.value:.5g} ± {s.heat_capacity.u:.2g} J/K (u, k=1)",
         f"  Q(end) = {result.budget.value:.5g} J, u = {result.budget.u:.2g} J, "
         f"U(k=2) = {result.budget.expanded:.2g} J" + ("" if result.complete else "  [INCOMPLETE]"),
     ]
@@ -52,7 +52,7 @@ def _text(result: ProfileResult, source: str) -> str:
     else:
         lines.append(f"  peak rate {d['peak_rate_W']:.3g} W at {_h(d['time_of_peak_rate_s'])}")
     lines.append(
-        f"  {'lowest' if m.side == 'below' else 'peak'} {m.peak_C:.2f} ± {m.u_peak_C:.2g} °C at {_h(m.time_to_peak_s, m.u_time_to_peak_s)}"
+        f"  {'lowest' if m.side == 'below' else 'peak'} {m.peak_C:.2f} ± {m.u_peak_C:.2g} °C (u, k=1) at {_h(m.time_to_peak_s, m.u_time_to_peak_s)}"
     )
     th = m.thresholds
     if th.threshold_C is not None:
@@ -69,18 +69,18 @@ def _text(result: ProfileResult, source: str) -> str:
     if result.maturity is not None:
         mt = result.maturity
         lines.append(
-            f"  maturity (ASTM C1074): M = {mt.factor_Ch[-1]:.4g} ± {mt.factor_budget.u:.2g} °C·h "
+            f"  maturity (ASTM C1074): M = {mt.factor_Ch[-1]:.4g} ± {mt.factor_budget.u:.2g} °C·h (u, k=1) "
             f"(T₀ = {mt.datum_C:g} °C); t_e = {mt.equivalent_age_h[-1]:.4g} ± "
-            f"{mt.age_budget.u:.2g} h at {mt.reference_C:g} °C (Q = {mt.activation_K:g} K)"
+            f"{mt.age_budget.u:.2g} h (u, k=1) at {mt.reference_C:g} °C (Q = {mt.activation_K:g} K)"
         )
         for row in d["heat_at_ages"]:
             per_g = (
-                f" = {row['heat_J_per_g']:.4g} ± {row['u_heat_J_per_g']:.2g} J/g"
+                f" = {row['heat_J_per_g']:.4g} ± {row['u_heat_J_per_g']:.2g} J/g (u, k=1)"
                 if "heat_J_per_g" in row
                 else ""
             )
             lines.append(
-                f"    {row['age_h']:6.1f} h: Q = {row['heat_J']:.5g} ± {row['u_heat_J']:.2g} J"
+                f"    {row['age_h']:6.1f} h: Q = {row['heat_J']:.5g} ± {row['u_heat_J']:.2g} J (u, k=1)"
                 + per_g
             )
     lines += ["", result.budget.table(), ""]

@@ -25,8 +25,8 @@ def _text(red: Reduction) -> str:
         f"  naive (extreme reading − start reading) = {red.naive_delta_t_K:+.5f} K",
         f"  main period {red.event_start_s:.1f} s → after-period from {red.after_start_s:.1f} s "
         f"(fore-period from {red.fore_start_s:.1f} s, after-period to {red.after_end_s:.1f} s)",
-        f"  drift: {drift.model}, k = {k:.3g} ± {u_k:.2g} 1/s, T∞ = "
-        + (f"{t_inf:.3f} ± {u_t:.2g} °C" if t_inf == t_inf else "undefined (k ≈ 0)"),
+        f"  drift: {drift.model}, k = {k:.3g} 1/s (u = {u_k:.2g}, k=1), T∞ = "
+        + (f"{t_inf:.3f} °C (u = {u_t:.2g} K, k=1)" if t_inf == t_inf else "undefined (k ≈ 0)"),
         f"  method choice: {red.method_reason}",
         "  methods: " + ", ".join(f"{m} {r.delta_t_K:+.5f}" for m, r in red.methods.items()),
         f"  events found: {len(red.events)}"
@@ -60,12 +60,22 @@ def _run_text(result: RunResult) -> str:
         )
     if result.molar is not None:
         lines += ["", result.molar.table()]
+        if result.enthalpy_temp_C is not None:
+            lines.append(
+                f"ΔH refers to {result.enthalpy_temp_C:.2f} °C ({result.enthalpy_temp_basis})"
+            )
+    if result.molar_25 is not None:
+        lines.append(_budget_line("ΔH moved to 25 °C (Kirchhoff, given ΔrCp)", result.molar_25))
     if result.hess is not None:
         h = result.hess
         lines.append(
-            f"Hess's law: predicted {h.predicted:+.3f} ± {h.u_predicted:.3f} kJ/mol; measured − "
-            f"predicted = {h.difference:+.3f} ± {h.u_difference:.3f} kJ/mol (z = {h.z:.1f}): {h.verdict}"
+            f"Hess's law (25 °C, infinite dilution): predicted {h.predicted:+.3f} kJ/mol, "
+            f"U(k=2) = {2 * h.u_predicted:.3f} kJ/mol; measured − predicted = "
+            f"{h.difference:+.3f} kJ/mol, U(k=2) = {2 * h.u_difference:.3f} kJ/mol "
+            f"(z = {h.z:.1f}): {h.verdict}"
         )
+    if result.hess_warning is not None:
+        lines.append(f"warning: {result.hess_warning}")
     return "\n".join(lines)
 
 

@@ -26,21 +26,143 @@ from scipy import integrate
 
 from heatlog.energetics.heat import Content, as_input, content_inputs, heat_capacity_sum, substitute
 from heatlog.energetics.water import CP_RELATIVE_U, water_cp
-from heatlog.errors import CalibrationError, InputError
+from heatlog.errors import CalibrationError, InputError, RangeError
 from heatlog.gum import Budget, Component, Input, propagate, rectangular
+
+#: Ends of the temperature range a reference process may be used in, and the two ways the
+#: final concentration is stated.
+KELVIN = 273.15
 
 
 @dataclass(frozen=True)
 class ReferenceProcess:
-    """A process with a certified or published enthalpy, usable to calibrate a calorimeter."""
+    """A process with a certified or published enthalpy, usable to calibrate a calorimeter.
+
+    ``dh`` holds at 25 °C and the reference concentration ``conc_ref``; :meth:`enthalpy` moves
+    it to the run's mean temperature with ``dcp`` (Kirchhoff) and to the run's final
+    concentration with ``conc_term``, each with its own uncertainty as a budget row, and refuses
+    outside ``t_range_c`` and ``conc_range``, where the published dependence is not known to hold.
+    """
 
     key: str
     description: str
-    dh: Input  # J per unit of `per`
+    dh: Input  # J per unit of `per`, at 25 °C and conc_ref
     per: str  # "g" or "mol"
     conditions: str
     source: str
     hazard: str
+    dcp: Input  # d(ΔH)/dT, J per unit of `per` per K
+    dcp_source: str
+    t_range_c: tuple[float, float]
+    conc_unit: str  # unit of the final concentration: "mol/kg" (molality) or "g/kg"
+    conc_ref: float
+    conc_range: tuple[float, float]
+    conc_source: str
+    conc_term: Callable[[float], tuple[float, float]] | None = None  # ΔH(c) − ΔH(c_ref), u
+
+    def concentration(self, amount: float, water_g: float) -> float:
+        """Final concentration from the amount dissolved (g or mol) and the water (or dilute
+        acid) it went into, g: molality for a per-mole process, g per kg for a per-gram one."""
+        if not (water_g > 0 and math.isfinite(water_g)):
+            raise InputError(
+                f"the final concentration of {self.key} needs the mass of liquid it dissolved in"
+            )
+        return amount / (water_g / 1000.0)
+
+    def enthalpy(self, t_c: float, concentration: float, u_t: float = 0.0) -> Budget:
+        """ΔH of the process at ``t_c`` (°C) and ``concentration`` with its budget (J per unit).
+
+        ΔH(T, c) = ΔH(25 °C, c_ref) + ΔCp·(T − 25 °C) + [ΔH(c) − ΔH(c_ref)]; ``u_t`` is the
+        standard uncertainty of the temperature the process ran at (it spans the rise).
+        """
+        lo, hi = self.t_range_c
+        if not (math.isfinite(t_c) and lo <= t_c <= hi):
+            raise RangeError(
+                f"{self.key}: the run's mean temperature {t_c:.2f} °C is outside "
+                f"{lo + KELVIN:.2f}–{hi + KELVIN:.2f} K ({lo:g}–{hi:g} °C), the range where its "
+                f"published temperature dependence holds ({self.dcp_source}); run the calibration "
+                "inside it or use an electrical calibration"
+            )
+        clo, chi = self.conc_range
+        if not (math.isfinite(concentration) and clo <= concentration <= chi):
+            raise RangeError(
+                f"{self.key}: the final concentration {concentration:.4g} {self.conc_unit} is "
+                f"outside {clo:g}–{chi:g} {self.conc_unit}, the range where its enthalpy is known "
+                f"({self.conc_source}); change the amount or the liquid's mass"
+            )
+        unit = self.dh.unit
+        term, u_term = (0.0, 0.0) if self.conc_term is None else self.conc_term(concentration)
+        comps = [
+            Component(
+                f"ΔH_ref(25 °C, {self.conc_ref:g} {self.conc_unit})",
+                self.dh.value,
+                self.dh.u,
+                1.0,
+                unit,
+                note=f"{self.source}; {self.dh.note}",
+            ),
+            Component(
+                "ΔCp_ref", self.dcp.value, self.dcp.u, t_c - 25.0, f"{unit}/K", note=self.dcp_source
+            ),
+            Component(
+                "T of the reference process",
+                t_c,
+                u_t,
+                self.dcp.value,
+                "°C",
+                note="the run's mean temperature; u spans the rise (rectangular, ±ΔT/2)",
+            ),
+            Component(
+                f"ΔH_ref concentration term ({concentration:.4g} {self.conc_unit})",
+                term,
+                u_term,
+                1.0,
+                unit,
+                note=self.conc_source,
+            ),
+        ]
+        value = self.dh.value + self.dcp.value * (t_c - 25.0) + term
+        return Budget(
+            f"ΔH_ref of {self.key} at {t_c:.2f} °C, {concentration:.4g} {self.conc_unit}",
+            value,
+            unit,
+            tuple(comps),
+        )
+
+
+# KCl(s) -> K+ + Cl- in water: the Pitzer relative apparent molar enthalpy ΦL(m) at 25 °C,
+#   ΦL = ν|z+z-|·(A_H/2b)·ln(1 + b√m) − 2ν+ν-·R·T²·(m·B^L + m²·C^L),
+#   B^L = β0L + β1L·g(α√m), g(x) = 2[1 − (1 + x)e^(−x)]/x², b = 1.2, α = 2,
+# with A_H/RT = 0.8010 kg^½ mol^-½ (Pitzer 1991) and the KCl parameters β0L = 5.794e-4,
+# β1L = 1.071e-3, C^L = −5.095e-5 kg/(mol·K) (Silvester & Pitzer 1977) — all from memory
+# (docs/REFERENCES.md: PITZER-KCL). The certified ΔH at 0.111 mol/kg moves by ΦL(m) − ΦL(0.111)
+# (ΔsolH(m) = ΔsolH° + ΦL(m)). Check: 17.584 − ΦL(0.111) = 17.236 kJ/mol against Parker's
+# infinite-dilution 17.22 kJ/mol (docs/REFERENCES.md: PARKER1965), tested.
+_R = 8.314462618
+_T25 = 298.15
+_A_H = 0.8010 * _R * _T25  # J kg^½ mol^-3/2
+_KCL_B0L, _KCL_B1L, _KCL_CL = 5.794e-4, 1.071e-3, -5.095e-5
+
+
+def kcl_phi_l(m: float) -> float:
+    """Relative apparent molar enthalpy ΦL of KCl(aq) at 25 °C and molality ``m``, J/mol."""
+    if m <= 0:
+        return 0.0
+    sq = math.sqrt(m)
+    x = 2.0 * sq
+    g = 2.0 * (1.0 - (1.0 + x) * math.exp(-x)) / (x * x)
+    bl = _KCL_B0L + _KCL_B1L * g
+    return 2.0 * _A_H / 2.4 * math.log1p(1.2 * sq) - 2.0 * _R * _T25**2 * (m * bl + m * m * _KCL_CL)
+
+
+KCL_M_REF = 0.111
+
+
+def _kcl_conc_term(m: float) -> tuple[float, float]:
+    d = kcl_phi_l(m) - kcl_phi_l(KCL_M_REF)
+    # u: 10 % of the correction plus 5 J/mol (common practice, no source): the parameters are
+    # recalled, and the 17.236 vs 17.22 kJ/mol check above agrees within 16 J/mol.
+    return d, 0.10 * abs(d) + 5.0
 
 
 REFERENCE_PROCESSES: dict[str, ReferenceProcess] = {
@@ -49,20 +171,45 @@ REFERENCE_PROCESSES: dict[str, ReferenceProcess] = {
         ReferenceProcess(
             "tris-hcl",
             "tris(hydroxymethyl)aminomethane (SRM 724a) dissolved in 0.1 mol/L HCl",
-            Input(-245.76, 0.13, "J/g", note="±0.26 J/g taken as k = 2 (from memory)"),
+            # The paper's ± is an overall uncertainty; read here as k = 2 (twice the standard
+            # deviation of the mean plus systematic allowances, as that paper builds it; the
+            # reading is from memory, docs/REFERENCES.md: PROSEN1973).
+            Input(-245.76, 0.13, "J/g", note="±0.26 J/g read as U (k = 2), reading from memory"),
             "g",
-            "298.15 K, about 0.5 g tris per 100 mL of 0.1 N HCl",
-            "Prosen & Kilday, J. Res. NBS 77A (1973)",
+            "293–303 K, about 0.5 g tris per 100 mL of 0.1 mol/L HCl (5 g per kg)",
+            "Prosen & Kilday, J. Res. NBS 77A (1973) 581 (docs/REFERENCES.md: PROSEN1973)",
             "acid",
+            Input(1.435, 0.0115, "J/(g·K)", note="±0.023 read as U (k = 2), reading from memory"),
+            "ΔCp = +1.435 ± 0.023 J/(g·K), 293–303 K, Prosen & Kilday 1973 "
+            "(docs/REFERENCES.md: PROSEN1973)",
+            (20.0, 30.0),
+            "g/kg",
+            5.0,
+            (3.0, 7.0),
+            "the certified condition, about 0.5 g per 100 mL, ±2 g/kg (common practice, no "
+            "source: no concentration dependence is modelled inside this window)",
         ),
         ReferenceProcess(
             "kcl",
             "potassium chloride (SRM 1655) dissolved in water",
-            Input(17584.0, 10.0, "J/mol", note="±0.02 kJ/mol taken as k = 2 (from memory)"),
+            Input(17584.0, 8.5, "J/mol", note="±0.017 kJ/mol read as U (k = 2), from memory"),
             "mol",
-            "298.15 K, final molality 0.111 mol/kg (depends on both: match them)",
-            "Kilday 1980 (from memory)",
+            "293–303 K, final molality 0.02–0.5 mol/kg (certified at 298.15 K, 0.111 mol/kg)",
+            "Kilday, J. Res. NBS 85 (1980) 467, SRM 1655 (docs/REFERENCES.md: KILDAY1980)",
             "",
+            Input(-148.0, 10.0, "J/(mol·K)", note="derived, see source"),
+            "ΔCp = Φcp(KCl, aq, 0.111 mol/kg) − Cp(KCl, s) = −97 − 51.3 J/(mol·K), Φcp from "
+            "Laliberté's KCl fit (docs/REFERENCES.md: LALIBERTE2009), Cp(s) from the CRC table in "
+            "the chemicals package (docs/REFERENCES.md: CRC-CHEMICALS); u = 10 J/(mol·K) covers "
+            "Φcp over 0.02–0.5 mol/kg and 20–30 °C and the infinite-dilution value (common "
+            "practice, no source); range kept to that of tris",
+            (20.0, 30.0),
+            "mol/kg",
+            KCL_M_REF,
+            (0.02, 0.5),
+            "Pitzer ΦL(m) − ΦL(0.111), Silvester & Pitzer 1977 parameters (from memory; "
+            "docs/REFERENCES.md: PITZER-KCL)",
+            _kcl_conc_term,
         ),
     )
 }
@@ -236,12 +383,31 @@ def reaction_calibration(
     amount: Input,
     delta_t: Input,
     contents: Sequence[Content],
+    *,
+    t_c: float | None = None,
+    concentration: float | None = None,
+    u_t: float = 0.0,
 ) -> Budget:
     """C_cal from a process of known enthalpy (J per g or per mol, matching ``amount``).
 
-    q = −ΔH·amount is the heat the calorimeter takes up; C_cal = q/ΔT − Σ m_i c_p,i.
+    q = −ΔH·amount is the heat the calorimeter takes up; C_cal = q/ΔT − Σ m_i c_p,i. A
+    :class:`ReferenceProcess` is evaluated at the run's mean temperature ``t_c`` (°C) and final
+    ``concentration`` (its ``conc_unit``), both required; its temperature uncertainty is ``u_t``
+    combined with the span of the rise (rectangular, ±ΔT/2), and the rows of
+    :meth:`ReferenceProcess.enthalpy` appear in the budget.
     """
-    dh = process.dh if isinstance(process, ReferenceProcess) else process
+    ref_budget: Budget | None = None
+    if isinstance(process, ReferenceProcess):
+        if t_c is None or concentration is None:
+            raise InputError(
+                f"the enthalpy of {process.key} depends on the run's mean temperature and final "
+                f"concentration ({process.conc_unit}); give both"
+            )
+        span = abs(delta_t.value) / math.sqrt(12.0) if math.isfinite(delta_t.value) else 0.0
+        ref_budget = process.enthalpy(t_c, concentration, math.hypot(u_t, span))
+        dh = as_input(ref_budget, process.dh.unit)
+    else:
+        dh = process
     if not (math.isfinite(dh.value) and dh.value != 0):
         raise InputError(f"the reference enthalpy must be a non-zero number, got {dh.value}")
     per = process.per if isinstance(process, ReferenceProcess) else ""
@@ -250,13 +416,14 @@ def reaction_calibration(
         "amount": _positive("amount of reference substance", as_input(amount, per)),
     }
     name = process.key if isinstance(process, ReferenceProcess) else "given process"
-    return _c_cal_from_heat(
+    b = _c_cal_from_heat(
         q_inputs,
         lambda x: -x["ΔH_ref"] * x["amount"],
         delta_t,
         contents,
         f"C_cal (reference process: {name})",
     )
+    return b if ref_budget is None else substitute(b, "ΔH_ref", ref_budget)
 
 
 def combine_calibrations(results: Sequence[Input | Budget]) -> Budget:

@@ -12,9 +12,10 @@ fit's range (t_min, t_max, w_max) are those of Laliberté's Table, as transcribe
 ``thermo``'s own implementation and against the independent Melinder correlations in CoolProp's
 INCOMP library.
 
-Uncertainty (common practice, no source): u = 0.001 J/(g·K) + f·|c_p,water − c_p|, i.e. a share
-f of the solute's effect on c_p, with f = 0.03 for NaCl (356 fitted points) and 0.10 for the
-others. They are set to cover, at k = 2, the spread between the solute effects of Laliberté's
+Uncertainty (common practice, no source): u = u(c_p,water)·(1 − w) + 0.001 J/(g·K)·w/w_max +
+f·|c_p,water − c_p|: the water's own IAPWS-95 uncertainty (so at zero concentration the solution
+carries exactly pure water's), a model floor growing with concentration, and a share f of the
+solute's effect on c_p, with f = 0.03 for NaCl (356 fitted points) and 0.10 for the others. They are set to cover, at k = 2, the spread between the solute effects of Laliberté's
 model and Melinder's correlations (CoolProp INCOMP) found in the tests (NaCl 5–40 °C, KCl
 25–40 °C, 0.1–1 mol/kg); they are not a published figure.
 """
@@ -25,7 +26,7 @@ import math
 from dataclasses import dataclass
 
 from heatlog.energetics.formula import parse_formula
-from heatlog.energetics.water import water_cp
+from heatlog.energetics.water import water_cp, water_cp_input
 from heatlog.errors import InputError, RangeError
 from heatlog.gum import Input
 
@@ -237,7 +238,7 @@ def solution_cp_mass_fraction(solute: str, w: float, t_c: float) -> Input:
         )
     cpw = float(water_cp(t_c))
     cp = cpw if w == 0.0 else (1.0 - w) * cpw + w * s.cp_solute(t_c, w)
-    u = _BASE_U + s.share_u * abs(cpw - cp)
+    u = water_cp_input(t_c).u * (1.0 - w) + _BASE_U * w / s.w_max + s.share_u * abs(cpw - cp)
     return Input(
         cp, u, "J/(g·K)", note=f"{solute}(aq), w = {w:.4g}, {t_c:g} °C; {SOURCE}; u: no source"
     )

@@ -16,7 +16,7 @@ from typing import Any, ClassVar
 
 import numpy as np
 
-from heatlog.errors import CalibrationError
+from heatlog.errors import CalibrationError, RangeError
 from heatlog.probes.inversion import solve_increasing
 from heatlog.probes.validity import (
     RANGE_MARGIN_K,
@@ -130,20 +130,51 @@ def pt1000(**overrides: float) -> CallendarVanDusen:
     return CallendarVanDusen(**{"R0": 1000.0, **overrides})
 
 
-_TOLERANCE_CLASSES = {"AA": (0.10, 0.0017), "A": (0.15, 0.002), "B": (0.30, 0.005)}
+#: IEC 60751:2008 tolerance classes: ±(base + per_degree·|t|) °C, and the temperature range in
+#: which the standard gives each class, for wire-wound and for film elements (IEC 60751:2008;
+#: AA, A, B ranges checked in a copy quoting it, class C's from memory; docs/REFERENCES.md:
+#: IEC60751). Outside that range a class says nothing.
+_TOLERANCE_CLASSES = {
+    "AA": (0.10, 0.0017),
+    "A": (0.15, 0.002),
+    "B": (0.30, 0.005),
+    "C": (0.6, 0.01),
+}
+TOLERANCE_RANGES_C = {
+    "wire": {
+        "AA": (-50.0, 250.0),
+        "A": (-100.0, 450.0),
+        "B": (-196.0, 600.0),
+        "C": (-196.0, 600.0),
+    },
+    "film": {"AA": (0.0, 150.0), "A": (-30.0, 300.0), "B": (-50.0, 500.0), "C": (-50.0, 600.0)},
+}
 
 
-def tolerance_class(t_C: Any, cls: str = "B") -> Any:
-    """Permitted deviation (±°C) of an IEC 60751 platinum sensor of class ``cls`` at ``t_C``.
+def tolerance_class(t_C: Any, cls: str = "B", element: str = "wire") -> Any:
+    """Permitted deviation (±°C, a limit, not an uncertainty) of an IEC 60751 platinum sensor of
+    class ``cls`` at ``t_C``, only inside the range the standard gives that class.
 
-    Class A ±(0.15 + 0.002|t|), class B ±(0.30 + 0.005|t|) (IEC 60751); class AA
-    ±(0.10 + 0.0017|t|) (IEC 60751:2008, from memory).
+    Class AA ±(0.10 + 0.0017|t|), A ±(0.15 + 0.002|t|), B ±(0.30 + 0.005|t|),
+    C ±(0.6 + 0.01|t|) (IEC 60751:2008; class C's range from memory). ``element`` is
+    "wire" (wire-wound) or "film"; a temperature outside the class's range is refused
+    (:class:`RangeError`) rather than given a number the standard does not back.
     """
     key = cls.upper()
     if key not in _TOLERANCE_CLASSES:
         raise CalibrationError(
             f"unknown IEC 60751 tolerance class {cls!r}; use one of {', '.join(_TOLERANCE_CLASSES)}"
         )
+    if element not in TOLERANCE_RANGES_C:
+        raise CalibrationError(f"unknown element type {element!r}; use wire or film")
     base, per_degree = _TOLERANCE_CLASSES[key]
     arr, scalar = as_array(t_C, "temperature", "°C")
+    lo, hi = TOLERANCE_RANGES_C[element][key]
+    outside = ~((arr >= lo) & (arr <= hi))
+    if np.any(outside):
+        bad = float(np.asarray(arr)[outside].flat[0])
+        raise RangeError(
+            f"{bad:g} °C is outside {lo:g}…{hi:g} °C, where IEC 60751 gives class {key} for "
+            f"{element} elements; the class says nothing there: calibrate the sensor instead"
+        )
     return restore(base + per_degree * np.abs(arr), scalar)

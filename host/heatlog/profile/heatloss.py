@@ -189,7 +189,7 @@ def cooling_fit(
     k, u_k = float(beta[1]), math.sqrt(float(cov[1, 1]))
     if not k > 0 or u_k > abs(k):
         raise ReductionError(
-            f"the cooling fit gives k = {k:.3g} ± {u_k:.2g} 1/s: the stretch from {lo:g} s does "
+            f"the cooling fit gives k = {k:.3g} ± {u_k:.2g} 1/s (u, k=1): the stretch from {lo:g} s does "
             "not cool towards the environment (heat still released, or too little excess)"
         )
     return CoolingFit(k, u_k, float(ts[0]), float(ts[-1]), int(ts.size), rms, excess)

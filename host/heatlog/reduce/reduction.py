@@ -106,6 +106,7 @@ class Reduction:
             "u_delta_t_K": self.u_delta_t_K,
             "U_delta_t_K": self.U_delta_t_K,
             "k_coverage": self.budget.k,
+            "coverage_factor": self.budget.k,  # the key every U_* sits beside (one convention)
             "method": self.method,
             "method_reason": self.method_reason,
             "methods": {k: v.delta_t_K for k, v in self.methods.items()},

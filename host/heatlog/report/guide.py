@@ -247,14 +247,16 @@ class LiveGuide:
                 s,
                 phase="stable",
                 start_signal_s=t_now if first else s.start_signal_s,
-                message=f"stable — start now (drift {drift * 1e3:+.2f} ± {u_drift * 1e3:.2f} "
+                message=f"stable — start now (drift {drift * 1e3:+.2f}, u = {u_drift * 1e3:.2f} (k=1) "
                 f"mK/min, noise {sigma * 1e3:.2f} mK)",
             )
         why = []
         if abs(drift) + 2.0 * u_drift > o.max_drift_K_per_min:
-            why.append(f"drift {drift * 1e3:+.2f} ± {u_drift * 1e3:.2f} mK/min")
+            why.append(f"drift {drift * 1e3:+.2f} mK/min, u = {u_drift * 1e3:.2f} mK/min (k=1)")
         if not steady:
-            why.append(f"drift rate changing by {change * 1e3:+.2f} ± {u_change * 1e3:.2f} mK/min")
+            why.append(
+                f"drift rate changing by {change * 1e3:+.2f} mK/min, u = {u_change * 1e3:.2f} (k=1)"
+            )
         if sigma > o.max_noise_K:
             why.append(f"noise {sigma * 1e3:.2f} mK")
         if s.phase == "stable":
@@ -443,5 +445,7 @@ def render_terminal(
         status = f"\x1b[{code}m{status}\x1b[0m"
     lines.append(status)
     if math.isfinite(state.delta_t_K):
-        lines.append(f"running ΔT = {state.delta_t_K:+.4f} K ± {state.u_delta_t_K:.2g} K (k = 1)")
+        lines.append(
+            f"running ΔT = {state.delta_t_K:+.4f} K, u = {state.u_delta_t_K:.2g} K (k = 1)"
+        )
     return "\n".join(lines)

@@ -257,15 +257,27 @@ def result_rows(inputs: ReportInputs) -> list[tuple[str, str]]:
             rows.append(("heat taken up by calorimeter + contents, q", _pm(run.heat_J, ".5g")))
         if run.molar is not None:
             rows.append(("ΔH per mole (system)", _pm(run.molar, "+.3f")))
+            if run.enthalpy_temp_C is not None:
+                rows.append(
+                    (
+                        "temperature ΔH refers to",
+                        f"{run.enthalpy_temp_C:.2f} °C ({run.enthalpy_temp_basis})",
+                    )
+                )
+        if run.molar_25 is not None:
+            rows.append(("ΔH at 25 °C (Kirchhoff, given ΔrCp)", _pm(run.molar_25, "+.3f")))
         if run.specific is not None:
             rows.append(("ΔH per gram of sample (system)", _pm(run.specific, "+.4g")))
+        if run.hess_warning is not None:
+            rows.append(("Hess's law prediction", f"warning: {run.hess_warning}"))
         if run.hess is not None:
             h = run.hess
             rows.append(
                 (
                     "Hess's law prediction",
-                    f"{h.predicted:+.3f} ± {h.u_predicted:.3f} {h.unit}; measured − predicted = "
-                    f"{h.difference:+.3f} ± {h.u_difference:.3f} {h.unit}, z = {h.z:.1f}: {h.verdict}",
+                    f"{h.predicted:+.3f} {h.unit} at 25 °C, U(k = 2) = {2 * h.u_predicted:.3f} "
+                    f"{h.unit}; measured − predicted = {h.difference:+.3f} {h.unit}, U(k = 2) = "
+                    f"{2 * h.u_difference:.3f} {h.unit}, z = {h.z:.1f}: {h.verdict}",
                 )
             )
         rows.append(("sign convention", "q = heat taken up by calorimeter and contents; ΔH = −q"))
@@ -481,8 +493,11 @@ def render_html(inputs: ReportInputs, progress: Progress | None = None) -> str:
             _kv(
                 [
                     ("drift model", f"{red.drift.model}: {red.drift_reason}"),
-                    ("exchange constant k", f"{k:.4g} ± {u_k:.2g} 1/s"),
-                    ("convergence temperature T∞", f"{num(t_inf, '.4f')} ± {num(u_t, '.2g')} °C"),
+                    ("exchange constant k", f"{k:.4g} 1/s, u = {u_k:.2g} 1/s (k = 1)"),
+                    (
+                        "convergence temperature T∞",
+                        f"{num(t_inf, '.4f')} °C, u = {num(u_t, '.2g')} K (k = 1)",
+                    ),
                     ("reading noise", f"{red.noise_K * 1e3:.3g} mK"),
                     ("reading step", f"{red.resolution_K * 1e3:.3g} mK"),
                     ("events found", str(len(red.events))),

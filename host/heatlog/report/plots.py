@@ -94,8 +94,8 @@ def thermogram_figure(thermogram: Thermogram, reduction: Reduction, title: str =
         x = 0.5 * (t0 + ta)
     f_x = float(fit.fore(x))
     label = (
-        f"corrected ΔT = {reduction.delta_t_K:+.4f} K ± {reduction.U_delta_t_K:.2g} K "
-        f"(k = {reduction.budget.k:g}, {reduction.method})"
+        f"corrected ΔT = {reduction.delta_t_K:+.4f} K, U(k={reduction.budget.k:g}) = "
+        f"{reduction.U_delta_t_K:.2g} K ({reduction.method})"
     )
     ax.annotate(
         "",
@@ -236,8 +236,8 @@ def hess_figure(comparison: Comparison, label: str = "") -> Figure:
     ax.set_ylim(-0.7, 1.7)
     ax.set_xlabel(f"ΔH / {c.unit}   (bars: ±U, k = 2)")
     ax.set_title(
-        (label + ": " if label else "")
-        + f"measured − predicted = {c.difference:+.3g} ± {c.u_difference:.2g} {c.unit}, z = {c.z:.1f}"
+        (label + ": " if label else "") + f"measured − predicted = {c.difference:+.3g} {c.unit}, "
+        f"U(k=2) = {K_PLOT * c.u_difference:.2g} {c.unit}, z = {c.z:.1f}"
     )
     ax.grid(alpha=0.3, axis="x")
     return fig

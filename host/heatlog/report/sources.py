@@ -50,23 +50,29 @@ def _spec_rows(spec: RunSpec) -> list[tuple[str, str]]:
         cp = (
             "water, IAPWS-95 at the mean temperature"
             if c.cp is None
-            else f"{c.cp.value:g} ± {c.cp.u:g} J/(g·K)"
+            else f"{c.cp.value:g} J/(g·K), u = {c.cp.u:g} J/(g·K) (k = 1)"
         )
-        rows.append((f"contents: {c.name}", f"{c.mass_g.value:g} ± {c.mass_g.u:g} g, c_p {cp}"))
+        rows.append(
+            (f"contents: {c.name}", f"{c.mass_g.value:g} g, u = {c.mass_g.u:g} g (k = 1), c_p {cp}")
+        )
     if spec.heat_capacity is not None:
         hc = spec.heat_capacity
-        rows.append(("calorimeter constant given", f"{hc.value:g} ± {hc.u:g} J/K"))
+        rows.append(("calorimeter constant given", f"{hc.value:g} J/K, u = {hc.u:g} J/K (k = 1)"))
     for cal in spec.calibrations:
         rows.append(("calibration run file", str(cal)))
     e = spec.electrical
     if e is not None:
         if e.power_W is not None:
-            rows.append(("heater power", f"{e.power_W.value:g} ± {e.power_W.u:g} W"))
+            rows.append(("heater power", f"{e.power_W.value:g} W, u = {e.power_W.u:g} W (k = 1)"))
         if e.voltage_V is not None and e.current_A is not None:
-            rows.append(("heater voltage", f"{e.voltage_V.value:g} ± {e.voltage_V.u:g} V"))
-            rows.append(("heater current", f"{e.current_A.value:g} ± {e.current_A.u:g} A"))
+            rows.append(
+                ("heater voltage", f"{e.voltage_V.value:g} V, u = {e.voltage_V.u:g} V (k = 1)")
+            )
+            rows.append(
+                ("heater current", f"{e.current_A.value:g} A, u = {e.current_A.u:g} A (k = 1)")
+            )
         if e.seconds is not None:
-            rows.append(("heater time", f"{e.seconds.value:g} ± {e.seconds.u:g} s (u, k=1)"))
+            rows.append(("heater time", f"{e.seconds.value:g} s, u = {e.seconds.u:g} s (k = 1)"))
         if e.logged is not None:
             g = e.logged
             rows.append(
@@ -76,11 +82,11 @@ def _spec_rows(spec: RunSpec) -> list[tuple[str, str]]:
                 )
             )
             rows.append(
-                ("heater shunt", f"{g.shunt_ohm:g} ohm, u = {100 * g.u_shunt_rel:.3g} % (k=1)")
+                ("heater shunt", f"{g.shunt_ohm:g} ohm, u = {100 * g.u_shunt_rel:.3g} % (k = 1)")
             )
     s = spec.sample
     if s is not None:
-        rows.append(("sample", f"{s.name}: {s.mass_g.value:g} ± {s.mass_g.u:g} g"))
+        rows.append(("sample", f"{s.name}: {s.mass_g.value:g} g, u = {s.mass_g.u:g} g (k = 1)"))
         if s.molar_mass_g_per_mol is not None:
             rows.append(("molar mass", f"{s.molar_mass_g_per_mol:g} g/mol"))
         if s.reaction is not None:
@@ -89,11 +95,18 @@ def _spec_rows(spec: RunSpec) -> list[tuple[str, str]]:
     if prof is not None:
         hc = prof.heat_capacity
         rows.append(("kind", prof.kind))
-        rows.append(("heat capacity C", f"{hc.value:g} ± {hc.u:g} J/K"))
+        rows.append(("heat capacity C", f"{hc.value:g} J/K, u = {hc.u:g} J/K (k = 1)"))
         if prof.loss is not None:
-            rows.append(("heat-loss coefficient G", f"{prof.loss.value:g} ± {prof.loss.u:g} W/K"))
+            rows.append(
+                (
+                    "heat-loss coefficient G",
+                    f"{prof.loss.value:g} W/K, u = {prof.loss.u:g} W/K (k = 1)",
+                )
+            )
         if prof.sample_g is not None:
-            rows.append(("sample mass", f"{prof.sample_g.value:g} ± {prof.sample_g.u:g} g"))
+            rows.append(
+                ("sample mass", f"{prof.sample_g.value:g} g, u = {prof.sample_g.u:g} g (k = 1)")
+            )
     return rows
 
 

@@ -108,9 +108,38 @@ CACL2_G, CACL2_CP, CACL2_M = 10.0, 0.67, 110.98
 CACL2_DH_KJ = -81.0  # invented, near the literature value from memory (releases heat)
 
 
-def _cup(extra_J_per_K: float, start_C: float) -> Vessel:
-    c = CUP_C_J_PER_K + WATER_G * float(water_cp(22.0)) + extra_J_per_K
-    return Vessel(c, K_PER_S * c, ROOM_C, start_C, stir_W=STIR_W, probe_lag_s=3.0)
+def _cup(
+    extra_J_per_K: float, start_C: float, room_C: float = ROOM_C, cp_at_C: float = 22.0
+) -> Vessel:
+    c = CUP_C_J_PER_K + WATER_G * float(water_cp(cp_at_C)) + extra_J_per_K
+    return Vessel(c, K_PER_S * c, room_C, start_C, stir_W=STIR_W, probe_lag_s=3.0)
+
+
+# Reference-process calibration of the cup: tris dissolved in 150 g of 0.1 mol/L HCl, taken
+# thermally as water (invented). The heat follows the published ΔH(25 °C) and ΔCp of tris
+# (Prosen & Kilday 1973, docs/REFERENCES.md: PROSEN1973), written out here on their own so the
+# simulator does not borrow the code it checks.
+TRIS_G = 0.9
+TRIS_DH_J_PER_G_25C, TRIS_DCP_J_PER_G_K = -245.76, 1.435
+
+
+def tris_calibration(temp_C: float) -> Experiment:
+    """Tris in dilute HCl starting at ``temp_C`` (room 0.3 K warmer): the heat released is
+    m·(ΔH(25 °C) + ΔCp·(T − 25 °C)) at the rise's mean temperature."""
+    vessel = _cup(0.0, temp_C, room_C=temp_C + 0.3, cp_at_C=temp_C)
+    rise = -TRIS_G * TRIS_DH_J_PER_G_25C / vessel.heat_capacity_J_per_K  # first estimate
+    t_mid = temp_C + rise / 2
+    heat = -TRIS_G * (TRIS_DH_J_PER_G_25C + TRIS_DCP_J_PER_G_K * (t_mid - 25.0))
+    return Experiment(
+        f"tris-{temp_C:g}",
+        f"{TRIS_G:g} g tris dissolved in {WATER_G:g} g of 0.1 mol/L HCl at {temp_C:g} °C "
+        "(invented data)",
+        vessel,
+        (Reaction(600.0, heat, 30.0),),
+        2400.0,
+        {"tris_g": TRIS_G, "water_g": WATER_G, "cup_J_per_K": CUP_C_J_PER_K, "heat_J": heat,
+         "temp_C": temp_C},
+    )  # fmt: skip
 
 
 def electrical_calibration() -> Experiment:
@@ -179,7 +208,8 @@ def cement_paste() -> Experiment:
 
 
 _CUP_CAUTION = (
-    "Caution: ammonium nitrate is an oxidiser, calcium chloride heats up when it dissolves, cold "
+    "Caution: ammonium nitrate is an oxidiser, calcium chloride heats up when it dissolves, "
+    "hydrochloric acid harms eyes and skin (wear eye protection), cold "
     "packs can chill skin and heaters and hot water burn. Follow the safety data sheets, local "
     "codes and licensed practice when you do this for real."
 )
@@ -195,6 +225,10 @@ SCENARIOS: dict[str, Scenario] = {
                  (endothermic_pack(),), _CUP_CAUTION),
         Scenario("exothermic", "CaCl2 dissolution (hot-pack formulation)", 2000, 64,
                  (exothermic_pack(),), _CUP_CAUTION),
+        Scenario("tris-20", "tris reference calibration of the cup at 20 °C", 2000, 64,
+                 (tris_calibration(20.0),), _CUP_CAUTION),
+        Scenario("tris-30", "tris reference calibration of the cup near 30 °C", 2000, 64,
+                 (tris_calibration(29.5),), _CUP_CAUTION),
         Scenario("hand-warmer", "hand-warmer pouch over six hours", 10_000, 16, (hand_warmer(),),
                  "Caution: hand warmers can burn skin held against them for long (about 44 °C for "
                  "hours can be enough); follow the maker's instructions and local guidance."),

@@ -1,6 +1,6 @@
 """The vessel the virtual board measures: Newton's-law exchange with the room, stirring heat,
-heaters and reactions, and a probe that lags the contents (REFERENCES.md, Newton's-law vessel
-model: dT/dt = k(T_room − T) + (P_stir + P(t))/C).
+heaters and reactions, and a probe that lags the contents (docs/REFERENCES.md: NEWTON-VESSEL,
+Newton's-law vessel model: dT/dt = k(T_room − T) + (P_stir + P(t))/C).
 
 Pure and deterministic: :class:`ThermalModel` is advanced to a time and read; the heat it has
 put in is known exactly, which is what the simulator reports as the truth.
