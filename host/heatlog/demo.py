@@ -3,7 +3,8 @@
 Scenario: a 10 kΩ NTC bead is calibrated in a water bath (the bundled
 ``ntc_10k_calibration.csv``); it then sits in a stirred, lidded cup of 150 g of water read by a
 virtual board — the real firmware running under the simulator, a 12-bit ratiometric divider
-summed over 64 reads. The demo starts the simulator behind a pseudo-terminal, talks to it through
+summed over 64 reads. The demo starts the simulator behind a pseudo-terminal (Linux, macOS) or
+on a local TCP socket (any system, ``socket://127.0.0.1:PORT``), talks to it through
 the same link, framing and protocol code as a real board: sets the clock, logs an electrical
 calibration (5 W for 300 s) and the dissolution of 8 g of ammonium nitrate (the salt of many
 instant cold packs), pulls both runs with verification into an archive, converts them with the
@@ -36,7 +37,7 @@ from heatlog.errors import LinkError
 from heatlog.probes import fit_resistance, probe_from_fit, save_probe
 from heatlog.runfile import RunResult, run_file
 from heatlog.sim import scenarios as sc
-from heatlog.sim.board import PtyServer, VirtualBoard
+from heatlog.sim.board import PtyServer, TcpServer, VirtualBoard, pty_available
 
 DEMO_PROBE_TRUTH = sc.PROBE_TRUTH  # the invented probe the bundled calibration points came from
 SPEED = 2500.0  # virtual seconds per real second
@@ -69,7 +70,9 @@ def _write_probe(out: Path) -> None:
     save_probe(probe, out / "probes" / f"{sc.PROBE_ID}.toml")
 
 
-def _log_runs(server: PtyServer, archive: Archive, say: Callable[[str], None]) -> PullReport:
+def _log_runs(
+    server: PtyServer | TcpServer, archive: Archive, say: Callable[[str], None]
+) -> PullReport:
     """Drive the virtual board like a user would: clock, one run per experiment, pull."""
     with Link.open(server.path, timeout=1.0) as link:
         board = Board(link)
@@ -153,14 +156,31 @@ class DemoResult:
         }
 
 
-def run_demo(out: Path, say: Callable[[str], None] = lambda s: None) -> DemoResult:
-    """Simulate, log, pull, calibrate and reduce; files go into ``out``."""
+LINKS = ("auto", "pty", "tcp")
+
+
+def run_demo(
+    out: Path, say: Callable[[str], None] = lambda s: None, link: str = "auto"
+) -> DemoResult:
+    """Simulate, log, pull, calibrate and reduce; files go into ``out``.
+
+    ``link``: how the host reaches the virtual board: ``pty`` (a pseudo-terminal, Linux and
+    macOS), ``tcp`` (a local socket, any system) or ``auto`` (the pty where the system has
+    one, else TCP)."""
+    if link not in LINKS:
+        raise ValueError(f"link must be one of {LINKS}, got {link!r}")
+    use_pty = link == "pty" or (link == "auto" and pty_available())
     t_start = time.monotonic()
     out.mkdir(parents=True, exist_ok=True)
     _write_probe(out)
     with tempfile.TemporaryDirectory(prefix="heatlog-sim-") as tmp:
         board = VirtualBoard(SCENARIO, Path(tmp) / "flash", board_id="demo-board", seed=7)
-        server = PtyServer(board, Path(tmp) / "board.link", speed=SPEED).start()
+        server: PtyServer | TcpServer = (
+            PtyServer(board, Path(tmp) / "board.link", speed=SPEED)
+            if use_pty
+            else TcpServer(board, 0, speed=SPEED)
+        ).start()
+        say(f"  virtual board on {server.path}")
         try:
             report = _log_runs(server, Archive(out / "archive"), say)
         finally:

@@ -49,6 +49,7 @@ Parsing (:func:`parse_run`) and evaluation (:func:`evaluate_run`) are pure; :fun
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import tomllib
 from collections.abc import Callable, Mapping, Sequence
@@ -77,6 +78,7 @@ from heatlog.gum import Budget, Component, Input
 from heatlog.probes import ProbeFile, chain_from_spec, load_probe
 from heatlog.profile import ProfileResult, ProfileSettings, analyse_profile, settings_from_table
 from heatlog.reduce import Reduction, reduce_thermogram
+from heatlog.storedpath import resolve_stored
 from heatlog.thermogram import Thermogram, read_thermogram_csv
 
 
@@ -177,8 +179,7 @@ def _quantity(
 def _path(base: Path, value: Any, where: str) -> Path:
     if not isinstance(value, str) or not value:
         raise InputError(f"{where}: expected a file name, got {value!r}")
-    p = Path(value)
-    return p if p.is_absolute() else base / p
+    return resolve_stored(value, base)  # either separator, on any system (storedpath.py)
 
 
 def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
@@ -659,11 +660,16 @@ def profile_run(spec: RunSpec) -> ProfileResult:
         raise InputError(f"{spec.path}: the run file has no [profile] table")
     cols = spec.profile_columns
     extra = [c for c in (cols.get("env"), cols.get("flags")) if c]
-    time_s, temp, extras, _ = read_log_arrays(spec.log, extra)
+    time_s, temp, extras, meta = read_log_arrays(spec.log, extra)
+    settings = spec.profile
+    probe = meta.get("probe_file")  # raw readings: the probe file's time constant, if it has one
+    if settings.probe_tau is None and probe is not None and probe.time_constant_s is not None:
+        tau = Input(probe.time_constant_s, probe.u_time_constant_s or 0.0, "s", note=probe.id)
+        settings = dataclasses.replace(settings, probe_tau=tau)
     return analyse_profile(
         time_s,
         temp,
-        spec.profile,
+        settings,
         env_C=extras.get(cols["env"]) if "env" in cols else None,
         flags=extras.get(cols["flags"]) if "flags" in cols else None,
         where=str(spec.log.file),

@@ -90,7 +90,7 @@ def test_cement_with_faults_and_reset(cement_csv):
     path, run = cement_csv
     d = _json(
         path,
-        "--heat-capacity 2500 --loss 0.03 --env-temp 20 --u-env-temp 0.2 --kind cement --sample-g 100 --flags-col status",
+        "--heat-capacity 2500 --loss 0.03 --u-loss 0.0006 --env-temp 20 --u-env-temp 0.2 --kind cement --sample-g 100 --flags-col status",
     )
     assert d["log"]["faulted_samples_excluded"] == 1
     assert len(d["log"]["clock_resets"]) == 1 and len(d["log"]["segments"]) == 2
@@ -113,6 +113,8 @@ def test_text_output_has_safety_and_caution(warmer_csv):
             "60",
             "--loss",
             "0.06",
+            "--u-loss",
+            "0.002",
             "--env-temp",
             "20",
             "--kind",
@@ -151,7 +153,7 @@ def test_run_file_form(warmer_csv, tmp_path):
     toml = tmp_path / "warmer.toml"
     toml.write_text(
         f'title = "invented warmer"\n[log]\nfile = "{path.as_posix()}"\n'
-        '[profile]\nheat_capacity_J_per_K = 60.0\nloss_W_per_K = 0.06\nenv_col = "room_C"\n'
+        '[profile]\nheat_capacity_J_per_K = 60.0\nloss_W_per_K = 0.06\nu_loss_W_per_K = 0.002\nenv_col = "room_C"\n'
         'kind = "warmer"\nsample_mass_g = 40.0\nthreshold_C = 38.0\n'
     )
     d = _json(toml)
@@ -162,21 +164,47 @@ def test_run_file_form(warmer_csv, tmp_path):
 @pytest.mark.parametrize(
     "extra, fragment",
     [
-        (["--loss", "0.06", "--env-temp", "20"], "--heat-capacity"),
+        (["--loss", "0.06", "--u-loss", "0.002", "--env-temp", "20"], "--heat-capacity"),
         (["--heat-capacity", "60", "--env-temp", "20"], "--cooling-fit"),
-        (["--heat-capacity", "60", "--loss", "0.06"], "--env-temp"),
-        (["--heat-capacity", "60", "--loss", "0.06", "--env-col", "nope"], "missing column"),
+        (["--heat-capacity", "60", "--loss", "0.06", "--u-loss", "0"], "--env-temp"),
         (
-            ["--heat-capacity", "60", "--loss", "0.06", "--env-temp", "20", "--cooling-fit", "5"],
+            ["--heat-capacity", "60", "--loss", "0.06", "--u-loss", "0.002", "--env-col", "nope"],
+            "missing column",
+        ),
+        (
+            [
+                "--heat-capacity",
+                "60",
+                "--loss",
+                "0.06",
+                "--u-loss",
+                "0.002",
+                "--env-temp",
+                "20",
+                "--cooling-fit",
+                "5",
+            ],
             "not both",
         ),
         (
-            ["--heat-capacity", "60", "--loss", "0.06", "--env-temp", "20", "--band", "45", "40"],
+            [
+                "--heat-capacity",
+                "60",
+                "--loss",
+                "0.06",
+                "--u-loss",
+                "0.002",
+                "--env-temp",
+                "20",
+                "--band",
+                "45",
+                "40",
+            ],
             "must lie below",
         ),
         (
             ["--heat-capacity", "60", "--cooling-fit", "1e9", "--env-temp", "20"],
-            "choose an earlier start",
+            "give a start inside it",
         ),
     ],
     ids=["no-c", "no-loss", "no-env", "bad-col", "loss-and-fit", "bad-band", "late-fit"],
@@ -192,12 +220,15 @@ def test_one_line_errors(warmer_csv, extra, fragment):
 @pytest.mark.parametrize(
     "table, fragment",
     [
-        ("heat_capacity_J_per_K = 60.0\nloss_W_per_K = 0.06\n", "needs env_temp_C or env_col"),
+        (
+            "heat_capacity_J_per_K = 60.0\nloss_W_per_K = 0.06\nu_loss_W_per_K = 0.0\n",
+            "needs env_temp_C or env_col",
+        ),
         ("loss_W_per_K = 0.06\nenv_temp_C = 20.0\n", "needs heat_capacity_J_per_K"),
         ("heat_capacity_J_per_K = 60.0\nloss = 0.06\nenv_temp_C = 20.0\n", "does not know"),
         ("heat_capacity_J_per_K = 'x'\n", "must be a number"),
         (
-            "heat_capacity_J_per_K = 60.0\nloss_W_per_K = 0.06\nenv_temp_C = 20.0\nband_low_C = 1.0\n",
+            "heat_capacity_J_per_K = 60.0\nloss_W_per_K = 0.06\nu_loss_W_per_K = 0.002\nenv_temp_C = 20.0\nband_low_C = 1.0\n",
             "give both",
         ),
     ],

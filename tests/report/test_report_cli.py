@@ -115,7 +115,7 @@ def test_profile_run_file_report(tmp_path):
     toml = tmp_path / "warmer.toml"
     toml.write_text(
         'title = "invented warmer"\n[log]\nfile = "warmer.csv"\n'
-        '[profile]\nheat_capacity_J_per_K = 60.0\nloss_W_per_K = 0.06\nenv_col = "room_C"\n'
+        '[profile]\nheat_capacity_J_per_K = 60.0\nloss_W_per_K = 0.06\nu_loss_W_per_K = 0.002\nenv_col = "room_C"\n'
         'kind = "warmer"\nsample_mass_g = 40.0\n'
     )
     d = json.loads(_report([str(toml), "--json"]).stdout)

@@ -98,3 +98,16 @@ def test_reduce_reads_the_demo_run_file(tmp_path):
     assert "Hess's law" in text.output and "kJ/mol" in text.output
     bad = CliRunner().invoke(main, ["reduce", str(tmp_path / "missing.toml")])
     assert bad.exit_code != 0 and "no such run file" in bad.output
+
+
+def test_demo_end_to_end_over_the_tcp_link(tmp_path):
+    """The path every system has (no pseudo-terminal): the same result over socket://."""
+    out = tmp_path / "demo"
+    r = CliRunner().invoke(main, ["demo", "--out", str(out), "--link", "tcp"])
+    assert r.exit_code == 0, r.output
+    assert "socket://127.0.0.1:" in r.stderr
+    d = json.loads((out / "results.json").read_text())
+    assert d["pull"]["pulled"] and len(d["simulator"]["runs"]) == 2
+    assert (
+        abs(d["enthalpy_kJ_per_mol"] - d["true_enthalpy_kJ_per_mol"]) <= d["U_enthalpy_kJ_per_mol"]
+    )

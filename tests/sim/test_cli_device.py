@@ -1,4 +1,4 @@
-"""The board commands through click's CliRunner against the simulator on a pty: JSON output,
+"""The board commands through click's CliRunner against the simulator on a pty and over TCP: JSON output,
 one-line errors, progress only on request and never on stdout."""
 
 import json
@@ -9,7 +9,7 @@ from click.testing import CliRunner
 
 from heatlog.cli import main
 from heatlog.sim import scenarios as sc
-from heatlog.sim.board import PtyServer
+from heatlog.sim.board import PtyServer, TcpServer, pty_available
 
 
 @pytest.fixture(autouse=True)
@@ -20,10 +20,18 @@ def run_archive(tmp_path, monkeypatch):
     return path
 
 
-@pytest.fixture
-def port(board, tmp_path):
-    server = PtyServer(board, tmp_path / "board.link", speed=20.0).start()
-    yield str(tmp_path / "board.link")
+@pytest.fixture(params=["pty", "tcp"])
+def port(request, board, tmp_path):
+    """The simulator on a pseudo-terminal (Linux, macOS) and on a local TCP socket (any system):
+    every board command works the same over both."""
+    if request.param == "pty":
+        if not pty_available():
+            pytest.skip("no pseudo-terminals on this system (or tty hidden)")
+        server = PtyServer(board, tmp_path / "board.link", speed=20.0)
+    else:
+        server = TcpServer(board, 0, speed=20.0)
+    server.start()
+    yield server.path
     server.close()
 
 
@@ -100,14 +108,26 @@ def test_ports_lists_as_json():
     assert r.exit_code == 0 and isinstance(json.loads(r.output)["ports"], list)
 
 
-def test_sim_command_serves_for_a_while_and_reports_its_truth(tmp_path):
+@pytest.mark.parametrize("how", ["pty", "tcp"])
+def test_sim_command_serves_for_a_while_and_reports_its_truth(tmp_path, how):
+    if how == "pty" and not pty_available():
+        pytest.skip("no pseudo-terminals on this system (or tty hidden)")
+    where = ["--link", str(tmp_path / "l")] if how == "pty" else ["--tcp", "0"]
     truth = tmp_path / "truth.json"
-    r = run("sim", "--link", str(tmp_path / "l"), "--scenario", "exothermic", "--seconds", "0.3",
+    r = run("sim", *where, "--scenario", "exothermic", "--seconds", "0.3",
             "--truth", str(truth), "--json")  # fmt: skip
     assert r.exit_code == 0, r.output
-    assert json.loads(r.output)["scenario"] == "exothermic" and truth.is_file()
-    r = run("sim", "--link", str(tmp_path / "l"), "--scenario", "nope", "--seconds", "0.1")
+    assert json.loads(r.stdout)["scenario"] == "exothermic" and truth.is_file()
+    if how == "tcp":  # the address a host needs, on stderr beside the clean JSON
+        assert "socket://127.0.0.1:" in r.stderr
+    r = run("sim", *where, "--scenario", "nope", "--seconds", "0.1")
     assert r.exit_code == 2 and "choose one of" in r.output
+
+
+def test_sim_needs_exactly_one_of_link_and_tcp(tmp_path):
+    for args in ([], ["--link", str(tmp_path / "l"), "--tcp", "0"]):
+        r = run("sim", "--seconds", "0.1", *args)
+        assert r.exit_code == 2 and "--link PATH" in r.output and "--tcp PORT" in r.output
 
 
 def test_a_pulled_and_calibrated_csv_goes_straight_into_reduce(port, tmp_path):
@@ -135,3 +155,14 @@ def test_a_pulled_and_calibrated_csv_goes_straight_into_reduce(port, tmp_path):
     # run 1 of the demo scenario: about 1467 J of heater into about 669 J/K (invented data), a
     # rise of about 2.19 K; the first hour holds the whole event and its after-period
     assert d["delta_t_K"] == pytest.approx(sc.HEATER.total_J / 669.4, rel=0.02)
+
+
+def test_sim_on_a_port_already_taken_is_one_line():
+    import socket
+
+    with socket.socket() as taken:
+        taken.bind(("127.0.0.1", 0))
+        taken.listen(1)
+        r = run("sim", "--tcp", str(taken.getsockname()[1]), "--seconds", "0.1")
+    assert r.exit_code != 0 and "Traceback" not in r.output
+    assert len(r.output.strip().splitlines()) == 1 and "choose another port" in r.output

@@ -53,7 +53,7 @@ def test_profile_recovers_the_simulated_heat_per_gram(name, tmp_path):
     csv, _ = export_run(board.root / "r0001.hlg", _probe_dir(tmp_path))
     r = CliRunner().invoke(main, [
         "profile", str(csv), "--heat-capacity", str(vessel.heat_capacity_J_per_K),
-        "--loss", str(vessel.exchange_W_per_K), "--env-temp", str(vessel.room_C),
+        "--loss", str(vessel.exchange_W_per_K), "--u-loss", "0", "--env-temp", str(vessel.room_C),
         "--sample-g", str(sample_g), "--kind", kind, "--json",
     ])  # fmt: skip
     assert r.exit_code == 0, r.output

@@ -1,6 +1,7 @@
 """Pulls from the virtual board (the real firmware) over an in-memory port and a pty: files
 identical to the board's flash, resumable, idempotent; erase only with a verified copy."""
 
+import socket
 import time
 
 import pytest
@@ -12,7 +13,7 @@ from heatlog.device.link import Link
 from heatlog.device.pull import erase, pull
 from heatlog.errors import InputError
 from heatlog.logformat import read_log
-from heatlog.sim.board import DirectPort, PtyServer, VirtualBoard
+from heatlog.sim.board import DirectPort, PtyServer, TcpServer, VirtualBoard
 from heatlog.sim.scenarios import scenario
 
 
@@ -105,6 +106,36 @@ def test_pull_over_a_pty_to_the_running_simulator(board, tmp_path):
     finally:
         server.close()
     assert archived(tmp_path / "a") == flash_runs(board) and len(rep.pulled) == 2
+
+
+def test_pull_over_tcp_to_the_running_simulator(board, tmp_path):
+    """The path every system has: pyserial's socket:// URL to the simulator's TCP server."""
+    server = TcpServer(board, 0, speed=10.0).start()
+    try:
+        assert server.url.startswith("socket://127.0.0.1:")
+        with Link.open(server.url) as link:
+            rep = pull(Board(link), Archive(tmp_path / "a"))
+        with Link.open(server.url) as link:  # a second session after the first closed
+            again = pull(Board(link), Archive(tmp_path / "a"))
+    finally:
+        server.close()
+    assert archived(tmp_path / "a") == flash_runs(board) and len(rep.pulled) == 2
+    assert not again.pulled and len(again.already) == 2
+    assert server.connections == 2
+
+
+def test_tcp_server_refuses_a_second_host_like_a_busy_port(board):
+    server = TcpServer(board, 0, speed=10.0).start()
+    try:
+        with Link.open(server.url, timeout=0.5) as link:
+            Board(link).identify()
+            second = socket.create_connection(("127.0.0.1", server.port), timeout=2)
+            second.settimeout(2)
+            assert second.recv(10) == b""  # closed at once: the first host keeps the board
+            second.close()
+            assert Board(link).identify().board_id
+    finally:
+        server.close()
 
 
 def test_a_board_reset_mid_pull_resumes_to_identical_files(board, tmp_path):

@@ -11,8 +11,11 @@ Two kinds of run:
 
 Each import is one transaction: the run, its channels, its board, probe files and dependencies
 are all committed together or not at all. Importing the same file again returns the run already
-recorded. Raw files stay where they are; the archive keeps their absolute path and SHA-256 and
-checks the bytes on every read (:func:`raw_bytes`).
+recorded. Raw files stay where they are; the archive keeps their path and SHA-256 and checks the
+bytes on every read (:func:`raw_bytes`). Paths are stored relative to the archive file's folder
+with forward slashes when the file lies inside that folder (so a project folder moves, or goes to
+another system, whole), else absolute; both separators read back on any system
+(:mod:`heatlog.storedpath`).
 
 The run's date (what the calibration rule compares) is the clock anchor's UTC date for a board
 log whose clock was set, else the date given on import, else the import date.
@@ -35,6 +38,7 @@ from heatlog.archive.rawfiles import ChecksumMismatch, read_bytes, read_verified
 from heatlog.errors import HeatlogError, InputError
 from heatlog.logformat import LogHeader, RunLog, decode, parse_header
 from heatlog.runfile import parse_run
+from heatlog.storedpath import resolve_stored, to_stored
 
 
 @dataclass(frozen=True)
@@ -92,11 +96,12 @@ def _record_device_log(
     digest: str,
     run_date: dt.date | str | None,
     source: str,
+    base: Path,
 ) -> ImportedRun:
     identity = f"log:{digest}"
     old = _existing(conn, identity)
     if old is not None:
-        return ImportedRun(old["id"], False, old["kind"], old["raw_path"], digest)
+        return ImportedRun(old["id"], False, old["kind"], _shown(old["raw_path"], base), digest)
     h = log.header
     if h.anchor_ms is not None:
         date = dt.datetime.fromtimestamp(h.anchor_ms / 1000, dt.UTC).date().isoformat()
@@ -121,7 +126,7 @@ def _record_device_log(
             "kind": "device-log",
             "identity": identity,
             "title": f"{h.board_id} run {h.run}",
-            "raw_path": str(path),
+            "raw_path": to_stored(path, base),
             "raw_sha256": digest,
             "raw_size": size,
             "board": _board(conn, h),
@@ -145,6 +150,16 @@ def _record_device_log(
             (run_id, i, ch.probe_id or None, ch.kind, spec),
         )
     return ImportedRun(run_id, True, "device-log", str(path), digest)
+
+
+def archive_dir(archive: Archive) -> Path:
+    """The folder stored paths are relative to: the archive file's own."""
+    return Path(archive.path).resolve().parent
+
+
+def _shown(stored: str, base: Path) -> str:
+    """A stored path as a full path on this system (either separator; old absolute ones kept)."""
+    return str(resolve_stored(stored, base))
 
 
 def _archive(db: Archive | str | Path | None) -> tuple[Archive, bool]:
@@ -180,7 +195,9 @@ def record_pulled_run(
                 )
         log = decode(data)  # before the transaction: the write lock is held only to insert
         with archive.transaction() as conn:
-            return _record_device_log(conn, path, log, len(data), sha256.lower(), run_date, "pull")
+            return _record_device_log(
+                conn, path, log, len(data), sha256.lower(), run_date, "pull", archive_dir(archive)
+            )
     finally:
         if owned:
             archive.close()
@@ -194,7 +211,9 @@ def import_device_log(
     data = read_bytes(p, "run log")
     log = decode(data)  # LogCorrupt for an unusable header; damaged blocks are counted
     with archive.transaction() as conn:
-        return _record_device_log(conn, p, log, len(data), sha256_bytes(data), run_date, "file")
+        return _record_device_log(
+            conn, p, log, len(data), sha256_bytes(data), run_date, "file", archive_dir(archive)
+        )
 
 
 def _record_run_file(
@@ -220,7 +239,9 @@ def _record_run_file(
     identity = f"run-file:{run_sha}:{log_sha}"
     old = _existing(conn, identity)
     if old is not None:
-        return ImportedRun(old["id"], False, "run-file", old["raw_path"], log_sha)
+        return ImportedRun(
+            old["id"], False, "run-file", _shown(old["raw_path"], archive_dir(archive)), log_sha
+        )
     deps = tuple(
         _record_run_file(conn, archive, p.resolve(), run_date, (*seen, path)).run_id
         for p in spec.calibrations
@@ -246,10 +267,10 @@ def _record_run_file(
             "kind": "run-file",
             "identity": identity,
             "title": spec.title,
-            "raw_path": str(log_path),
+            "raw_path": to_stored(log_path, archive_dir(archive)),
             "raw_sha256": log_sha,
             "raw_size": len(log_bytes),
-            "run_file_path": str(path),
+            "run_file_path": to_stored(path, archive_dir(archive)),
             "run_file_sha256": run_sha,
             "run_file_text": text,
             "run_date": dated[0],
@@ -350,10 +371,14 @@ def run_record(archive: Archive, run_id: int) -> RunRecord:
         id=row["id"],
         kind=row["kind"],
         title=row["title"],
-        raw_path=row["raw_path"],
+        raw_path=_shown(row["raw_path"], archive_dir(archive)),
         raw_sha256=row["raw_sha256"],
         raw_size=row["raw_size"],
-        run_file_path=row["run_file_path"],
+        run_file_path=(
+            None
+            if row["run_file_path"] is None
+            else _shown(row["run_file_path"], archive_dir(archive))
+        ),
         run_file_sha256=row["run_file_sha256"],
         run_file_text=row["run_file_text"],
         board_id=row["board_name"],
@@ -391,4 +416,8 @@ def list_runs(archive: Archive, probe_id: str | None = None) -> list[dict[str, A
     if probe_id is not None:
         sql += " WHERE runs.id IN (SELECT run_id FROM run_channels WHERE probe_id = ?)"
         params = (probe_id,)
-    return [dict(r) for r in archive.query(sql + " ORDER BY runs.id DESC", params)]
+    base = archive_dir(archive)
+    return [
+        dict(r) | {"raw_path": _shown(r["raw_path"], base)}
+        for r in archive.query(sql + " ORDER BY runs.id DESC", params)
+    ]

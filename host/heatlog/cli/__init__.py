@@ -8,6 +8,7 @@ below a command ends as one line on stderr and a non-zero exit code, never a tra
 from __future__ import annotations
 
 import importlib
+from typing import Any
 
 import click
 
@@ -23,6 +24,13 @@ class _UserError(click.ClickException):
 
 class _Group(click.Group):
     """A group that turns user errors into one clean line."""
+
+    def main(self, *args: Any, **kwargs: Any) -> Any:
+        # A narrow output encoding (cp1252, ascii) gets ASCII spellings, never a traceback.
+        from heatlog.cli.asciitext import narrow_streams
+
+        with narrow_streams():
+            return super().main(*args, **kwargs)
 
     def invoke(self, ctx: click.Context) -> object:
         try:

@@ -45,17 +45,29 @@ def _heater_line(cal: Any, d: dict[str, Any]) -> list[str]:
     show_default=True,
     help="Folder for the demo's probe file, raw logs, run files and results.",
 )
+@click.option(
+    "--link",
+    "link",
+    type=click.Choice(["auto", "pty", "tcp"]),
+    default="auto",
+    show_default=True,
+    help="How to reach the virtual board: a pseudo-terminal (Linux, macOS), a local TCP socket "
+    "(any system), or auto (the pty where there is one, else TCP).",
+)
 @json_option
-def demo(out: Path, as_json: bool) -> None:
+def demo(out: Path, link: str, as_json: bool) -> None:
     """Simulate a board, pull its runs and measure a dissolution enthalpy (invented data).
 
-    Starts the virtual board (the real firmware under the simulator) on a pseudo-terminal, logs
+    Starts the virtual board (the real firmware under the simulator) on a pseudo-terminal or a
+    local TCP socket, logs
     an electrical calibration and an ammonium nitrate dissolution, pulls and verifies them,
     applies the probe calibration and reduces both runs; prints the result beside the truth."""
     from heatlog.demo import run_demo
     from heatlog.report.sources import write_report
 
-    result = run_demo(out, say=(lambda s: None) if as_json else (lambda s: click.echo(s, err=True)))
+    result = run_demo(
+        out, say=(lambda s: None) if as_json else (lambda s: click.echo(s, err=True)), link=link
+    )
     payload = result.to_dict()
     (out / "results.json").write_text(json.dumps(jsonable(payload), indent=2), encoding="utf-8")
     write_report(result.run, out / "report.html", probe_points=EXAMPLE_POINTS)

@@ -39,7 +39,12 @@ timeout_option = click.option(
 def _board(port: str, baud: int, timeout: float) -> Any:
     from heatlog.device.commands import Board
     from heatlog.device.link import Link
+    from heatlog.device.portlock import PortLock
 
+    # one heatlog process per port (a `watch` elsewhere would swallow the replies); the lock
+    # is held until this command ends
+    lock = PortLock(port).acquire()
+    click.get_current_context().call_on_close(lock.release)
     return Board(Link.open(port, baudrate=baud, timeout=timeout))
 
 
@@ -372,8 +377,11 @@ def watch(
 
 
 @click.command("sim")
-@click.option("--link", "link_path", type=click.Path(dir_okay=False, path_type=Path), required=True,
-              help="Where to put the symlink to the virtual board's pseudo-terminal.")  # fmt: skip
+@click.option("--link", "link_path", type=click.Path(dir_okay=False, path_type=Path), default=None,
+              help="Where to put the symlink to the virtual board's pseudo-terminal (Linux, macOS).")  # fmt: skip
+@click.option("--tcp", "tcp_port", type=click.IntRange(0, 65535), default=None,
+              help="Serve the board on 127.0.0.1:PORT instead (any system; 0 picks a free port); "
+              "open it as --port socket://127.0.0.1:PORT.")  # fmt: skip
 @click.option("--scenario", default="demo", show_default=True, help="Invented scenario: demo, calibration, "
               "endothermic, exothermic, hand-warmer, cement.")  # fmt: skip
 @click.option(
@@ -400,28 +408,46 @@ def watch(
 @click.option("--seconds", type=float, default=None, help="Stop after this many real seconds.")
 @click.option("--seed", type=int, default=0, show_default=True, help="Seed of the ADC noise.")
 @json_option
-def sim(link_path: Path, scenario: str, speed: float, flash_dir: Path | None, truth_path: Path | None,
+def sim(link_path: Path | None, tcp_port: int | None, scenario: str, speed: float, flash_dir: Path | None, truth_path: Path | None,
         board_id: str, baud: int | None, latency_ms: float, seconds: float | None, seed: int, as_json: bool) -> None:  # fmt: skip
-    """Run a virtual board (the real firmware) on a pseudo-terminal at LINK until stopped."""
+    """Run a virtual board (the real firmware) until stopped: on a pseudo-terminal linked at
+    --link (Linux, macOS), or on a local TCP socket with --tcp (any system)."""
     import tempfile
 
-    from heatlog.sim.board import PtyServer, VirtualBoard
+    from heatlog.sim.board import PtyServer, TcpServer, VirtualBoard
     from heatlog.sim.scenarios import scenario as get_scenario
 
+    if (link_path is None) == (tcp_port is None):
+        raise click.UsageError(
+            "give --link PATH (a pseudo-terminal, Linux/macOS) or --tcp PORT (any system), one of them"
+        )
     scn = get_scenario(scenario)
     tmp = None
     if flash_dir is None:
         tmp = tempfile.TemporaryDirectory(prefix="heatlog-sim-")
         flash_dir = Path(tmp.name)
     board = VirtualBoard(scn, flash_dir, board_id=board_id, seed=seed)
-    server = PtyServer(
-        board, link_path, speed=speed, baud=baud, latency_s=latency_ms / 1000, truth_path=truth_path
-    )
+    pacing: dict[str, Any] = {"speed": speed, "baud": baud, "latency_s": latency_ms / 1000,
+                              "truth_path": truth_path}  # fmt: skip
+    server: PtyServer | TcpServer
+    try:
+        if tcp_port is not None:
+            server = TcpServer(board, tcp_port, **pacing)
+            where = f"on {server.url} (open it as --port {server.url})"
+        else:
+            server = PtyServer(board, link_path, **pacing)
+            where = f"on {server.port}, linked at {link_path}"
+    except BaseException:
+        if tmp is not None:
+            tmp.cleanup()
+        raise
     if not as_json:
-        click.echo(f"virtual board {board_id} ({scn.name}: {scn.description}; invented data) on {server.port}, "
-                   f"linked at {link_path}; speed x{speed:g}. Ctrl-C stops.", err=True)  # fmt: skip
+        click.echo(f"virtual board {board_id} ({scn.name}: {scn.description}; invented data) {where}; "
+                   f"speed x{speed:g}. Ctrl-C stops.", err=True)  # fmt: skip
         if scn.caution:
             click.echo(scn.caution, err=True)
+    elif tcp_port is not None:  # stdout stays one JSON object; the address a host needs on stderr
+        click.echo(f"virtual board {board_id} {where}", err=True)
     signal.signal(signal.SIGTERM, lambda *_: server.request_stop())
     try:
         server.serve(seconds)

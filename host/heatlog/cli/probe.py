@@ -358,3 +358,37 @@ def design_command(
         return "\n".join(lines)
 
     emit(as_json, design.to_dict(), text)
+
+
+@probe.command("tau")
+@click.argument("plunge", type=click.Path(dir_okay=False, path_type=Path))
+@click.option("--time-col", default="time_s", show_default=True, help="Column with the time (s).")
+@click.option("--temp-col", default="temp_C", show_default=True, help="Column with the reading °C.")
+@json_option
+def tau_command(plunge: Path, time_col: str, temp_col: str, as_json: bool) -> None:
+    """The probe's time constant from a plunge test in PLUNGE (CSV): the probe moved quickly
+    from air or one stirred bath into another, logged fast (several readings per τ)."""
+    from heatlog.profile.lag import plunge_fit
+
+    cols = read_columns(plunge, [time_col, temp_col], what="plunge test")
+    lookup = {k.lower(): v for k, v in cols.items()}
+    fit = plunge_fit(lookup[time_col.lower()], lookup[temp_col.lower()])
+    cautions = bath_cautions(np.array([fit.initial_C, fit.final_C]))
+    payload = {"file": str(plunge), **fit.to_dict(), "cautions": cautions}
+
+    def text() -> str:
+        lines = [
+            f"{plunge}: first-order step from {fit.initial_C:.3g} °C to {fit.final_C:.3g} °C "
+            f"at {fit.start_s:.4g} s ({fit.samples} readings)",
+            f"  τ = {fit.tau_s:.3g} s, u = {fit.u_tau_s:.2g} s (k=1), "
+            f"U(k=2) = {2 * fit.u_tau_s:.2g} s",
+            f"  residual rms {fit.residual_K:.2g} K, reading noise {fit.noise_K:.2g} K",
+            "  for the probe file:",
+            f"    time_constant_s = {fit.tau_s:.4g}",
+            f"    u_time_constant_s = {fit.u_tau_s:.2g}",
+        ]
+        lines += [f"WARNING: {w}" for w in fit.warnings]
+        lines += [f"Caution: {c}" for c in cautions]
+        return "\n".join(lines)
+
+    emit(as_json, payload, text)

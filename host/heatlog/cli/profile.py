@@ -10,6 +10,7 @@ from heatlog.cli.output import emit, json_option
 from heatlog.csvtable import read_columns
 from heatlog.errors import InputError
 from heatlog.gum import Input
+from heatlog.probes.probefile import load_probe
 from heatlog.profile import KINDS, GapPolicy, ProfileResult, ProfileSettings, Thresholds
 from heatlog.profile.analysis import DEFAULT_U_ENV_K, DEFAULT_U_TEMP_K, analyse_profile
 from heatlog.profile.logcheck import DEFAULT_GAP_FACTOR
@@ -47,10 +48,15 @@ def _text(result: ProfileResult, source: str) -> str:
         b = result.budget_per_g
         lines.append(
             f"  Q/m = {b.value:.4g} J/g, u = {b.u:.2g} J/g, U(k=2) = {b.expanded:.2g} J/g; "
-            f"peak rate {d['peak_rate_mW_per_g']:.3g} mW/g at {_h(d['time_of_peak_rate_s'])}"
+            f"peak rate {d['peak_rate_mW_per_g']:.3g} mW/g, "
+            f"u = {1e3 * d['u_peak_rate_W'] / d['sample_g']:.2g} mW/g (k=1), at "
+            f"{_h(d['time_of_peak_rate_s'])} (window {result.peak.window_s:.3g} s)"
         )
     else:
-        lines.append(f"  peak rate {d['peak_rate_W']:.3g} W at {_h(d['time_of_peak_rate_s'])}")
+        lines.append(
+            f"  peak rate {d['peak_rate_W']:.3g} W, u = {d['u_peak_rate_W']:.2g} W (k=1), at "
+            f"{_h(d['time_of_peak_rate_s'])} (window {result.peak.window_s:.3g} s)"
+        )
     lines.append(
         f"  {'lowest' if m.side == 'below' else 'peak'} {m.peak_C:.2f} ± {m.u_peak_C:.2g} °C (u, k=1) at {_h(m.time_to_peak_s, m.u_time_to_peak_s)}"
     )
@@ -85,13 +91,40 @@ def _text(result: ProfileResult, source: str) -> str:
             )
     lines += ["", result.budget.table(), ""]
     lines += [f"{f.level.upper()}: {f.message} [{f.source}]" for f in result.safety]
-    lines += [f"note: {n}" for n in result.notes]
+    lines += [n if n.startswith("WARNING:") else f"note: {n}" for n in result.notes]
+    lines += [f"WARNING: {w}" for w in result.warnings]
     lines.append(CAUTION)
     return "\n".join(lines)
 
 
 def _quantity(value: float | None, u: float, unit: str) -> Input | None:
     return None if value is None else Input(value, u, unit)
+
+
+def _probe_tau(tau: float | None, u_tau: float | None, probe_path: str | None) -> Input | None:
+    """τ from --probe-tau (with --u-probe-tau) or from a probe file's time_constant_s."""
+    if tau is not None and probe_path is not None:
+        raise InputError("give --probe-tau or --probe, not both")
+    if tau is not None:
+        if u_tau is None:
+            raise InputError("give the standard uncertainty of --probe-tau (--u-probe-tau s)")
+        return Input(tau, u_tau, "s", note="--probe-tau")
+    if u_tau is not None:
+        raise InputError("--u-probe-tau needs --probe-tau")
+    if probe_path is None:
+        return None
+    probe = load_probe(probe_path)
+    if probe.time_constant_s is None:
+        raise InputError(
+            f"{probe_path}: the probe file has no time_constant_s; measure it with "
+            "'heatlog probe tau PLUNGE.csv' or give --probe-tau"
+        )
+    return Input(
+        probe.time_constant_s,
+        probe.u_time_constant_s or 0.0,
+        "s",
+        note=f"probe file {probe.id}",
+    )
 
 
 @click.command("profile")
@@ -117,14 +150,20 @@ def _quantity(value: float | None, u: float, unit: str) -> Input | None:
 )
 @click.option("--u-heat-capacity", type=click.FloatRange(min=0.0), default=0.0, show_default=True)
 @click.option("--loss", type=float, default=None, help="Heat-loss coefficient G, W/K.")
-@click.option("--u-loss", type=click.FloatRange(min=0.0), default=0.0, show_default=True)
+@click.option(
+    "--u-loss",
+    type=click.FloatRange(min=0.0),
+    default=None,
+    help="Standard uncertainty of G, W/K; required with --loss (0 is accepted and flagged).",
+)
 @click.option(
     "--cooling-fit",
     "cooling_after",
     type=float,
     default=None,
     metavar="SECONDS",
-    help="Fit G/C by Newton's law on the tail after this time (no heat released there).",
+    help="Fit G/C by Newton's law on the tail starting this many seconds after the segment "
+    "start (the time base of everything printed); no heat may be released there.",
 )
 @click.option("--sample-g", type=float, default=None, help="Sample (binder) mass, g.")
 @click.option("--u-sample-g", type=click.FloatRange(min=0.0), default=0.0, show_default=True)
@@ -204,6 +243,26 @@ def _quantity(value: float | None, u: float, unit: str) -> Input | None:
     show_default=True,
     help="Reference temperature for equivalent age, °C (cement).",
 )
+@click.option(
+    "--probe-tau",
+    type=click.FloatRange(min=0.0),
+    default=None,
+    metavar="SECONDS",
+    help="The probe's time constant: its lag is corrected (T + τ·dT/dt) and u(τ) budgeted.",
+)
+@click.option(
+    "--u-probe-tau",
+    type=click.FloatRange(min=0.0),
+    default=None,
+    help="Standard uncertainty of --probe-tau, s (required with it).",
+)
+@click.option(
+    "--probe",
+    "probe_path",
+    type=click.Path(dir_okay=False, path_type=str),
+    default=None,
+    help="Probe file whose time_constant_s (heatlog probe tau) corrects the lag.",
+)
 @json_option
 def profile(
     file: str,
@@ -216,7 +275,7 @@ def profile(
     heat_capacity: float | None,
     u_heat_capacity: float,
     loss: float | None,
-    u_loss: float,
+    u_loss: float | None,
     cooling_after: float | None,
     sample_g: float | None,
     u_sample_g: float,
@@ -233,6 +292,9 @@ def profile(
     activation: float,
     u_activation: float,
     reference: float,
+    probe_tau: float | None,
+    u_probe_tau: float | None,
+    probe_path: str | None,
     as_json: bool,
 ) -> None:
     """Cumulative heat Q(t), rate P(t), metrics, safety flags (and maturity for cement) of a long
@@ -249,14 +311,20 @@ def profile(
             raise InputError(
                 "give the heat capacity of box, contents and sample (--heat-capacity J/K)"
             )
+        if loss is not None and u_loss is None:
+            raise InputError(
+                "give the standard uncertainty of the heat-loss coefficient (--u-loss W/K); "
+                "--u-loss 0 accepts a G without uncertainty and flags the result"
+            )
         if env_col is not None and env_temp is not None:
             raise InputError("give either --env-col or --env-temp, not both")
+        tau = _probe_tau(probe_tau, u_probe_tau, probe_path)
         th = None
         if threshold is not None or band is not None:
             th = Thresholds(threshold, band, "given")
         settings = ProfileSettings(
             heat_capacity=Input(heat_capacity, u_heat_capacity, "J/K"),
-            loss=_quantity(loss, u_loss, "W/K"),
+            loss=_quantity(loss, u_loss or 0.0, "W/K"),
             cooling_fit_after_s=cooling_after,
             env_C=env_temp,
             u_env_K=u_env_temp,
@@ -273,6 +341,7 @@ def profile(
             activation_K=activation,
             u_activation_K=u_activation,
             reference_C=reference,
+            probe_tau=tau,
         )
         optional = [c for c in (env_col, flags_col) if c]
         data = read_columns(Path(file), [time_col, temp_col, *optional], what="log")

@@ -60,6 +60,10 @@ class LinkStats:
 def open_port(url: str, baudrate: int = 115200) -> Any:
     """Open a port by path or pyserial URL (``loop://``, ``/dev/ttyACM0``, a pty symlink)."""
     try:
+        if url.lower().startswith("socket://"):  # the simulator's TCP server, any system
+            from heatlog.device.sockport import SocketSerial
+
+            return SocketSerial(url, baudrate=baudrate, timeout=0.02, write_timeout=2.0)
         return serial.serial_for_url(url, baudrate=baudrate, timeout=0.02, write_timeout=2.0)
     except (serial.SerialException, ValueError, OSError) as exc:
         raise LinkError(f"cannot open {url}: {exc}; list boards with `heatlog ports`") from None

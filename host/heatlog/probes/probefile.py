@@ -15,6 +15,9 @@ Example (all keys but ``fit`` and ``constants`` are required)::
     B = 2.34125e-4
     C = 8.76741e-8
 
+    time_constant_s = 4.2          # optional: first-order response time (plunge test) and its
+    u_time_constant_s = 0.3        # standard uncertainty; both or neither (heatlog probe tau)
+
     [constants]                    # stated, not fitted (β model: T25_C)
     [fit]                          # optional summary: n_points, dof, rms_residual_K, ...
 
@@ -50,7 +53,7 @@ _REQUIRED = (
     "uncertainty_K",
     "coefficients",
 )
-_OPTIONAL = ("constants", "fit")
+_OPTIONAL = ("constants", "fit", "time_constant_s", "u_time_constant_s")
 _CONSTANTS = ("T25_C",)
 
 
@@ -64,6 +67,8 @@ class ProbeFile:
     reference: str
     uncertainty_K: float  # standard uncertainty (k = 1) of a temperature from this probe
     fit: dict[str, Any] = field(default_factory=dict)
+    time_constant_s: float | None = None  # first-order response time, s (plunge test)
+    u_time_constant_s: float | None = None
 
     @property
     def kind(self) -> str:
@@ -109,6 +114,9 @@ class ProbeFile:
         t25 = getattr(self.model, "T25_C", None)
         if t25 is not None:
             doc["constants"] = {"T25_C": float(t25)}
+        if self.time_constant_s is not None:
+            doc["time_constant_s"] = float(self.time_constant_s)
+            doc["u_time_constant_s"] = float(self.u_time_constant_s or 0.0)
         if self.fit:
             doc["fit"] = dict(self.fit)
         return doc
@@ -219,7 +227,22 @@ def parse_probe(text: str, where: str = "probe file") -> ProbeFile:
         model = build_model(name, coeffs, (float(rng[0]), float(rng[1])), **constants)
     except HeatlogError as exc:
         raise CalibrationError(f"{where}: {exc}") from None
-    return ProbeFile(probe_id, model, date, doc["reference"].strip(), u, fit)
+    tau = u_tau = None
+    if ("time_constant_s" in doc) != ("u_time_constant_s" in doc):
+        raise CalibrationError(
+            f"{where}: give time_constant_s and u_time_constant_s together (or neither)"
+        )
+    if "time_constant_s" in doc:
+        tau, u_tau = (
+            _number(doc, "time_constant_s", where),
+            _number(doc, "u_time_constant_s", where),
+        )
+        if not (0 <= tau <= 3600.0 and u_tau >= 0):
+            raise CalibrationError(
+                f"{where}: time_constant_s must lie in 0–3600 s and u_time_constant_s be ≥ 0, "
+                f"got {tau:g} and {u_tau:g}"
+            )
+    return ProbeFile(probe_id, model, date, doc["reference"].strip(), u, fit, tau, u_tau)
 
 
 def _check_covariance(fit: dict[str, Any], where: str) -> None:

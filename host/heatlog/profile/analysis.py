@@ -12,7 +12,8 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
+from functools import cached_property
 from typing import Any
 
 import numpy as np
@@ -27,7 +28,8 @@ from heatlog.profile.heatloss import (
     given_loss,
     loss_from_cooling,
 )
-from heatlog.profile.logcheck import DEFAULT_GAP_FACTOR, GapPolicy, LogCheck, check_log
+from heatlog.profile.lag import LagCorrection, correct_lag, smoothed_slope
+from heatlog.profile.logcheck import DEFAULT_GAP_FACTOR, GapPolicy, LogCheck, Segment, check_log
 from heatlog.profile.maturity import (
     DEFAULT_ACTIVATION_K,
     DEFAULT_DATUM_C,
@@ -36,7 +38,9 @@ from heatlog.profile.maturity import (
     maturity,
 )
 from heatlog.profile.metrics import DEFAULT_THRESHOLDS, KINDS, Metrics, Thresholds, metrics
+from heatlog.profile.peakrate import PeakRate, peak_rate
 from heatlog.profile.safety import SafetyFlag, safety_flags
+from heatlog.profile.tailcheck import TailDrift, tail_drift
 from heatlog.thermogram import Thermogram
 
 METHOD = (
@@ -61,7 +65,7 @@ class ProfileSettings:
 
     heat_capacity: Input
     loss: Input | None = None
-    cooling_fit_after_s: float | None = None
+    cooling_fit_after_s: float | None = None  # seconds from the segment start
     env_C: float | None = None
     u_env_K: float = DEFAULT_U_ENV_K
     sample_g: Input | None = None
@@ -77,6 +81,7 @@ class ProfileSettings:
     activation_K: float = DEFAULT_ACTIVATION_K
     u_activation_K: float = 0.0
     reference_C: float = DEFAULT_REFERENCE_C
+    probe_tau: Input | None = None  # the probe's time constant (s) with its uncertainty
 
     def __post_init__(self) -> None:
         if self.kind not in KINDS:
@@ -167,13 +172,29 @@ class ProfileResult:
             out["equivalent_age_h"] = self.maturity.equivalent_age_h[idx].tolist()
         return out
 
+    @cached_property
+    def drift(self) -> TailDrift | None:
+        """Q(t) still drifting at the end in step with the loss integral (not for cement)."""
+        return None if self.settings.kind == "cement" else tail_drift(self.heat)
+
+    @cached_property
+    def peak(self) -> PeakRate:
+        """The peak rate with a window fitted to the event (:mod:`heatlog.profile.peakrate`)."""
+        sign = -1.0 if self.settings.kind == "pack" else 1.0
+        return peak_rate(self.heat, sign, self.settings.rate_window_s)
+
+    @property
+    def warnings(self) -> list[str]:
+        """Warnings found on the result (peak rate, Q drifting at the end)."""
+        out = list(self.peak.warnings)
+        if self.drift is not None:
+            out.append(self.drift.message())
+        return out
+
     def peak_rate(self) -> tuple[float, float, float]:
         """Largest |P| (W, signed), its time from the segment start (s) and its uncertainty (W)."""
-        h = self.heat
-        rate = np.where(np.isfinite(h.rate_W), h.rate_W, 0.0)
-        sign = -1.0 if self.settings.kind == "pack" else 1.0
-        i = int(np.argmax(sign * rate))
-        return float(rate[i]), float(h.time_s[i] - h.time_s[0]), float(h.u_rate_at(i)[0])
+        p = self.peak
+        return p.rate_W, p.time_s, p.u_rate_W
 
     def to_dict(self) -> dict[str, Any]:
         s = self.settings
@@ -193,10 +214,12 @@ class ProfileResult:
             "peak_rate_W": rate,
             "u_peak_rate_W": u_rate,
             "time_of_peak_rate_s": t_rate,
+            "peak_rate": self.peak.to_dict(),
             "profile": heat,
             "metrics": self.metrics.to_dict(),
             "safety": [f.to_dict() for f in self.safety],
-            "notes": list(self.notes),
+            "notes": list(self.notes) + [f"WARNING: {w}" for w in self.warnings],
+            "tail_drift": None if self.drift is None else self.drift.to_dict(),
         }
         if self.budget_per_g is not None and s.sample_g is not None:
             out.update(
@@ -210,6 +233,7 @@ class ProfileResult:
             )
         if self.cooling is not None:
             out["cooling_fit"] = self.cooling.to_dict()
+        out["probe_lag"] = None if self.heat.lag is None else self.heat.lag.to_dict()
         if self.maturity is not None:
             out["maturity"] = self.maturity.to_dict()
             out["heat_at_ages"] = self.heat_at_hours(CEMENT_AGES_H)
@@ -254,12 +278,68 @@ def _notes(
         notes.append("no sample mass given: per-gram figures omitted (--sample-g)")
     if settings.heat_capacity.u == 0:
         notes.append("u(C) not given and taken as 0: the budget is too small (--u-heat-capacity)")
-    if heat.loss.u_G_W_per_K == 0 and heat.loss.G_W_per_K > 0:
-        notes.append("u(G) not given and taken as 0: the budget is too small (--u-loss)")
+    if heat.loss.u_G_W_per_K == 0:
+        notes.append(
+            "u(G) explicitly set to 0: the budget leaves out the heat-loss coefficient's "
+            "uncertainty and is too small unless G is exact"
+        )
     notes.append(
         "C must be the heat capacity of everything that warms: box, contents and the sample itself"
     )
     return notes
+
+
+#: A probe time constant typical of a thermistor in a thin sheath in still liquid, used only to
+#: size the warning when none is given (common practice, no source).
+TYPICAL_PROBE_TAU_S = 10.0
+
+
+def _lag_notes(
+    lagc: LagCorrection | None, seg: Segment, settings: ProfileSettings, heat: HeatProfile
+) -> list[str]:
+    if lagc is not None:
+        return [
+            f"probe lag corrected with τ = {lagc.tau.value:g} s, u = {lagc.tau.u:.2g} s (k=1) "
+            f"({lagc.tau.note or 'given'}); slope smoothed over {lagc.window_s:.3g} s; the "
+            f"correction reaches {lagc.max_shift_K:.2g} K"
+        ]
+    t = seg.time_s
+    if t.size < 9:
+        return []
+    slope = smoothed_slope(t, seg.temp_C, 7 * float(np.median(np.diff(t))))
+    shift = TYPICAL_PROBE_TAU_S * float(np.max(np.abs(slope)))
+    dq = settings.heat_capacity.value * shift
+    u_q = float(np.max(heat.u_heat_J))
+    if shift <= 0.2 * math.hypot(settings.u_temp_K, heat.u_reading_K) and dq <= 0.2 * u_q:
+        return []
+    return [
+        f"WARNING: probe time constant not given, so its lag is neither corrected nor in the "
+        f"budget: the curve moves up to {60 * float(np.max(np.abs(slope))):.2g} K/min, so a "
+        f"τ of {TYPICAL_PROBE_TAU_S:g} s would shift readings by up to {shift:.2g} K and Q by up "
+        f"to {dq:.2g} J; give --probe-tau (or time_constant_s in the probe file)"
+    ]
+
+
+def _fit_notes(fit: CoolingFit | None, t0: float, kind: str) -> list[str]:
+    if fit is None:
+        return []
+    if kind == "cement":
+        caution = [
+            "WARNING: a setting material releases heat for weeks, so a cooling fit on its own "
+            "tail takes that release for slower cooling and G comes out low; a release decaying "
+            "as slowly as the box cools cannot be told from cooling by any fit. Calibrate the "
+            "box with a heater (electrical calibration) and give G"
+        ]
+    else:
+        caution = []
+    k, u_stat, u_rel = fit.rate_per_s, fit.u_rate_per_s, fit.u_release_per_s
+    notes = [
+        f"cooling fit from {fit.start_s - t0:g} s to {fit.end_s - t0:g} s after the segment start: "
+        f"k = G/C = {k:.4g} 1/s, u = {fit.u_total_per_s:.2g} 1/s (k=1; statistical "
+        f"{u_stat:.2g}, release still under way {u_rel:.2g}); "
+        f"residual rms {fit.residual_K:.2g} K = {fit.residual_ratio:.2g}× the reading noise"
+    ]
+    return notes + [f"WARNING: {w}" for w in fit.warnings] + caution
 
 
 def analyse_profile(
@@ -292,11 +372,29 @@ def analyse_profile(
             f"segment(s) numbered from 0"
         )
     seg = check.segments[s.segment]
+    lagc = None
+    if s.probe_tau is not None:
+        lagc = correct_lag(seg.time_s, seg.temp_C, s.probe_tau)
+        seg = replace(seg, temp_C=lagc.corrected_C)
     fit = None
     if s.loss is not None:
         loss: HeatLoss = given_loss(s.loss)
     else:
-        fit = cooling_fit(seg.time_s, seg.temp_C, seg.env_C, start_s=s.cooling_fit_after_s)
+        after = float(s.cooling_fit_after_s or 0.0)
+        if not (math.isfinite(after) and 0.0 <= after < seg.duration_s):
+            raise InputError(
+                f"{where}: the cooling fit starts {after:g} s after the segment start (time is "
+                f"counted from the segment start, as printed), but segment {s.segment} lasts "
+                f"{seg.duration_s:g} s; give a start inside it"
+            )
+        fit = cooling_fit(
+            seg.time_s,
+            seg.temp_C,
+            seg.env_C,
+            start_s=seg.time_s[0] + after,
+            resolution_K=s.resolution_K,
+            origin_s=float(seg.time_s[0]),
+        )
         loss = loss_from_cooling(fit, s.heat_capacity)
     heat = heat_profile(
         seg,
@@ -306,6 +404,7 @@ def analyse_profile(
         resolution_K=s.resolution_K,
         rate_window_s=s.rate_window_s,
         gap_policy=s.gap_policy,
+        lag=lagc,
     )
     skip = seg.excluded(s.gap_policy)
     u_t = math.hypot(s.u_temp_K, heat.u_reading_K)
@@ -335,7 +434,11 @@ def analyse_profile(
         safety=tuple(safety_flags(seg.time_s, seg.temp_C, kind=s.kind, skip=skip)),
         maturity=mat,
         cooling=fit,
-        notes=tuple(_notes(check, s.segment, heat, s)),
+        notes=tuple(
+            _notes(check, s.segment, heat, s)
+            + _fit_notes(fit, seg.time_s[0], s.kind)
+            + _lag_notes(lagc, seg, s, heat)
+        ),
     )
 
 
@@ -393,6 +496,8 @@ _TABLE_KEYS = {
     "activation_K",
     "u_activation_K",
     "reference_C",
+    "probe_time_constant_s",
+    "u_probe_time_constant_s",
 }
 
 
@@ -434,6 +539,14 @@ def settings_from_table(
     if c is None:
         raise InputError(f"{w}: needs heat_capacity_J_per_K (box, contents and sample)")
     loss = quantity("loss_W_per_K", "W/K")
+    tau = quantity("probe_time_constant_s", "s")
+    if tau is not None and "u_probe_time_constant_s" not in table:
+        raise InputError(f"{w}: probe_time_constant_s needs u_probe_time_constant_s")
+    if loss is not None and "u_loss_W_per_K" not in table:
+        raise InputError(
+            f"{w}: loss_W_per_K needs its standard uncertainty u_loss_W_per_K "
+            "(write u_loss_W_per_K = 0 to accept a G without uncertainty; the result is flagged)"
+        )
     mass = quantity("sample_mass_g", "g")
     columns = {k: str(table[f"{k}_col"]) for k in ("env", "flags") if table.get(f"{k}_col")}
     env = num("env_temp_C")
@@ -478,6 +591,7 @@ def settings_from_table(
         activation_K=DEFAULT_ACTIVATION_K if act is None else act,
         u_activation_K=num("u_activation_K") or 0.0,
         reference_C=DEFAULT_REFERENCE_C if ref is None else ref,
+        probe_tau=None if tau is None else replace(tau, note="run file"),
     )
     return settings, columns
 

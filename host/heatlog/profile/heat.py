@@ -22,6 +22,9 @@ uncertainty of Q combines
   combines the noise (from second differences) and the reading step (q/√12);
 * the integration rule: the trapezoid sum against the same sum on every other sample
   (Richardson, |I_h − I_2h|/3), taken as a rectangular half-width;
+* the probe's time constant τ, when its lag was corrected: u(τ)·(C·(s(t) − s(0)) + G·(T_p(t) −
+  T_p(0))) with s the smoothed slope, and what the smoothing may flatten, C·τ·|s_w − s_2w|/3 as a
+  rectangular half-width (:mod:`heatlog.profile.lag`);
 * gaps bridged on request: half the interpolated contribution as a rectangular half-width
   (common practice, no source).
 
@@ -39,21 +42,11 @@ import numpy as np
 from heatlog.errors import InputError
 from heatlog.gum import SQRT3, Budget, Component, Input, quantisation
 from heatlog.profile.heatloss import HeatLoss
+from heatlog.profile.lag import LagCorrection
 from heatlog.profile.logcheck import GapPolicy, Segment
+from heatlog.profile.noise import reading_noise
 
 SQRT2 = math.sqrt(2.0)
-
-
-def reading_noise(temp_C: np.ndarray) -> float:
-    """Standard deviation of the reading noise from second differences (robust: 1.4826·MAD/√6).
-
-    For white noise on a smooth curve, T[i+1] − 2T[i] + T[i−1] has variance 6σ².
-    """
-    y = np.asarray(temp_C, dtype=np.float64)
-    if y.size < 5:
-        return 0.0
-    d2 = y[2:] - 2.0 * y[1:-1] + y[:-2]
-    return float(1.4826 * np.median(np.abs(d2 - np.median(d2))) / math.sqrt(6.0))
 
 
 def _richardson_error(
@@ -94,6 +87,7 @@ class HeatProfile:
     bridged_Ks: np.ndarray  # cumulative ∫ across bridged gaps (policy "interpolate")
     skipped_Ks: np.ndarray  # cumulative ∫ across excluded gaps, by interpolation (not in Q)
     first_incomplete: int  # first sample after an excluded gap (size if none)
+    lag: LagCorrection | None = None  # the probe-lag correction applied to temp_C, if any
 
     @cached_property
     def heat_J(self) -> np.ndarray:
@@ -177,6 +171,37 @@ class HeatProfile:
                 g.G_W_per_K * self.integration_err_Ks[idx],
             )
         )
+        if self.lag is not None:
+            lag = self.lag
+            slope, meas = lag.slope_K_per_s[idx], lag.measured_C[idx]
+            rows.append(
+                (
+                    Component(
+                        "probe time constant τ",
+                        lag.tau.value,
+                        lag.tau.u,
+                        0.0,
+                        "s",
+                        note=f"lag corrected, T = T_probe + τ·dT/dt; {lag.tau.note}".rstrip("; "),
+                    ),
+                    c.value * (slope - lag.slope_K_per_s[0])
+                    + g.G_W_per_K * (meas - lag.measured_C[0]),
+                )
+            )
+            if lag.smoothing_K is not None:
+                rows.append(
+                    (
+                        Component(
+                            "probe-lag slope smoothing",
+                            0.0,
+                            1.0 / SQRT3,
+                            0.0,
+                            "",
+                            note="τ·|s_w − s_2w|/3 as half-width",
+                        ),
+                        c.value * np.abs(lag.smoothing_K[idx] - lag.smoothing_K[0]),
+                    )
+                )
         if self.gap_policy is GapPolicy.INTERPOLATE:
             rows.append(
                 (
@@ -249,6 +274,11 @@ class HeatProfile:
         var = (slope * c.u) ** 2 + ((y[idx] - env[idx]) * g.u_G_W_per_K) ** 2
         var += (g.G_W_per_K * self.u_env_K) ** 2
         var += (c.value * SQRT2 * self.u_reading_K / (hi - lo)) ** 2
+        if self.lag is not None:
+            # ∂P/∂τ = C·d²T/dt²: the window's change of the smoothed slope
+            s = self.lag.slope_K_per_s
+            curv = (np.interp(hi, t, s) - np.interp(lo, t, s)) / (hi - lo)
+            var += (c.value * self.lag.tau.u * curv) ** 2
         return np.sqrt(var)
 
     @cached_property
@@ -284,11 +314,13 @@ def heat_profile(
     resolution_K: float = 0.0,
     rate_window_s: float | None = None,
     gap_policy: GapPolicy = GapPolicy.EXCLUDE,
+    lag: LagCorrection | None = None,
 ) -> HeatProfile:
     """Q(t), P(t) and their uncertainty on one segment from :func:`~heatlog.profile.logcheck.check_log`.
 
     ``rate_window_s`` defaults to the larger of 10 median steps and 1/200 of the segment
-    (common practice, no source).
+    (common practice, no source). ``lag``, when the segment's temperatures were corrected for
+    the probe's time constant (:func:`heatlog.profile.lag.correct_lag`), puts u(τ) in the budget.
     """
     if not (math.isfinite(heat_capacity.value) and heat_capacity.value > 0):
         raise InputError(
@@ -335,4 +367,5 @@ def heat_profile(
         bridged_Ks=bridged,
         skipped_Ks=skipped,
         first_incomplete=first_incomplete,
+        lag=lag,
     )

@@ -515,6 +515,7 @@ def render_html(inputs: ReportInputs, progress: Progress | None = None) -> str:
         notes += list(red.notes)
     if inputs.profile is not None:
         notes += list(inputs.profile.notes)
+        notes += [f"WARNING: {w}" for w in inputs.profile.warnings]
     if notes:
         body += ["<h2>Notes</h2><ul>"] + [f"<li>{esc(n)}</li>" for n in notes] + ["</ul>"]
     body.append("<h2>Safety</h2>")

@@ -5,8 +5,10 @@ thermal model of the running scenario, flash kept in a directory, serial on a ps
 firmware's main-loop turns up to a virtual time, ``feed(bytes)`` hands it host bytes, and
 ``take_output()`` returns what it wrote. It mirrors ``firmware/app.py``'s loop (boot line, abort
 window, ``Logger.boot``, ``Logger.poll``); ``reset()`` restarts the firmware as a watchdog reset
-would. :class:`PtyServer` runs a board behind ``os.openpty`` at a chosen speed, optionally pacing
-its output at a baud rate, with a symlink to the slave side that a host opens like a port.
+would. :class:`PtyServer` runs a board behind ``os.openpty`` (Linux, macOS) at a chosen speed,
+optionally pacing its output at a baud rate, with a symlink to the slave side that a host opens
+like a port; :class:`TcpServer` runs it the same way on a local TCP socket that pyserial opens as
+``socket://127.0.0.1:PORT`` on any system. Both share the pacing, latency and reset logic.
 """
 
 from __future__ import annotations
@@ -16,12 +18,12 @@ import json
 import math
 import os
 import select
+import socket
 import struct
 import threading
 import time
-import tty
 from pathlib import Path
-from typing import Any
+from typing import Any, Self
 
 import numpy as np
 
@@ -243,18 +245,30 @@ def _mktime_utc(t: tuple[int, ...]) -> int:
     return calendar.timegm((t[0], t[1], t[2], t[3], t[4], t[5], 0, 0, 0))
 
 
-class PtyServer:
-    """Serve a VirtualBoard on a pseudo-terminal; ``speed`` virtual seconds per real second.
+def pty_available() -> bool:
+    """True where :class:`PtyServer` can run (pseudo-terminals and the ``tty`` module)."""
+    if not hasattr(os, "openpty"):
+        return False
+    try:
+        import tty  # noqa: F401  (POSIX only)
+    except ImportError:
+        return False
+    return True
+
+
+class _BoardServer:
+    """Serve a VirtualBoard over a byte stream; ``speed`` virtual seconds per real second.
 
     ``baud`` paces the board's output at baud/10 bytes per second (a UART-like link; no
-    credit is saved up while idle); None sends as fast as the pty takes it. ``latency_s``
-    delays host bytes before the firmware sees them (USB polling and interpreter time). Thread-safe controls: ``stop()``, ``request_reset()``.
-    """
+    credit is saved up while idle); None sends as fast as the other side takes it.
+    ``latency_s`` delays host bytes before the firmware sees them (USB polling and interpreter
+    time). Thread-safe controls: ``stop()``, ``request_reset()``. Subclasses move the bytes:
+    :class:`PtyServer` (a pseudo-terminal, POSIX) and :class:`TcpServer` (a local socket, any
+    system)."""
 
     def __init__(
         self,
         board: VirtualBoard,
-        link_path: Path | None = None,
         *,
         speed: float = 1.0,
         baud: int | None = None,
@@ -266,25 +280,33 @@ class PtyServer:
         self.speed = speed
         self.baud = baud
         self.truth_path = truth_path
-        self.master, self.slave = os.openpty()
-        tty.setraw(self.slave)
-        os.set_blocking(self.master, False)
-        self.port = os.ttyname(self.slave)
-        self.link_path = link_path
-        if link_path is not None:
-            link_path = Path(link_path)
-            if link_path.is_symlink() or link_path.exists():
-                link_path.unlink()
-            link_path.symlink_to(self.port)
         self._stop = threading.Event()
         self._reset = threading.Event()
         self._thread: threading.Thread | None = None
         self.bytes_out = 0
 
+    # -- what a subclass provides ----------------------------------------------------------------
     @property
     def path(self) -> str:
-        return str(self.link_path) if self.link_path is not None else self.port
+        """What a host opens (a device path or a pyserial URL)."""
+        raise NotImplementedError
 
+    def _receive(self, wait: float) -> bytes:
+        """Host bytes that arrived within ``wait`` seconds (b"" if none)."""
+        raise NotImplementedError
+
+    def _send(self, data: bytes) -> int:
+        """Hand bytes to the host without blocking; returns how many were taken."""
+        raise NotImplementedError
+
+    def _listening(self) -> bool:
+        """False while no host is there to read (the board's output is then dropped)."""
+        return True
+
+    def _close_io(self) -> None:
+        raise NotImplementedError
+
+    # -- controls -----------------------------------------------------------------------------
     def request_reset(self) -> None:
         self._reset.set()
 
@@ -297,20 +319,14 @@ class PtyServer:
         if self._thread is not None:
             self._thread.join(timeout=5)
 
-    def start(self) -> PtyServer:
+    def start(self) -> Self:
         self._thread = threading.Thread(target=self.serve, name="heatlog-sim", daemon=True)
         self._thread.start()
         return self
 
     def close(self) -> None:
         self.stop()
-        for fd in (self.master, self.slave):
-            try:
-                os.close(fd)
-            except OSError:
-                pass
-        if self.link_path is not None and Path(self.link_path).is_symlink():
-            Path(self.link_path).unlink()
+        self._close_io()
 
     def _write_truth(self) -> None:
         if self.truth_path is not None:
@@ -333,14 +349,7 @@ class PtyServer:
             now = time.monotonic()
             if seconds is not None and now - r0 > seconds:
                 break
-            wait = 0.001 if pending or inbox else 0.005
-            ready, _, _ = select.select([self.master], [], [], wait)
-            data = b""
-            if ready:
-                try:
-                    data = os.read(self.master, 65536)
-                except (BlockingIOError, OSError):
-                    data = b""
+            data = self._receive(0.001 if pending or inbox else 0.005)
             now = time.monotonic()
             if self.latency_s > 0:
                 if data:
@@ -364,6 +373,8 @@ class PtyServer:
                 if len(b.runs) != runs_seen or now - last_truth > 1.0:
                     runs_seen, last_truth = len(b.runs), now
                     self._write_truth()
+            if not self._listening():
+                pending.clear()
             if len(pending) > MAX_PENDING_OUT:
                 del pending[: len(pending) - MAX_PENDING_OUT]
             if pending:
@@ -374,10 +385,7 @@ class PtyServer:
                 busy = True
                 last_pace = now
                 if n > 0:
-                    try:
-                        k = os.write(self.master, bytes(pending[:n]))
-                    except (BlockingIOError, OSError):
-                        k = 0
+                    k = self._send(bytes(pending[:n]))
                     del pending[:k]
                     allowance -= k
                     self.bytes_out += k
@@ -386,6 +394,158 @@ class PtyServer:
                 last_pace = now
                 allowance = 0.0
         self._write_truth()
+
+
+class PtyServer(_BoardServer):
+    """A VirtualBoard behind ``os.openpty`` (Linux, macOS), with an optional symlink to the
+    slave side that a host opens like a serial port. The only user of POSIX-only modules."""
+
+    def __init__(self, board: VirtualBoard, link_path: Path | None = None, **kw: Any):
+        super().__init__(board, **kw)
+        if not pty_available():
+            from heatlog.errors import InputError
+
+            raise InputError(
+                "this system has no pseudo-terminals; serve the virtual board over TCP instead "
+                "(heatlog sim --tcp PORT, then --port socket://127.0.0.1:PORT)"
+            )
+        import tty  # POSIX only: the pty path is the one place that needs it
+
+        self.master, self.slave = os.openpty()
+        tty.setraw(self.slave)
+        os.set_blocking(self.master, False)
+        self.port = os.ttyname(self.slave)
+        self.link_path = link_path
+        if link_path is not None:
+            link_path = Path(link_path)
+            if link_path.is_symlink() or link_path.exists():
+                link_path.unlink()
+            link_path.symlink_to(self.port)
+
+    @property
+    def path(self) -> str:
+        return str(self.link_path) if self.link_path is not None else self.port
+
+    def _receive(self, wait: float) -> bytes:
+        ready, _, _ = select.select([self.master], [], [], wait)
+        if not ready:
+            return b""
+        try:
+            return os.read(self.master, 65536)
+        except (BlockingIOError, OSError):
+            return b""
+
+    def _send(self, data: bytes) -> int:
+        try:
+            return os.write(self.master, data)
+        except (BlockingIOError, OSError):
+            return 0
+
+    def _close_io(self) -> None:
+        for fd in (self.master, self.slave):
+            try:
+                os.close(fd)
+            except OSError:
+                pass
+        if self.link_path is not None and Path(self.link_path).is_symlink():
+            Path(self.link_path).unlink()
+
+
+class TcpServer(_BoardServer):
+    """A VirtualBoard on a local TCP socket (any system): a host opens
+    ``socket://127.0.0.1:PORT`` with pyserial. One host at a time, as on a serial port: a
+    second connection is closed at once; the board's output while no host is connected is
+    dropped, as a USB serial board's is. ``port=0`` picks a free port (see ``url``)."""
+
+    def __init__(self, board: VirtualBoard, port: int = 0, *, host: str = "127.0.0.1", **kw: Any):
+        super().__init__(board, **kw)
+        self.listener = socket.socket(socket.AF_INET, socket.SOCK_STREAM)
+        try:
+            if os.name != "nt":  # Windows' SO_REUSEADDR would let two servers share a port
+                self.listener.setsockopt(socket.SOL_SOCKET, socket.SO_REUSEADDR, 1)
+            self.listener.bind((host, port))
+        except OSError as exc:
+            self.listener.close()
+            from heatlog.errors import InputError
+
+            raise InputError(
+                f"cannot serve the virtual board on {host}:{port} ({exc.strerror or exc}); "
+                "choose another port, or 0 for any free one"
+            ) from None
+        self.listener.listen(1)
+        self.listener.setblocking(False)
+        self.host = host
+        self.port = int(self.listener.getsockname()[1])
+        self.client: socket.socket | None = None
+        self.connections = 0
+
+    @property
+    def url(self) -> str:
+        return f"socket://{self.host}:{self.port}"
+
+    @property
+    def path(self) -> str:
+        return self.url
+
+    def _drop_client(self) -> None:
+        if self.client is not None:
+            try:
+                self.client.close()
+            except OSError:
+                pass
+            self.client = None
+
+    def _listening(self) -> bool:
+        return self.client is not None
+
+    def _receive(self, wait: float) -> bytes:
+        watch = [self.listener] + ([self.client] if self.client is not None else [])
+        try:
+            ready, _, _ = select.select(watch, [], [], wait)
+        except (OSError, ValueError):
+            return b""
+        data = b""
+        if self.client is not None and self.client in ready:  # first: a host that just left
+            try:
+                data = self.client.recv(65536)
+                if not data:  # the host closed the port
+                    self._drop_client()
+            except (BlockingIOError, InterruptedError):
+                pass
+            except OSError:
+                self._drop_client()
+        if self.listener in ready:
+            try:
+                conn, _ = self.listener.accept()
+            except OSError:
+                conn = None
+            if conn is not None:
+                if self.client is None:
+                    conn.setblocking(False)
+                    conn.setsockopt(socket.IPPROTO_TCP, socket.TCP_NODELAY, 1)
+                    self.client = conn
+                    self.connections += 1
+                else:  # busy, as a serial port opened by another program
+                    conn.close()
+        return data
+
+    def _send(self, data: bytes) -> int:
+        if self.client is None:
+            return len(data)
+        try:
+            return self.client.send(data)
+        except (BlockingIOError, InterruptedError):
+            return 0
+        except OSError:
+            self._drop_client()
+            return len(data)
+
+    def _close_io(self) -> None:
+        self._drop_client()
+        try:
+            self.listener.close()
+        except OSError:
+            pass
 
 
 class DirectPort:
