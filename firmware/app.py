@@ -40,6 +40,13 @@ def _led(pin):
         return None
 
 
+def _mem_free():
+    # collect first: without it gc.mem_free() is a point on the collector's saw-tooth (anywhere
+    # from the true free heap down to almost nothing), not the memory the firmware has to spare
+    gc.collect()
+    return gc.mem_free()
+
+
 def run():
     cause = machine.reset_cause()
     print("heatlog: boot, reset cause", cause, "- press Ctrl-C within", ABORT_MS, "ms for the REPL")
@@ -54,7 +61,7 @@ def run():
         # a watchdog started before a soft reset keeps running: feed it through the boot scan
         wdt = machine.WDT(timeout=8000)
     rtc = (machine.RTC(), time.gmtime, time.mktime, time.gmtime(0)[0])
-    lg = Logger(FlashFs(), ROOT, machine, out, cause, gc.mem_free, rtc)
+    lg = Logger(FlashFs(), ROOT, machine, out, cause, _mem_free, rtc)
     if wdt is not None:
         lg.store.progress = wdt.feed
     lg.boot(time.ticks_ms())
@@ -82,6 +89,11 @@ def run():
                 wdt.feed()
             if led is not None:
                 led.value(1 if lg.store.active else 0)
+            if lg.leave:  # the host asked for the REPL (protocol 0x0C); the reply is out
+                time.sleep_ms(100)
+                if wdt is not None:
+                    machine.reset()  # the watchdog cannot be stopped: the host Ctrl-Cs at boot
+                break
             poller.poll(min(wait, 20))
     finally:
         micropython.kbd_intr(3)

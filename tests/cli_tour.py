@@ -93,7 +93,7 @@ def main_tour(work: Path) -> None:
     red.write_text(json.dumps({"delta_t_K": 122.88 / 465.0, "u_delta_t_K": 0.002}))
     heatlog("calibrate", "reaction", "--reference", "tris-hcl", "--amount", "0.5",
             "--u-amount", "0.0002", "--reduce-json", red, "--water-g", "100", "--u-water-g",
-            "0.05", "--cp", "4.15", "--u-cp", "0.01")  # fmt: skip
+            "0.05", "--cp", "4.15", "--u-cp", "0.01", "--temp", "25")  # fmt: skip
     heatlog("calibrate", "combine", "150:1", "160:2", "152:4")
     heatlog("hess", "NH4NO3(s) -> NH4+(aq) + NO3-(aq)")
     heatlog("hess", "H+(aq) + OH-(aq) -> H2O(l)", "--measured", "-56.2", "--u-measured", "0.8")

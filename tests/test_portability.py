@@ -81,9 +81,10 @@ def _section(out: str, marker: str) -> str:
 def test_every_command_on_a_cp1252_stream(tmp_path):
     out, err, _ = _tour(tmp_path, "cp1252", hide=False, demo_link="tcp")
     demo = _section(out, "demo --out")
-    # cp1252 carries the em dash and ±, not Δ: the same words, Δ spelled "d"
+    # cp1252 carries the em dash and °, not Δ: the same words, Δ spelled "d"
     assert "heatlog demo \u2014 invented data" in demo
-    assert "dT = " in demo and "\u00b1" in demo and "dH(NH4NO3, dissolution)" in demo
+    assert "dT = " in demo and "U(k=2) = " in demo and "dH(NH4NO3, dissolution)" in demo
+    assert "\u00b0C" in demo
     assert "Convert resistance <-> temperature" in _section(out, "probe --help")
 
 
@@ -95,7 +96,8 @@ def test_every_command_on_an_ascii_stream_with_posix_modules_hidden(tmp_path):
     assert "socket://127.0.0.1:" in err  # the demo's virtual board
     demo = _section(out, "demo --out")
     assert "heatlog demo -- invented data" in demo
-    assert "dT = " in demo and "+/-" in demo and "dH(NH4NO3, dissolution)" in demo
+    assert "dT = " in demo and "U(k=2) = " in demo and "dH(NH4NO3, dissolution)" in demo
+    assert "degC" in demo
     assert "degC" in _section(out, "reduce --help")
     reduce_json = _section(
         out, "reduce " + str(tmp_path / "tour" / "demo" / "dissolution.toml") + " --json"

@@ -3,6 +3,9 @@
 `validate(cfg)` returns a list of every problem (empty when usable); nothing in a config is
 executed. It covers the structure, each pin's capability on the target chip (`pins`) and the
 conversion time (`timing_problems`), so a config that passes is one the board can run.
+A channel's optional `role` says what it measures: "vessel" (default) or "env", the surroundings
+temperature the host reduction uses (`heatlog reduce --env-col`). The role lives in the config
+only: the log header's channel table has no spare field for it.
 See firmware/config.example.json.
 """
 
@@ -20,6 +23,7 @@ MODELS = {
 }
 ADS_RATES_SPS = (8, 16, 32, 64, 128, 250, 475, 860)
 MAX_SAMPLE_MS = 4000  # all conversions of one sample must fit in min(interval_ms, this)
+ROLES = ("vessel", "env")  # what a channel measures; "env": the surroundings (room) temperature
 DEFAULTS = {"oversample": 16, "flush_ms": 5000, "watchdog_ms": 8000, "led_pin": None}
 
 
@@ -76,6 +80,8 @@ def _channel(errs, ch, i):
         _power(errs, ch, where)
         return
     _model(errs, ch, where)
+    if ch.get("role", "vessel") not in ROLES:
+        errs.append(where + "role must be one of " + ", ".join(ROLES))
     if kind == "adc_divider":
         _int_in(errs, ch, "pin", 0, 48, where)
         if "excitation_pin" in ch:
@@ -333,6 +339,11 @@ def validate(cfg, port=None):
             _channel(errs, ch, i)
         if not errs and logged_channels(cfg) > 8:
             errs.append("channels: a power monitor logs two channels; at most 8 in all")
+        roles = [ch.get("role", "vessel") for ch in chans if isinstance(ch, dict)]
+        if roles and "vessel" not in roles:
+            errs.append('channels: at least one channel must have role "vessel" (the default)')
+        if roles.count("env") > 1:
+            errs.append('channels: at most one channel may have role "env" (the surroundings)')
         if board is not None:
             _pin_problems(errs, cfg, board)
     if not errs:  # the timing needs well-formed numbers

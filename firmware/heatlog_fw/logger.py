@@ -39,6 +39,7 @@ class Logger:
         self.store = None
         self.run_clock_unset = True
         self.watchdog_wanted = False
+        self.leave = False  # the host asked for the REPL (app.run returns, or resets first)
         self._turns = 0
         self._last_rx = 0
         self._load_config()
@@ -175,6 +176,16 @@ class Logger:
             self.store.clock_set(ms - offset_now, s.seq, offset_now, now)
             self.run_clock_unset = False
         return prev
+
+    def leave_to_repl(self):
+        """The host asks for the REPL (to install firmware). Refused while a run is active.
+        Returns 1 if the board must reset first (a started watchdog cannot be stopped: the host
+        catches the abort window after the reset), else 0 (the loop returns to the REPL)."""
+        if self.store.active:
+            raise StoreError("a run is active; stop it before leaving to the REPL")
+        self.leave = True
+        self.streaming = False
+        return 1 if self.watchdog_wanted else 0
 
     def stream(self, on, now):
         self._need_config()

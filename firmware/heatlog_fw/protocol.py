@@ -30,6 +30,7 @@ ERASE_RUN = const(0x08)
 GET_CONFIG = const(0x09)
 PUT_CONFIG = const(0x0A)
 RUN_CHECKSUM = const(0x0B)
+TO_REPL = const(0x0C)
 REPLY = const(0x80)
 LIVE = const(0xC0)
 ERROR = const(0xFF)
@@ -130,6 +131,9 @@ def _dispatch(lg, t, rid, p, now):
     if t == GET_CONFIG:
         _unpack("", p)
         return _reply(t, rid, lg.config_text.encode())
+    if t == TO_REPL:
+        _unpack("", p)
+        return _reply(t, rid, bytes([lg.leave_to_repl()]))
     if t == PUT_CONFIG:
         errs = lg.put_config(p, now)
         if errs:

@@ -14,7 +14,6 @@ from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy import stats
 
 SQRT3 = math.sqrt(3.0)
 SQRT12 = math.sqrt(12.0)
@@ -64,7 +63,8 @@ class Budget:
 
     @property
     def u(self) -> float:
-        return math.sqrt(sum(c.contribution**2 for c in self.components))
+        # hypot: no overflow for huge contributions (the sum of squares would raise)
+        return math.hypot(*(c.contribution for c in self.components))
 
     @property
     def expanded(self) -> float:
@@ -74,26 +74,30 @@ class Budget:
     def dof(self) -> float:
         """Effective degrees of freedom by Welch–Satterthwaite (JCGM 100, G.4.1)."""
         u = self.u
-        if u == 0.0:
+        if u == 0.0 or not math.isfinite(u):
             return math.inf
+        # u⁴/Σ(cᵢ⁴/νᵢ) written with cᵢ/u, so that no fourth power overflows
         denom = sum(
-            c.contribution**4 / c.dof for c in self.components if math.isfinite(c.dof) and c.dof > 0
+            (c.contribution / u) ** 4 / c.dof
+            for c in self.components
+            if math.isfinite(c.dof) and c.dof > 0
         )
-        return math.inf if denom == 0.0 else u**4 / denom
+        return math.inf if denom == 0.0 else 1.0 / denom
 
     def coverage_factor(self, p: float = 0.9545) -> float:
         """Student-t coverage factor for ν_eff at coverage probability ``p`` (JCGM 100, G.3)."""
+        # scipy.special's quantiles (what scipy.stats.norm/t.ppf call), imported here: importing
+        # scipy.stats costs about a second at start-up.
+        from scipy.special import ndtri, stdtrit
+
         nu = self.dof
-        return (
-            float(stats.norm.ppf(0.5 + p / 2))
-            if math.isinf(nu)
-            else float(stats.t.ppf(0.5 + p / 2, nu))
-        )
+        return float(ndtri(0.5 + p / 2)) if math.isinf(nu) else float(stdtrit(nu, 0.5 + p / 2))
 
     def shares(self) -> list[float]:
         """Each component's share of the combined variance, in percent."""
-        var = self.u**2
-        return [100.0 * c.contribution**2 / var if var > 0 else 0.0 for c in self.components]
+        u = self.u
+        ok = 0 < u < math.inf
+        return [100.0 * (c.contribution / u) ** 2 if ok else 0.0 for c in self.components]
 
     def to_dict(self) -> dict[str, object]:
         return {

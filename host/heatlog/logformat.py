@@ -6,7 +6,14 @@ two implementations check each other through ``tests/vectors/run_log.bin``.
 
 Every record's CRC is checked. A record or segment marker that fails is never returned: it is
 counted (``bad_blocks``, ``bad_bytes``) and the decoder resynchronises on the next block whose
-CRC is good. Only a file whose header is unusable raises ``LogCorrupt``.
+CRC is good. Records whose CRC is good are still checked for continuity: sequence numbers run
+0, 1, 2 … through the file (a segment marker names the next one), so a record repeated, one
+missing or two swapped are counted (``records_repeated``, ``records_missing``,
+``records_out_of_order``), as is a time offset that does not increase (``time_backwards``).
+Every header and marker field is bounded before use: a header field out of its documented range
+raises ``LogCorrupt`` naming it; a clock anchor out of range (2000..2100) is ignored (the run
+reads as clock-unset) and named in ``problems``. ``RunLog.damage()`` sums all of it up. Only a
+file whose header is unusable raises ``LogCorrupt``.
 """
 
 from __future__ import annotations
@@ -43,6 +50,10 @@ SEG_GAP_UNKNOWN = 0x08
 SEG_CLOCK_VALID = 0x10
 
 HDR_CLOCK_VALID = 0x01
+# documented bounds of header fields (firmware/LOGFORMAT.md; the anchor: PROTOCOL.md set clock)
+INTERVAL_MS = (100, 3_600_000)
+OVERSAMPLE = (1, 256)
+ANCHOR_MS = (946_684_800_000, 4_102_444_800_000)  # 2000-01-01 .. 2100-01-01 UTC
 KIND_NAMES = {1: "adc_divider", 2: "ads1115", 3: "max31865", 4: "ina226", 5: "ina219"}
 POWER_KIND_CODES = (4, 5)  # current/voltage monitors: mode 0 bus code, mode 1 shunt code
 # mode bits of an on-chip ADC divider channel (kind 1)
@@ -56,6 +67,13 @@ _SEG = struct.Struct("<BBBBIIIqHH")
 
 class LogCorrupt(HeatlogError, ValueError):
     """A run log cannot be decoded at all (not a log, unknown version, bad header)."""
+
+
+class DamagedLog(HeatlogError, ValueError):
+    """A run log decodes but is damaged, and the caller asked to refuse damaged data
+    (``--strict``). Its own exit code, so a script can tell it from other errors."""
+
+    exit_code = 4
 
 
 def crc16_ccitt_false(data: bytes) -> int:
@@ -141,6 +159,7 @@ class LogHeader:
     oversample: int
     anchor_ms: int | None
     channels: tuple[Channel, ...]
+    problems: tuple[str, ...] = ()  # fields found out of range and ignored
 
     @property
     def clock_set(self) -> bool:
@@ -190,6 +209,11 @@ class RunLog:
     bad_blocks: int
     bad_bytes: int
     trailing_bytes: int  # incomplete block at the end of the file (torn tail)
+    records_repeated: int = 0  # a sequence number seen before
+    records_missing: int = 0  # sequence numbers skipped (not explained by a segment marker)
+    records_out_of_order: int = 0  # a sequence number that arrives after a later one
+    time_backwards: int = 0  # records in sequence whose time offset does not increase
+    problems: tuple[str, ...] = ()  # header and marker fields out of range (ignored)
 
     @property
     def n_records(self) -> int:
@@ -197,7 +221,19 @@ class RunLog:
 
     @property
     def damaged(self) -> bool:
-        return bool(self.bad_blocks or self.trailing_bytes)
+        return self.damage().damaged
+
+    def damage(self) -> Damage:
+        return Damage(
+            self.bad_blocks,
+            self.bad_bytes,
+            self.trailing_bytes,
+            self.records_repeated,
+            self.records_missing,
+            self.records_out_of_order,
+            self.time_backwards,
+            self.problems,
+        )
 
     def channel_faults(self) -> np.ndarray:
         """Fault code per record and channel (uint8, FAULT_NONE/OPEN/SHORT/RANGE)."""
@@ -222,6 +258,71 @@ class RunLog:
         return anchor[self.segment + 1] + self.offset_ms.astype(float)
 
 
+@dataclass(frozen=True)
+class Damage:
+    """What the decoder found wrong in a run file (all zero: no damage found)."""
+
+    bad_blocks: int = 0
+    bytes_skipped: int = 0
+    trailing_bytes: int = 0
+    records_repeated: int = 0
+    records_missing: int = 0
+    records_out_of_order: int = 0
+    time_backwards: int = 0
+    problems: tuple[str, ...] = ()
+
+    @property
+    def damaged(self) -> bool:
+        return bool(
+            self.bad_blocks or self.bytes_skipped or self.trailing_bytes or self.records_repeated
+            or self.records_missing or self.records_out_of_order or self.time_backwards
+            or self.problems
+        )  # fmt: skip
+
+    def to_dict(self) -> dict[str, object]:
+        d: dict[str, object] = {"damaged": self.damaged}
+        d.update({k: v for k, v in self.__dict__.items() if k != "problems"})
+        d["problems"] = list(self.problems)
+        return d
+
+    def describe(self) -> str:
+        """One line: ``no damage found`` or what was found."""
+        if not self.damaged:
+            return "no damage found"
+        parts = []
+        if self.bad_blocks or self.bytes_skipped:
+            parts.append(f"{self.bad_blocks} bad block(s), {self.bytes_skipped} bytes skipped")
+        for n, what in (
+            (self.trailing_bytes, "trailing bytes (an incomplete block at the end)"),
+            (self.records_repeated, "record(s) repeated"),
+            (self.records_missing, "record(s) missing"),
+            (self.records_out_of_order, "record(s) out of order"),
+            (self.time_backwards, "time step(s) that do not go forward"),
+        ):
+            if n:
+                parts.append(f"{n} {what}")
+        parts += list(self.problems)
+        return "DAMAGED: " + "; ".join(parts)
+
+
+def _field(name: str, value: int, bounds: tuple[int, int]) -> int:
+    if not bounds[0] <= value <= bounds[1]:
+        raise LogCorrupt(
+            f"run file header: {name} = {value} is outside {bounds[0]}..{bounds[1]}; the file "
+            "is damaged or not from a heatlog board"
+        )
+    return value
+
+
+def _anchor(value: int, valid: bool, where: str, problems: list[str]) -> int | None:
+    if not valid:
+        return None
+    if ANCHOR_MS[0] <= value < ANCHOR_MS[1]:
+        return value
+    problems.append(f"{where} clock anchor {value} ms is outside 2000..2100 UTC (ignored)")
+    return None
+
+
 def parse_header(data: bytes) -> LogHeader:
     """Decode and CRC-check the header at the start of ``data``; raises LogCorrupt."""
     if len(data) < HEADER_FIXED + 4 or data[:4] != MAGIC:
@@ -239,11 +340,16 @@ def parse_header(data: bytes) -> LogHeader:
     (stored,) = struct.unpack_from("<I", data, size - 4)
     if stored != zlib.crc32(data[: size - 4]):
         raise LogCorrupt("header CRC mismatch; pull the run again")
+    _field("sample interval (ms)", f[6], INTERVAL_MS)
+    _field("oversampling count", f[7], OVERSAMPLE)
+    problems: list[str] = []
+    anchor = _anchor(f[9], bool(f[5] & HDR_CLOCK_VALID), "header", problems)
     channels = []
     for i in range(n):
         kind, wires, source, gain, ref_mohm, pid = _CHAN.unpack_from(
             data, HEADER_FIXED + CHANNEL_ENTRY * i
         )
+        _field(f"channel {i} reference resistor (milliohm)", ref_mohm, (1, 0xFFFFFFFF))
         channels.append(
             Channel(
                 kind=KIND_NAMES.get(kind, f"unknown-{kind}"),
@@ -252,21 +358,27 @@ def parse_header(data: bytes) -> LogHeader:
                 source=source,
                 gain=gain,
                 ref_ohm=ref_mohm / (1e6 if kind in POWER_KIND_CODES else 1e3),  # shunt: µΩ
-                probe_id=pid.rstrip(b"\0").decode("ascii", "replace"),
+                probe_id=_text(pid),
             )
         )
     return LogHeader(
         format_version=version,
         header_size=size,
         record_size=rsize,
-        board_id=f[11].rstrip(b"\0").decode("ascii", "replace"),
-        firmware=f[12].rstrip(b"\0").decode("ascii", "replace"),
+        board_id=_text(f[11]),
+        firmware=_text(f[12]),
         run=f[10],
         interval_ms=f[6],
         oversample=f[7],
-        anchor_ms=f[9] if f[5] & HDR_CLOCK_VALID else None,
+        anchor_ms=anchor,
         channels=tuple(channels),
+        problems=tuple(problems),
     )
+
+
+def _text(raw: bytes) -> str:
+    """A 16-byte ASCII name field: printable ASCII kept, anything else shown as '?'."""
+    return "".join(chr(b) if 0x20 <= b < 0x7F else "?" for b in raw.rstrip(b"\0"))
 
 
 def _block_ok(data: bytes, pos: int, rsize: int) -> int:
@@ -305,6 +417,7 @@ def decode(data: bytes) -> RunLog:
     rows: list[bytes] = []
     seg_of: list[int] = []
     segments: list[Segment] = []
+    problems = list(hdr.problems)
     bad_blocks = bad_bytes = trailing = 0
     pos = hdr.header_size
     n = len(data)
@@ -317,6 +430,7 @@ def decode(data: bytes) -> RunLog:
             continue
         if size == SEGMENT_SIZE:
             s = _SEG.unpack_from(data, pos)
+            where = f"segment marker at byte {pos}:"
             segments.append(
                 Segment(
                     byte_offset=pos,
@@ -326,7 +440,7 @@ def decode(data: bytes) -> RunLog:
                     segment_no=s[4],
                     next_seq=s[5],
                     offset_ms=s[6],
-                    anchor_ms=s[7] if s[1] & SEG_CLOCK_VALID else None,
+                    anchor_ms=_anchor(s[7], bool(s[1] & SEG_CLOCK_VALID), where, problems),
                 )
             )
             pos += size
@@ -340,6 +454,7 @@ def decode(data: bytes) -> RunLog:
         pos = nxt
     dt = record_dtype(nch)
     rec = np.frombuffer(b"".join(rows), dtype=dt) if rows else np.zeros(0, dtype=dt)
+    cont = _continuity(rec["seq"].tolist(), rec["off"].tolist(), seg_of, segments)
     return RunLog(
         header=hdr,
         seq=rec["seq"].astype(np.uint32),
@@ -352,7 +467,52 @@ def decode(data: bytes) -> RunLog:
         bad_blocks=bad_blocks,
         bad_bytes=bad_bytes,
         trailing_bytes=trailing,
+        records_repeated=cont[0],
+        records_missing=cont[1],
+        records_out_of_order=cont[2],
+        time_backwards=cont[3],
+        problems=tuple(problems),
     )
+
+
+def _continuity(
+    seqs: list[int], offs: list[int], seg_of: list[int], segments: list[Segment]
+) -> tuple[int, int, int, int]:
+    """(repeated, missing, out of order, time steps back) of records in file order: sequence
+    numbers must run 0, 1, 2 … (a segment marker names the next one: records lost in RAM at a
+    reset are not missing from the file), and time offsets must increase along them."""
+    repeated = missing = reordered = backwards = 0
+    expected = 0
+    seen: set[int] = set()
+    skipped: set[int] = set()  # counted missing so far; a late arrival is out of order instead
+    last_off = -1
+    seg = -1
+    for seq, off, sg in zip(seqs, offs, seg_of, strict=True):
+        if sg != seg:  # the first record after a marker
+            seg = sg
+            nxt = segments[sg].next_seq
+            if nxt >= expected:
+                expected = nxt
+        if seq in seen:
+            repeated += 1
+            continue
+        seen.add(seq)
+        if seq < expected:
+            if seq in skipped:
+                skipped.discard(seq)
+                missing -= 1
+            reordered += 1
+            continue
+        if seq > expected:
+            gap = seq - expected
+            missing += gap
+            if gap <= 100_000:
+                skipped.update(range(expected, seq))
+        if off <= last_off:
+            backwards += 1
+        last_off = off
+        expected = seq + 1
+    return repeated, missing, reordered, backwards
 
 
 def record_dtype(n_channels: int) -> np.dtype:

@@ -13,6 +13,7 @@ RUN.toml`` evaluates it. The layout, with every key optional unless marked::
     raw_col = "counts"            # raw readings, converted with `probe` (and `chain` for counts)
     chain = "divider:rs=10000,side=low,bits=12,oversample=64"
     probe = "probe.toml"
+    env_col = "env_C"             # logged surroundings temperature, °C (reduced against it)
     [reduce]
     method = "auto"   event = 0   event_start_s = …   after_start_s = …   resolution_K = …
     [calorimeter]
@@ -34,6 +35,7 @@ RUN.toml`` evaluates it. The layout, with every key optional unless marked::
                                  # refers to the final temperature) or "final" (the initial one)
     delta_cp_J_per_mol_K = -150.0  u_delta_cp_J_per_mol_K = 20.0   # ΔrCp: ΔH moved to 25 °C
     [profile]                    # a long run: heat-release profile (``heatlog profile RUN.toml``)
+    box = "box.toml"             # C and G from ``heatlog box fit`` (boxfile.py), or:
     heat_capacity_J_per_K = 2500.0  u_heat_capacity_J_per_K = 50.0     # box + contents + sample
     loss_W_per_K = 0.03  u_loss_W_per_K = 0.002    # or: cooling_fit_after_s = 200000.0
     env_col = "env_C"            # or: env_temp_C = 20.0; u_env_temp_K = 0.5
@@ -55,11 +57,12 @@ import tomllib
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
 from pathlib import Path
-from typing import Any
+from typing import Any, Literal
 
 import numpy as np
 
-from heatlog.csvtable import read_columns
+from heatlog import runschema
+from heatlog.csvtable import read_table
 from heatlog.energetics import calorimeter, hess, water
 from heatlog.energetics.heat import (
     SIGN_CONVENTION,
@@ -75,8 +78,16 @@ from heatlog.energetics.heat import (
 from heatlog.energetics.heater_energy import HeaterEnergy, heater_energy
 from heatlog.errors import InputError
 from heatlog.gum import Budget, Component, Input
+from heatlog.inputgate import (
+    Finding,
+    check_constant,
+    check_profile_settings,
+    findings_of,
+    gate_series,
+)
 from heatlog.probes import ProbeFile, chain_from_spec, load_probe
 from heatlog.profile import ProfileResult, ProfileSettings, analyse_profile, settings_from_table
+from heatlog.profile.analysis import _TABLE_KEYS as PROFILE_KEYS
 from heatlog.reduce import Reduction, reduce_thermogram
 from heatlog.storedpath import resolve_stored
 from heatlog.thermogram import Thermogram, read_thermogram_csv
@@ -91,6 +102,7 @@ class LogSpec:
     chain: str | None = None
     probe: Path | None = None
     extra_cols: tuple[str, ...] = ()  # further columns read beside the temperature
+    env_col: str | None = None  # logged surroundings temperature (°C)
 
 
 @dataclass(frozen=True)
@@ -182,10 +194,25 @@ def _path(base: Path, value: Any, where: str) -> Path:
     return resolve_stored(value, base)  # either separator, on any system (storedpath.py)
 
 
+def _with_box(table: Mapping[str, Any], base: Path, where: str) -> Mapping[str, Any]:
+    """A ``[profile]`` table with ``box = "box.toml"`` replaced by the box file's C and G."""
+    if "box" not in table:
+        return table
+    from heatlog.boxfile import load_box
+
+    given = [k for k in ("heat_capacity_J_per_K", "loss_W_per_K") if k in table]
+    if given:
+        raise InputError(f"{where} [profile]: give box or {' and '.join(given)}, not both")
+    merged = {k: v for k, v in table.items() if k != "box"}
+    merged.update(load_box(_path(base, table["box"], where)).profile_keys())
+    return merged
+
+
 def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
     """Check a run file's parsed TOML and turn it into a :class:`RunSpec` (no file access)."""
     where = str(path)
     base = path.parent
+    runschema.check_run_document(doc, where)
     log = _table(doc, "log", where)
     if "file" not in log:
         raise InputError(f'{where}: [log] needs file = "…" (the logged CSV)')
@@ -199,12 +226,15 @@ def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
         raw_col=None if raw_col is None else str(raw_col),
         chain=None if log.get("chain") is None else str(log["chain"]),
         probe=None if log.get("probe") is None else _path(base, log["probe"], where),
+        env_col=None if log.get("env_col") is None else str(log["env_col"]),
     )
     red = dict(_table(doc, "reduce", where))
     unknown = set(red) - _REDUCE_KEYS
     if unknown:
+        key = sorted(unknown)[0]
         raise InputError(
-            f"{where}: [reduce] does not know {sorted(unknown)}; use {sorted(_REDUCE_KEYS)}"
+            f"{where}: [reduce] does not know {sorted(unknown)}{runschema.closest(key, _REDUCE_KEYS)}; "
+            f"use {sorted(_REDUCE_KEYS)}"
         )
 
     contents = []
@@ -291,8 +321,10 @@ def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
         raise InputError(
             f"{where}: [calorimeter] needs heat_capacity_J_per_K or calibrations to turn ΔT into heat"
         )
+    if isinstance(doc.get("profile"), Mapping):
+        runschema.check_profile_keys(doc["profile"], PROFILE_KEYS | {"box"}, where)
     profile, profile_columns = (
-        settings_from_table(_table(doc, "profile", where), where)
+        settings_from_table(_with_box(_table(doc, "profile", where), base, where), where)
         if "profile" in doc
         else (None, {})
     )
@@ -326,17 +358,44 @@ def load_run(path: str | Path) -> RunSpec:
 
 
 def read_log_arrays(
-    log: LogSpec, extra: Sequence[str] = (), probe: ProbeFile | None = None
+    log: LogSpec,
+    extra: Sequence[str] = (),
+    probe: ProbeFile | None = None,
+    *,
+    kind: Literal["thermogram", "profile"] = "profile",
+    temperature_channels: Sequence[str] = (),
+    run_kind: str = "generic",
 ) -> tuple[np.ndarray, np.ndarray, dict[str, np.ndarray], dict[str, Any]]:
     """Time, temperature (through the probe file for raw readings), ``extra`` columns and
     metadata, in file order and unchecked for order (long runs handle clock resets themselves).
-    ``probe`` replaces the run file's probe file (the archive applies a recorded calibration)."""
+    ``probe`` replaces the run file's probe file (the archive applies a recorded calibration).
+    Every row has passed the input gate (:mod:`heatlog.inputgate`, ``kind`` "thermogram" or
+    "profile"); its findings are in the metadata under ``findings``."""
     temp_col = log.temp_col if log.raw_col is None else log.raw_col
-    cols = read_columns(log.file, [log.time_col, temp_col, *extra], what="log")
-    lookup = {k.lower(): v for k, v in cols.items()}
-    time_s, reading = lookup[log.time_col.lower()], lookup[temp_col.lower()]
-    extras = {c: lookup[c.lower()] for c in extra}
-    meta: dict[str, Any] = {"source": str(log.file)}
+    table = read_table(
+        log.file, [log.time_col, temp_col, *extra], what="log", clock_col=log.time_col
+    )
+    lookup = {k.lower(): v for k, v in table.columns.items()}
+    units = {k.lower(): v for k, v in table.units.items()}
+    gated = gate_series(
+        lookup[log.time_col.lower()],
+        lookup[temp_col.lower()],
+        where=str(log.file),
+        kind=kind,
+        time_name=log.time_col,
+        temp_name=temp_col,
+        time_unit=units.get(log.time_col.lower(), ""),
+        temp_unit="" if log.raw_col is not None else units.get(temp_col.lower(), ""),
+        lines=table.line_numbers,
+        channels={c: lookup[c.lower()] for c in extra},
+        channel_units={c: units.get(c.lower(), "") for c in extra},
+        temperature_channels=temperature_channels,
+        raw=log.raw_col is not None,
+        notes=table.notes,
+        run_kind=run_kind,
+    )
+    time_s, reading, extras = gated.time_s, gated.temp_C, gated.channels
+    meta: dict[str, Any] = {"source": str(log.file), "findings": gated.findings}
     if log.raw_col is None:
         return time_s, reading, extras, meta
     if probe is None:
@@ -356,9 +415,19 @@ def read_log_arrays(
 def read_run_log(log: LogSpec, probe: ProbeFile | None = None) -> Thermogram:
     """The run's thermogram: a temperature column, or raw readings through the probe file
     (or through ``probe``, when given)."""
+    env = (log.env_col,) if log.env_col else ()
     if log.raw_col is None and not log.extra_cols:
-        return read_thermogram_csv(log.file, time_col=log.time_col, temp_col=log.temp_col)
-    time_s, temp, extras, meta = read_log_arrays(log, log.extra_cols, probe=probe)
+        th = read_thermogram_csv(
+            log.file, time_col=log.time_col, temp_col=log.temp_col, channels=env
+        )
+        if not env:
+            return th
+        return replace(th, metadata={**th.metadata, "env_col": log.env_col})
+    time_s, temp, extras, meta = read_log_arrays(
+        log, (*env, *log.extra_cols), probe=probe, kind="thermogram", temperature_channels=env
+    )
+    if env:
+        meta["env_col"] = log.env_col
     return Thermogram(time_s, temp, channels=extras, metadata=meta)
 
 
@@ -381,6 +450,7 @@ class RunResult:
     enthalpy_temp_C: float | None = None  # the temperature the measured ΔH refers to
     enthalpy_temp_basis: str = ""  # why that temperature (which heat capacity was used)
     molar_25: Budget | None = None  # ΔH moved to 25 °C with the run file's ΔrCp (Kirchhoff)
+    findings: tuple[Finding, ...] = ()  # the input gate's, this run's and its calibrations'
 
     def to_dict(self) -> dict[str, Any]:
         out: dict[str, Any] = {"title": self.spec.title, "run_file": str(self.spec.path)}
@@ -432,6 +502,7 @@ class RunResult:
         if self.hess_warning is not None:
             out["hess_warning"] = self.hess_warning
         out["sign_convention"] = SIGN_CONVENTION
+        out["findings"] = [f.to_dict() for f in self.findings]
         return out
 
 
@@ -485,6 +556,7 @@ def reduce_with_settings(thermogram: Thermogram, r: Mapping[str, Any]) -> Reduct
         event_start_s=r.get("event_start_s"),
         after_start_s=r.get("after_start_s"),
         resolution_K=None if resolution is None else float(resolution),
+        env_channel=thermogram.metadata.get("env_col"),
     )
     return with_probe_curve(red, thermogram.metadata.get("probe_file"))
 
@@ -527,12 +599,16 @@ def evaluate_run(
     thermogram: Thermogram,
     *,
     calibrate: Callable[[Path], RunResult] | None = None,
+    allow_negative: bool = False,
 ) -> RunResult:
     """Reduce the run and derive what its inputs allow (pure apart from ``calibrate``).
 
     ``calibrate`` evaluates a calibration run file named in ``[calorimeter] calibrations``; the
-    CLI passes one that loads and evaluates the file.
+    CLI passes one that loads and evaluates the file. A significantly negative calorimeter
+    constant is refused unless ``allow_negative`` (:func:`heatlog.inputgate.check_constant`).
     """
+    runschema.refuse_profile_for_reduce(spec.profile is not None, str(spec.path))
+    found_in: list[Finding] = list(findings_of(thermogram))
     red = reduce_with_settings(thermogram, spec.reduce)
     lo, hi = red.fore_start_s, red.after_end_s
     mask = (thermogram.time_s >= lo) & (thermogram.time_s <= hi)
@@ -546,7 +622,11 @@ def evaluate_run(
         energy, heater = _energy(spec.electrical, thermogram)
         c = calorimeter.electrical_calibration(energy, as_input(dt), list(contents))
         c = substitute(c, "ΔT", dt)  # ΔT's own parts, so a later run can share its probe rows
-        return RunResult(spec, red, mean_temp, contents, c_cal=c, heater=heater)
+        flag = check_constant(c.value, c.u, str(spec.path), allow_negative=allow_negative)
+        found_in += [flag] if flag else []
+        return RunResult(
+            spec, red, mean_temp, contents, c_cal=c, findings=tuple(found_in), heater=heater
+        )
 
     c_cal: Budget | Input | None = spec.heat_capacity
     if spec.calibrations:
@@ -554,13 +634,32 @@ def evaluate_run(
             raise InputError(f"{spec.path}: calibration run files need a loader")
         constants: list[Budget] = []
         for p in spec.calibrations:
-            found = calibrate(p).c_cal
-            if found is None:
-                raise InputError(f"{p}: not a calibration run (it needs an [electrical] table)")
+            cal_run = calibrate(p)
+            found = cal_run.c_cal
+            runschema.refuse_non_calibration(
+                cal_run.spec.electrical is not None and found is not None, str(p), str(spec.path)
+            )
+            assert found is not None
             constants.append(found)
+            found_in += [
+                replace(f, message=f"calibration {p.name}: {f.message}") for f in cal_run.findings
+            ]
         c_cal = constants[0] if len(constants) == 1 else calorimeter.combine_calibrations(constants)
+        flag = check_constant(c_cal.value, c_cal.u, str(spec.path), allow_negative=allow_negative)
+        found_in += [flag] if flag and len(constants) > 1 else []
+    if spec.sample is None:
+        found_in.append(
+            Finding(
+                "no-sample",
+                "flag",
+                "the run file has neither [sample] nor [electrical]: only ΔT"
+                + ("" if c_cal is None else " and the heat q")
+                + " are given",
+                "add a [sample] table (name, mass_g, u_mass_g) for ΔH per gram and per mole",
+            )
+        )
     if c_cal is None:
-        return RunResult(spec, red, mean_temp, contents)
+        return RunResult(spec, red, mean_temp, contents, findings=tuple(found_in))
     c_budget = (
         c_cal
         if isinstance(c_cal, Budget)
@@ -578,8 +677,18 @@ def evaluate_run(
         b = substitute(b, "ΔT", dt)
         return carry_calibration(b, c_cal) if isinstance(c_cal, Budget) else b
 
+    liquid = [c for c in contents if spec.sample is None or c.name != spec.sample.name]
+    for code, message, action in runschema.proportion_findings(
+        c_budget.value,
+        sum(c.mass_g.value * c.cp.value for c in contents),
+        sum(c.mass_g.value for c in liquid),
+        None if spec.sample is None else spec.sample.mass_g.value,
+    ):
+        found_in.append(Finding(code, "flag", message, action))
     q = carried(heat(dt, c_cal, list(contents)))
-    result = RunResult(spec, red, mean_temp, contents, c_cal=c_budget, heat_J=q)
+    result = RunResult(
+        spec, red, mean_temp, contents, c_cal=c_budget, heat_J=q, findings=tuple(found_in)
+    )
     sample = spec.sample
     if sample is None:
         return result
@@ -640,33 +749,53 @@ def evaluate_run(
         enthalpy_temp_C=t_ref if molar is not None else None,
         enthalpy_temp_basis=basis,
         molar_25=molar_25,
+        findings=tuple(found_in),
     )
 
 
-def run_file(path: str | Path, _seen: Sequence[Path] = ()) -> RunResult:
+def run_file(
+    path: str | Path, _seen: Sequence[Path] = (), *, allow_negative: bool = False
+) -> RunResult:
     """Load, read and evaluate a run file, following its calibration run files."""
     spec = load_run(path)
+    runschema.refuse_profile_for_reduce(spec.profile is not None, str(spec.path))
     here = spec.path.resolve()
     if any(p.resolve() in (*_seen, here) for p in spec.calibrations):
         raise InputError(f"{spec.path}: calibration run files refer to each other in a loop")
     thermogram = read_run_log(spec.log)
-    return evaluate_run(spec, thermogram, calibrate=lambda p: run_file(p, (*_seen, here)))
+    return evaluate_run(
+        spec,
+        thermogram,
+        calibrate=lambda p: run_file(p, (*_seen, here), allow_negative=allow_negative),
+        allow_negative=allow_negative,
+    )
 
 
 def profile_run(spec: RunSpec) -> ProfileResult:
     """Read the log of a run file with a ``[profile]`` table (its environment and flag columns
-    too) and compute the long-run heat profile (``heatlog profile RUN.toml``)."""
+    too) and compute the long-run heat profile (``heatlog profile RUN.toml``). The input gate's
+    findings are added to the result's notes; :func:`profile_run_checked` returns them apart."""
+    result, findings = profile_run_checked(spec)
+    return replace(result, notes=tuple(result.notes) + tuple(f.text() for f in findings))
+
+
+def profile_run_checked(spec: RunSpec) -> tuple[ProfileResult, tuple[Finding, ...]]:
+    """:func:`profile_run` with the input gate's findings returned beside the result."""
     if spec.profile is None:
         raise InputError(f"{spec.path}: the run file has no [profile] table")
+    check_profile_settings(spec.profile, f"{spec.path} [profile]")
     cols = spec.profile_columns
     extra = [c for c in (cols.get("env"), cols.get("flags")) if c]
-    time_s, temp, extras, meta = read_log_arrays(spec.log, extra)
+    env = [cols["env"]] if "env" in cols else []
+    time_s, temp, extras, meta = read_log_arrays(
+        spec.log, extra, kind="profile", temperature_channels=env, run_kind=spec.profile.kind
+    )
     settings = spec.profile
     probe = meta.get("probe_file")  # raw readings: the probe file's time constant, if it has one
     if settings.probe_tau is None and probe is not None and probe.time_constant_s is not None:
         tau = Input(probe.time_constant_s, probe.u_time_constant_s or 0.0, "s", note=probe.id)
         settings = dataclasses.replace(settings, probe_tau=tau)
-    return analyse_profile(
+    result = analyse_profile(
         time_s,
         temp,
         settings,
@@ -674,3 +803,4 @@ def profile_run(spec: RunSpec) -> ProfileResult:
         flags=extras.get(cols["flags"]) if "flags" in cols else None,
         where=str(spec.log.file),
     )
+    return result, tuple(meta["findings"])

@@ -12,7 +12,15 @@ from hypothesis import strategies as st
 
 from heatlog.device import framing as fr
 from heatlog.device.commands import BadReply, Board
-from heatlog.device.link import BoardError, Link, LinkLost, LinkTimeout, NotABoard, open_port
+from heatlog.device.link import (
+    BoardError,
+    Link,
+    LinkGarbled,
+    LinkLost,
+    LinkTimeout,
+    NotABoard,
+    open_port,
+)
 from heatlog.errors import LinkError
 from heatlog.sim.faults import WrongDevice
 
@@ -118,7 +126,7 @@ def test_error_reply_becomes_a_board_error_with_its_code():
 def test_silence_ends_in_a_bounded_number_of_tries():
     port = Scripted(lambda f: b"")
     link = Link(port, timeout=0.05, retries=2)
-    with pytest.raises(LinkTimeout, match="after 3 tries"):
+    with pytest.raises(LinkTimeout, match="no answer from the board.*silent for 3 tries"):
         Board(link).identify()
     assert len(port.requests) == 3
 
@@ -188,3 +196,80 @@ def test_any_reply_bytes_end_in_a_result_or_a_link_error(body):
             call()
         except LinkError:
             pass
+
+
+def test_garbled_answers_are_told_apart_from_silence():
+    # the board answers every request, but each reply's CRC is broken: "garbled", not "no answer"
+    def respond(f):
+        bad = bytearray(identify_reply(f))
+        bad[-1] ^= 0xFF
+        return bytes(bad)
+
+    link = Link(Scripted(respond), timeout=0.05, retries=2, stall_s=0.2)
+    with pytest.raises(LinkGarbled, match="answers, but garbled") as e:
+        Board(link).identify()
+    assert "no answer" not in str(e.value) and link.last_attempts >= 3
+
+
+def test_a_garbled_line_gets_the_time_budget_not_a_fixed_count():
+    # 9 garbled replies, then a good one: more tries than `retries`, inside the stall budget
+    calls = []
+
+    def respond(f):
+        calls.append(f)
+        good = bytearray(identify_reply(f))
+        if len(calls) < 10:
+            good[-1] ^= 0xFF
+        return bytes(good)
+
+    link = Link(Scripted(respond), timeout=0.05, retries=2, stall_s=30.0)
+    assert Board(link).identify().board_id == "b1" and len(calls) == 10
+
+
+def test_silence_after_garbled_answers_says_both():
+    calls = []
+
+    def respond(f):
+        calls.append(f)
+        if len(calls) > 1:
+            return b""
+        bad = bytearray(identify_reply(f))
+        bad[-1] ^= 0xFF
+        return bytes(bad)
+
+    link = Link(Scripted(respond), timeout=0.05, retries=2)
+    with pytest.raises(LinkTimeout, match="silent for 3 tries.*1 earlier answers arrived garbled"):
+        Board(link).identify()
+
+
+def test_request_ids_skip_the_outstanding_ones_and_come_back_last():
+    link = Link(open_port("loop://"))
+    busy = {2, 3, 4}
+    ids = [link.next_rid(busy) for _ in range(300)]
+    assert not busy & set(ids) and ids[:3] == [1, 5, 6]
+    # a freed id comes back only after every other free id was used once
+    assert ids.index(1, 1) == 252
+    with pytest.raises(ValueError, match="all 255"):
+        link.next_rid(set(range(256)))
+
+
+@pytest.mark.parametrize(
+    "field, value",
+    [("clock_ms", 2**63 - 1), ("clock_ms", -5), ("run", 2**40), ("free_bytes", 2**62)],
+)
+def test_identify_fields_out_of_range_are_one_line_naming_the_field(field, value):
+    def respond(f):
+        body = {"board_id": "b1", "firmware": "0.1.0", "protocol": 1, field: value}
+        return fr.encode(f.type | 0x80, f.request_id, json.dumps(body).encode())
+
+    with pytest.raises(BadReply, match=f"identify: {field} = {value} is outside"):
+        Board(Link(Scripted(respond))).identify()
+
+
+def test_board_text_with_terminal_escapes_is_shown_harmless():
+    def respond(f):
+        body = {"board_id": "b\x1b[2J1", "firmware": "0.1\x07", "protocol": 1}
+        return fr.encode(f.type | 0x80, f.request_id, json.dumps(body).encode())
+
+    info = Board(Link(Scripted(respond))).identify()
+    assert info.board_id == "b?[2J1" and info.firmware == "0.1?"

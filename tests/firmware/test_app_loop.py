@@ -69,6 +69,9 @@ class Poller:
         return False
 
 
+board_gc_collections: list[int] = []
+
+
 @pytest.fixture
 def board(tmp_path, monkeypatch):
     kbd = []
@@ -93,7 +96,13 @@ def board(tmp_path, monkeypatch):
     ))  # fmt: skip
     monkeypatch.setattr(app, "sys", types.SimpleNamespace(stdin=serial, stdout=serial))
     monkeypatch.setattr(app, "machine", fake_machine)
-    monkeypatch.setattr(app, "gc", types.SimpleNamespace(mem_free=lambda: 123456))
+    collected = board_gc_collections
+    collected.clear()
+    monkeypatch.setattr(
+        app,
+        "gc",
+        types.SimpleNamespace(mem_free=lambda: 123456, collect=lambda: collected.append(1)),
+    )
     yield app, clock, serial, kbd, root
     sys.modules.pop("app", None)
 
@@ -120,7 +129,10 @@ def test_boot_abort_window_then_commands_run_and_watchdog(board, monkeypatch):
     assert types_ == [pr.IDENTIFY | 0x80, pr.SET_CLOCK | 0x80, pr.START_RUN | 0x80]
     ident = json.loads(replies[0][2])
     assert (
-        ident["board_id"] == "bench-1" and ident["mem_free"] == 123456 and ident["reset_cause"] == 1
+        ident["board_id"] == "bench-1"
+        and ident["mem_free"] == 123456
+        and board_gc_collections  # identify's mem_free is taken after a collection
+        and ident["reset_cause"] == 1
     )
     wdt = fake_machine.WDT.instances
     assert len(wdt) == 1 and wdt[0].timeout == 8000 and wdt[0].feeds > 100

@@ -68,12 +68,26 @@ def _set(path, value):
         (("led_pin",), [1], "led_pin must be"),
         (("channels", 0, "dnl"), {"x": 1}, "channels[0].dnl must map"),
         (("channels", 0, "dnl"), {"512": 5000}, "channels[0].dnl must map"),
+        (("channels", 1, "role"), "room", "channels[1].role must be one of vessel, env"),
+        (("channels", 1, "role"), 1, "channels[1].role must be one of"),
     ],
 )
 def test_each_mistake_is_named(path, value, message):
     cfg, errs = config.parse(json.dumps(_set(path, value)))
     assert cfg is None
     assert any(message in e for e in errs), errs
+
+
+def test_channel_role_for_the_surroundings():
+    cfg = _example()
+    cfg["channels"][1]["role"] = "env"
+    parsed, errs = config.parse(json.dumps(cfg))
+    assert errs == [] and parsed["channels"][1]["role"] == "env"
+    cfg["channels"][2]["role"] = "env"
+    assert any("at most one channel" in e for e in config.validate(cfg))
+    for ch in cfg["channels"]:
+        ch["role"] = "env"
+    assert any("at least one channel" in e for e in config.validate(cfg))
 
 
 def test_not_json_and_too_long():

@@ -20,7 +20,7 @@ def runs(draw):
             draw(st.integers(0, 4)),
             draw(st.integers(0, 255)),
             draw(st.integers(0, 5)),
-            draw(u32),
+            draw(st.integers(1, 2**32 - 1)),  # 0 ohm is refused (test_logformat)
             draw(st.text("ABCXYZ-0123456789", min_size=1, max_size=16)),
         )
         for _ in range(n)
@@ -37,7 +37,7 @@ def runs(draw):
             max_size=30,
         )
     )
-    anchor = draw(st.one_of(st.just(0), st.integers(1, 2**62)))
+    anchor = draw(st.one_of(st.just(0), st.integers(*host.ANCHOR_MS), st.integers(1, 2**62)))
     return chans, recs, anchor
 
 
@@ -53,12 +53,18 @@ def test_firmware_written_runs_decode_exactly(run, board):
     log = host.decode(bytes(head) + bytes(body))
     h = log.header
     assert (h.board_id, h.run, h.interval_ms, h.oversample) == (board, 42, 250, 16)
-    assert h.anchor_ms == (anchor or None)
+    in_range = host.ANCHOR_MS[0] <= anchor <= host.ANCHOR_MS[1] - 1
+    assert h.anchor_ms == (anchor if in_range else None)  # out of 2000..2100: ignored, named
+    assert bool(h.problems) == (anchor != 0 and not in_range)
     assert [
         (c.kind_code, c.mode, c.source, c.gain, round(c.ref_ohm * 1000), c.probe_id)
         for c in h.channels
     ] == chans
-    assert not log.damaged and log.n_records == len(recs)
+    assert log.bad_blocks == log.trailing_bytes == 0 and log.n_records == len(recs)
+    regular = [r[0] for r in recs] == list(range(len(recs))) and all(
+        a[1] < b[1] for a, b in zip(recs, recs[1:], strict=False)
+    )  # sequence 0, 1, 2 … and time going forward: anything else is named as damage
+    assert log.damaged == (not regular or bool(h.problems))
     assert log.seq.tolist() == [r[0] for r in recs]
     assert log.offset_ms.tolist() == [r[1] for r in recs]
     assert log.flags.tolist() == [r[2] for r in recs]

@@ -119,13 +119,16 @@ def test_bad_input_is_one_line_and_nonzero(tmp_path, text, fragment):
 
 @pytest.mark.parametrize(
     "start, fragment",
-    [(60.0, "fore-period"), (1880.0, "after-period")],
+    [(20.0, "fore-period"), (1960.0, "after-period")],
     ids=["too-early", "too-late"],
 )
 def test_event_too_close_to_an_end(tmp_path, start, fragment):
+    # below the stated minimum (heatlog.reduce.periods: 30 s and 12 readings)
     run = synthetic_run(
         releases=(Release(start, 2.0, 10.0),), duration_s=2000.0, dt_s=2.0, noise_K=0.005
     )
     r = CliRunner().invoke(main, ["reduce", str(_csv(tmp_path, run)), "--json"])
     assert r.exit_code == 2
-    assert r.output.startswith("Error: ") and fragment in r.output
+    error = json.loads(r.output)  # with --json the error is one JSON object
+    assert error["kind"] == "ReductionError" and fragment in error["error"]
+    assert "would run" not in error["error"] and " -" not in error["error"].replace(" --", "")

@@ -25,9 +25,10 @@ import numpy as np
 from heatlog import __version__
 from heatlog.archive.calibrations import Calibration, applicable, calibration
 from heatlog.archive.db import Archive, utc_now
-from heatlog.archive.runs import RunRecord, raw_bytes, run_record
+from heatlog.archive.runs import RunRecord, raw_bytes, raw_file, run_record
 from heatlog.errors import CalibrationError, HeatlogError, InputError
 from heatlog.logformat import RunLog, decode
+from heatlog.plainjson import jsonable
 from heatlog.probes import ProbeFile, chain_from_spec
 from heatlog.runfile import (
     RunResult,
@@ -104,7 +105,7 @@ def _evaluate_run_file(ctx: _Context, run: RunRecord, options: Mapping[str, Any]
     spec = parse_run(tomllib.loads(run.run_file_text), Path(run.run_file_path))
     spec = dataclasses.replace(
         spec,
-        log=dataclasses.replace(spec.log, file=Path(run.raw_path)),
+        log=dataclasses.replace(spec.log, file=raw_file(run)),
         reduce={**spec.reduce, **options},
     )
     raw_bytes(run)  # verify the log CSV before reading it
@@ -193,8 +194,6 @@ def reduce_run(
     file's settings, else automatic). ``fixed``: probe id → calibration id to apply instead of
     the supersede rule. The computation runs outside any transaction; the record is written in
     one."""
-    from heatlog.cli.output import jsonable  # the one JSON cleaner (NaN → null); late: no cycle
-
     run = run_record(archive, run_id)
     opts = _options(options or {})
     ctx = _Context(archive, dict(fixed or {}))

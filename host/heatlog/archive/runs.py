@@ -32,11 +32,12 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+from heatlog.archive import rawstore
 from heatlog.archive.calibrations import add_calibration_text
 from heatlog.archive.db import Archive, open_archive, utc_now
 from heatlog.archive.rawfiles import ChecksumMismatch, read_bytes, read_verified, sha256_bytes
 from heatlog.errors import HeatlogError, InputError
-from heatlog.logformat import LogHeader, RunLog, decode, parse_header
+from heatlog.logformat import DamagedLog, LogHeader, RunLog, decode, parse_header
 from heatlog.runfile import parse_run
 from heatlog.storedpath import resolve_stored, to_stored
 
@@ -49,6 +50,7 @@ class ImportedRun:
     raw_path: str
     raw_sha256: str
     dependencies: tuple[int, ...] = ()
+    damage: dict[str, Any] | None = None  # a board run log's Damage (None for a TOML run file)
 
     def to_dict(self) -> dict[str, Any]:
         return dict(self.__dict__)
@@ -99,9 +101,12 @@ def _record_device_log(
     base: Path,
 ) -> ImportedRun:
     identity = f"log:{digest}"
+    damage = _damage(log)
     old = _existing(conn, identity)
     if old is not None:
-        return ImportedRun(old["id"], False, old["kind"], _shown(old["raw_path"], base), digest)
+        return ImportedRun(
+            old["id"], False, old["kind"], _shown(old["raw_path"], base), digest, (), damage
+        )
     h = log.header
     if h.anchor_ms is not None:
         date = dt.datetime.fromtimestamp(h.anchor_ms / 1000, dt.UTC).date().isoformat()
@@ -119,6 +124,7 @@ def _record_device_log(
         "bad_blocks": log.bad_blocks,
         "bad_bytes": log.bad_bytes,
         "trailing_bytes": log.trailing_bytes,
+        "damage": damage,
     }
     run_id = _insert_run(
         conn,
@@ -149,7 +155,12 @@ def _record_device_log(
             "VALUES (?, ?, ?, ?, ?)",
             (run_id, i, ch.probe_id or None, ch.kind, spec),
         )
-    return ImportedRun(run_id, True, "device-log", str(path), digest)
+    return ImportedRun(run_id, True, "device-log", str(path), digest, (), damage)
+
+
+def _damage(log: RunLog) -> dict[str, Any]:
+    d = log.damage()
+    return d.to_dict() | {"summary": d.describe()}
 
 
 def archive_dir(archive: Archive) -> Path:
@@ -194,6 +205,7 @@ def record_pulled_run(
                     f"board {header.board_id} run {header.run}; pull the run again"
                 )
         log = decode(data)  # before the transaction: the write lock is held only to insert
+        rawstore.keep(archive.path, data, sha256.lower())
         with archive.transaction() as conn:
             return _record_device_log(
                 conn, path, log, len(data), sha256.lower(), run_date, "pull", archive_dir(archive)
@@ -204,15 +216,28 @@ def record_pulled_run(
 
 
 def import_device_log(
-    archive: Archive, path: str | Path, run_date: dt.date | str | None = None
+    archive: Archive,
+    path: str | Path,
+    run_date: dt.date | str | None = None,
+    *,
+    strict: bool = False,
 ) -> ImportedRun:
-    """Import a board run log file from disk (``heatlog runs import RUN.bin``)."""
+    """Import a board run log file from disk (``heatlog runs import RUN.bin``). The reply's
+    ``damage`` says what the decoder found; with ``strict`` a damaged file is refused
+    (:class:`~heatlog.logformat.DamagedLog`) and nothing is stored."""
     p = Path(path).resolve()
     data = read_bytes(p, "run log")
     log = decode(data)  # LogCorrupt for an unusable header; damaged blocks are counted
+    if strict and log.damaged:
+        raise DamagedLog(
+            f"{p}: {log.damage().describe()}; not imported (--strict); import it without "
+            "--strict to keep it with the damage recorded"
+        )
+    digest = sha256_bytes(data)
+    rawstore.keep(archive.path, data, digest)
     with archive.transaction() as conn:
         return _record_device_log(
-            conn, p, log, len(data), sha256_bytes(data), run_date, "file", archive_dir(archive)
+            conn, p, log, len(data), digest, run_date, "file", archive_dir(archive)
         )
 
 
@@ -235,6 +260,7 @@ def _record_run_file(
     log_path = spec.log.file.resolve()
     log_bytes = read_bytes(log_path, "log CSV")
     log_sha = sha256_bytes(log_bytes)
+    rawstore.keep(archive.path, log_bytes, log_sha)
     run_sha = sha256_bytes(raw)
     identity = f"run-file:{run_sha}:{log_sha}"
     old = _existing(conn, identity)
@@ -302,13 +328,18 @@ def import_run_file(
 
 
 def import_path(
-    archive: Archive, path: str | Path, run_date: dt.date | str | None = None
+    archive: Archive,
+    path: str | Path,
+    run_date: dt.date | str | None = None,
+    *,
+    strict: bool = False,
 ) -> ImportedRun:
-    """``heatlog runs import FILE``: a ``.toml`` run file, or else a board run log."""
+    """``heatlog runs import FILE``: a ``.toml`` run file, or else a board run log (with
+    ``strict``, refused if damaged)."""
     _date_from(run_date)  # a malformed date is reported before any file is read
     if str(path).lower().endswith(".toml"):
         return import_run_file(archive, path, run_date)
-    return import_device_log(archive, path, run_date)
+    return import_device_log(archive, path, run_date, strict=strict)
 
 
 @dataclass(frozen=True)
@@ -334,6 +365,7 @@ class RunRecord:
     imported_at: str
     channels: tuple[dict[str, Any], ...]
     dependencies: tuple[int, ...]
+    archive_copy: str | None = None  # the archive's own copy (rawstore), when it holds one
 
     def to_dict(self, with_text: bool = True) -> dict[str, Any]:
         out = dict(self.__dict__)
@@ -391,12 +423,23 @@ def run_record(archive: Archive, run_id: int) -> RunRecord:
         imported_at=row["imported_at"],
         channels=channels,
         dependencies=deps,
+        archive_copy=None
+        if (copy := rawstore.stored(archive.path, row["raw_sha256"])) is None
+        else str(copy),
     )
+
+
+def raw_file(run: RunRecord) -> Path:
+    """Where the run's raw bytes are read from: the original file while it is there, else the
+    archive's own copy (so a moved project folder does not orphan its runs)."""
+    if run.archive_copy is not None and not Path(run.raw_path).is_file():
+        return Path(run.archive_copy)
+    return Path(run.raw_path)
 
 
 def raw_bytes(run: RunRecord) -> bytes:
     """The run's raw file, verified against its recorded SHA-256 (ChecksumMismatch if not)."""
-    return read_verified(run.raw_path, run.raw_sha256)
+    return read_verified(raw_file(run), run.raw_sha256)
 
 
 def list_runs(archive: Archive, probe_id: str | None = None) -> list[dict[str, Any]]:

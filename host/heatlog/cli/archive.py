@@ -106,17 +106,23 @@ def runs() -> None:
 @click.option(
     "--date", "run_date", default=None, help="Run date YYYY-MM-DD when the file has none."
 )
+@click.option("--strict", is_flag=True, help="Refuse a damaged board run log (bad blocks, "
+              "records missing, repeated or out of order): exit code 4, nothing stored.")  # fmt: skip
 @db_option
 @json_option
-def runs_import(file: Path, run_date: str | None, db: Path | None, as_json: bool) -> None:
+def runs_import(
+    file: Path, run_date: str | None, strict: bool, db: Path | None, as_json: bool
+) -> None:
     """Import FILE: a board run log pulled from a board, or a TOML run file with its log CSV."""
     with _open(db, create=True) as archive:
-        imported = import_path(archive, file, run_date)
+        imported = import_path(archive, file, run_date, strict=strict)
     payload = {"db": str(archive.path), **imported.to_dict()}
     text = (
         f"{'imported' if imported.new else 'already imported'}: run {imported.run_id} "
         f"({imported.kind}), raw file {imported.raw_path} SHA-256 {_short(imported.raw_sha256)}"
     )
+    if imported.damage is not None:
+        text += f"\n  {imported.damage['summary']}"
     if imported.dependencies:
         text += f"\n  calibration runs: {', '.join(map(str, imported.dependencies))}"
     emit(as_json, payload, text)
@@ -224,7 +230,8 @@ def runs_export(
 
 @runs.command("reduce")
 @click.argument("run_id", type=int)
-@click.option("--channel", type=click.IntRange(min=0), default=0, show_default=True)
+@click.option("--channel", type=click.IntRange(min=0), default=0, show_default=True,
+              help="Logged channel to reduce (0 = first).")  # fmt: skip
 @click.option("--method", type=click.Choice(["auto", *METHODS]), default=None,
               help="Correction method (default: the run file's, else auto).")  # fmt: skip
 @click.option("--event", type=click.IntRange(min=0), default=None, help="Which event (0 = first).")

@@ -195,10 +195,15 @@ class _Progress:
               default=None, help="Run archive that records every verified run "
               "(default: $HEATLOG_DB, else ./heatlog.sqlite).")  # fmt: skip
 @click.option("--no-db", is_flag=True, help="Do not record the pulled runs in the run archive.")
+@click.option("--give-up-after", "stall_s", type=click.FloatRange(1.0, 3600.0), default=30.0,
+              show_default=True, help="Seconds without one intact reply (while the board "
+              "answers garbled) before the pull stops; it resumes where it stopped.")  # fmt: skip
+@click.option("--strict", is_flag=True, help="Exit with code 4 if a run file is damaged (bad "
+              "blocks, records missing, repeated or out of order); the files are still kept.")  # fmt: skip
 @json_option
 def pull_cmd(port: str, baud: int, timeout: float, out: Path, runs: tuple[int, ...], probes: Path | None,
-             window: int, progress: bool | None, db: Path | None, no_db: bool,
-             as_json: bool) -> None:  # fmt: skip
+             window: int, progress: bool | None, db: Path | None, no_db: bool, stall_s: float,
+             strict: bool, as_json: bool) -> None:  # fmt: skip
     """Download runs, verify them (chunk CRC + whole-run CRC-32) and archive them read-only.
 
     Resumes after a fault from the last verified byte; a second pull fetches nothing new. Each
@@ -206,41 +211,61 @@ def pull_cmd(port: str, baud: int, timeout: float, out: Path, runs: tuple[int, .
     from heatlog.device.archive import Archive
     from heatlog.device.export import export_run
     from heatlog.device.pull import pull
+    from heatlog.logformat import DamagedLog, LogCorrupt
 
     show = sys.stderr.isatty() if progress is None else progress
     archive = Archive(out)
     b = _board(port, baud, timeout)
+    b.link.stall_s = stall_s
     with b.link:
         report = pull(
             b, archive, runs=runs or None, window=window, progress=_Progress() if show else None
         )
     exports = []
     for e in report.pulled + (report.already if probes else []):
-        csv, meta = export_run(out / e.name, probes)
+        try:
+            csv, meta = export_run(out / e.name, probes)
+        except LogCorrupt as exc:  # a header out of range: the file is kept, not exported
+            exports.append({"run": e.run, "error": str(exc)})
+            continue
         exports.append({"run": e.run, "csv": str(csv), "metadata": str(meta)})
-    recorded = []
+    recorded: list[dict[str, Any]] = []
     if not no_db:
         from heatlog.archive import open_archive, record_pulled_run
 
         with open_archive(db) as store:
             for e in report.pulled + report.already:
-                rec = record_pulled_run(store, out / e.name, e.sha256)
+                try:
+                    rec = record_pulled_run(store, out / e.name, e.sha256)
+                except LogCorrupt as exc:
+                    recorded.append({"run": e.run, "error": str(exc)})
+                    continue
                 recorded.append({"run": e.run, "run_id": rec.run_id, "new": rec.new})
     payload = report.to_dict() | {"exports": exports, "recorded": recorded}
 
     def text() -> str:
         lines = [f"board {report.board_id}: pulled {len(report.pulled)} run(s), {report.bytes} bytes in {report.seconds:.1f} s; "
                  f"{len(report.already)} already archived"]  # fmt: skip
-        lines += [f"  {e.name}  sha256 {e.sha256[:16]}…" for e in report.pulled]
+        lines += [f"  {e.name}  sha256 {e.sha256[:16]}…  {report.damage[e.name]['summary']}"
+                  for e in report.pulled]  # fmt: skip
+        lines += [f"  {e.name} (already archived)  {report.damage[e.name]['summary']}"
+                  for e in report.already if report.damage[e.name]["damaged"]]  # fmt: skip
+        lines += [f"  run {r['run']} not recorded in the run archive: {r['error']}"
+                  for r in recorded if "error" in r]  # fmt: skip
         lines += [f"  run {s['run']} skipped: {s['reason']}" for s in report.skipped]
-        new = [r for r in recorded if r["new"]]
+        new = [r for r in recorded if r.get("new")]
         if recorded:
             lines.append(
-                f"  run archive: {len(new)} new run(s) recorded, {len(recorded) - len(new)} already there"
+                f"  run archive: {len(new)} new run(s) recorded, {sum(r.get('new') is False for r in recorded)} already there"
             )
         return "\n".join(lines)
 
     emit(as_json, payload, text)
+    if strict and report.damaged:
+        raise DamagedLog(
+            f"{len(report.damaged)} archived run file(s) damaged on the board "
+            f"({', '.join(report.damaged)}); kept in {out} (--strict)"
+        )
 
 
 pull_cmd.name = "pull"
@@ -266,6 +291,26 @@ def erase_cmd(port: str, baud: int, timeout: float, out: Path, run: int, as_json
 
 
 erase_cmd.name = "erase"
+
+
+def uncalibrated_notices(channels: list[dict[str, Any]], probes: Path | None) -> list[str]:
+    """One line per channel whose readings are shown raw (no probe file for its probe id)."""
+    notices = []
+    for i, ch in enumerate(channels):
+        if ch["calibrated"]:
+            continue
+        pid = ch["probe_id"] or "(none)"
+        if probes is None:
+            why = "no --probes folder given"
+        else:
+            from heatlog.device.archive import safe_name
+
+            why = f"no probe file {safe_name(pid, limit=64)}.toml in {probes}"
+        notices.append(
+            f"channel {i} (probe id {pid}) is shown UNCALIBRATED, as raw readings: {why}; "
+            "fit one with `heatlog probe fit ... --out DIR/<probe id>.toml`"
+        )
+    return notices
 
 
 @click.command("watch")
@@ -325,6 +370,12 @@ def watch(
             raise click.BadParameter(
                 f"the board has {len(dec.channels)} channel(s)", param_hint="--channel"
             )
+        notices = uncalibrated_notices(dec.channels_meta(), probes)
+        if live_guide is not None and not dec.channels_meta()[channel]["calibrated"]:
+            b.stream(False)
+            raise click.UsageError(f"--guide cannot follow channel {channel}: {notices[0]}")
+        for notice in notices:
+            click.echo(f"notice: {notice}", err=True)
         try:
             end = float("inf") if seconds is None else seconds
             for record in b.live_records(end):
@@ -339,9 +390,9 @@ def watch(
                 elif r["temp_C"][channel] is not None:
                     state = live_guide.feed(r["offset_s"], r["temp_C"][channel])
                     for key, value, words in (
-                        ("start_s", state.start_signal_s, "STABLE — start now"),
-                        ("event_s", state.event_s, "event detected"),
-                        ("enough_s", state.enough_signal_s, "ENOUGH after-period — you may stop"),
+                        ("start_s", state.start_signal_s, "STABLE"),
+                        ("event_s", state.event_s, "EVENT"),
+                        ("enough_s", state.enough_signal_s, "ENOUGH"),
                     ):
                         if value is not None and signals[key] is None:
                             signals[key] = value
@@ -358,6 +409,7 @@ def watch(
         finally:
             b.stream(False)
     payload: dict[str, Any] = {"readings": readings, "channels": dec.channels_meta()}
+    payload["notices"] = notices
     if live_guide is not None:
         payload["guide"] = {"signals": signals, "state": live_guide.state.to_dict()}
         if save is not None:
@@ -415,12 +467,15 @@ def sim(link_path: Path | None, tcp_port: int | None, scenario: str, speed: floa
     import tempfile
 
     from heatlog.sim.board import PtyServer, TcpServer, VirtualBoard
+    from heatlog.sim.linkpath import claim_link_path
     from heatlog.sim.scenarios import scenario as get_scenario
 
     if (link_path is None) == (tcp_port is None):
         raise click.UsageError(
             "give --link PATH (a pseudo-terminal, Linux/macOS) or --tcp PORT (any system), one of them"
         )
+    if link_path is not None:
+        claim_link_path(link_path)  # before anything is made: never over an existing file
     scn = get_scenario(scenario)
     tmp = None
     if flash_dir is None:

@@ -36,11 +36,13 @@ _number = click.FLOAT
 
 def _inp(value: float, u: float, unit: str, name: str) -> Any:
     from heatlog.gum import Input
+    from heatlog.inputgate import check_quantity
 
     if not math.isfinite(value):
         raise InputError(f"{name} must be a finite number, got {value}")
     if not (math.isfinite(u) and u >= 0):
         raise InputError(f"uncertainty of {name} must be a finite number ≥ 0, got {u}")
+    check_quantity(name, value, u, unit)  # bounded before any arithmetic
     return Input(value, u, unit)
 
 
@@ -123,7 +125,25 @@ def _delta_t(delta_t: float | None, u_delta_t: float | None, reduce_json: Path |
     return _inp(delta_t, u_delta_t, "K", "--delta-t")
 
 
-def _report(as_json: bool, budget: Any, caution: str, extra: dict[str, Any] | None = None) -> None:
+_allow_negative = click.option(
+    "--allow-negative",
+    is_flag=True,
+    help="Print a significantly negative C_cal instead of refusing it.",
+)
+
+
+def _report(
+    as_json: bool,
+    budget: Any,
+    caution: str,
+    extra: dict[str, Any] | None = None,
+    allow_negative: bool = False,
+) -> None:
+    from heatlog.inputgate import check_constant
+
+    flag = None
+    if budget.unit == "J/K":
+        flag = check_constant(budget.value, budget.u, "C_cal", allow_negative=allow_negative)
     payload: dict[str, Any] = {
         "value": budget.value,
         "unit": budget.unit,
@@ -132,6 +152,7 @@ def _report(as_json: bool, budget: Any, caution: str, extra: dict[str, Any] | No
         "coverage_factor": budget.k,
         "budget": budget.to_dict(),
         "caution": caution,
+        "findings": [] if flag is None else [flag.to_dict()],
     }
     payload.update(extra or {})
 
@@ -153,10 +174,8 @@ def _report(as_json: bool, budget: Any, caution: str, extra: dict[str, Any] | No
                 f"{he['t_off_s']:.1f} s (u = {he['u_t_on_s']:.2g} s, {he['u_t_off_s']:.2g} s, k=1); "
                 f"its power changed by {100 * he['power_change_rel']:+.2f} % while on"
             )
-        if budget.unit == "J/K" and budget.value < 0:
-            lines.append(
-                "Note: C_cal came out negative; the contents' heat capacity or ΔT is likely off."
-            )
+        if flag is not None:
+            lines.append(f"Note: {flag.message}; {flag.action}.")
         if caution:
             lines.append(caution)
         return "\n".join(lines)
@@ -167,6 +186,58 @@ def _report(as_json: bool, budget: Any, caution: str, extra: dict[str, Any] | No
 @click.group("calibrate")
 def calibrate() -> None:
     """Find the calorimeter's own heat capacity (C_cal, J/K) with an uncertainty budget."""
+
+
+def _electrical_missing(
+    voltage, u_voltage, current, u_current, power, u_power, power_log, u_power_rel,
+    seconds, t_on, t_off, u_seconds, delta_t, u_delta_t, reduce_json, solute, molality, cp, u_cp,
+    monitor_log=None, shunt_ohm=None, u_shunt_rel=None,
+) -> list[str]:  # fmt: skip
+    """Every input `calibrate electrical` still needs, so one error lists them all."""
+    missing: list[str] = []
+    if voltage is None and power is None and power_log is None and monitor_log is None:
+        missing.append(
+            "the heater energy: --voltage and --current, or --power, or --power-log, or --monitor-log"
+        )
+    if monitor_log is not None:
+        missing += [
+            f"{name} ({what})"
+            for name, value, what in (
+                ("--shunt-ohm", shunt_ohm, "the monitor's shunt resistor, ohm"),
+                ("--u-shunt-rel", u_shunt_rel, "relative standard uncertainty of the shunt"),
+            )
+            if value is None
+        ]
+    elif power_log is not None:
+        if u_power_rel is None:
+            missing.append("--u-power-rel (relative standard uncertainty of the logged power)")
+    else:
+        if seconds is None and (t_on is None or t_off is None):
+            missing.append("--seconds, or both --on and --off (the heating time)")
+        if u_seconds is None:
+            missing.append("--u-seconds (standard uncertainty of the heating time)")
+        if voltage is not None:
+            missing += [
+                f"{name} ({what})"
+                for name, value, what in (
+                    ("--current", current, "heater current, A"),
+                    ("--u-voltage", u_voltage, "standard uncertainty of the voltage"),
+                    ("--u-current", u_current, "standard uncertainty of the current"),
+                )
+                if value is None
+            ]
+        if power is not None and u_power is None:
+            missing.append("--u-power (standard uncertainty of the power)")
+    if reduce_json is None:
+        if delta_t is None:
+            missing.append("--delta-t (or --reduce-json FILE)")
+        if u_delta_t is None:
+            missing.append("--u-delta-t (standard uncertainty of ΔT)")
+    if cp is not None and u_cp is None:
+        missing.append("--u-cp (standard uncertainty of --cp)")
+    if solute is not None and cp is None and molality is None:
+        missing.append("--molality (mol per kg of water, for --solute)")
+    return missing
 
 
 @calibrate.command("electrical")
@@ -221,11 +292,13 @@ def calibrate() -> None:
 )
 @_delta_t_options
 @_contents_options
+@_allow_negative
 @json_option
 def electrical(
     voltage, u_voltage, current, u_current, power, u_power, power_log, u_power_rel,
-    monitor_log, monitor, bus_col, shunt_col, shunt_ohm, u_shunt_rel, seconds, t_on, t_off, u_seconds, delta_t, u_delta_t, reduce_json,
-    water_g, u_water_g, temp_c, solute, molality, cp, u_cp, as_json,
+    monitor_log, monitor, bus_col, shunt_col, shunt_ohm, u_shunt_rel, seconds, t_on, t_off,
+    u_seconds, delta_t, u_delta_t, reduce_json,
+    water_g, u_water_g, temp_c, solute, molality, cp, u_cp, allow_negative, as_json,
 ) -> None:  # fmt: skip
     """Electrical calibration: Q = V·I·t (or P·t, ∫P dt, or ∫V·I dt from a logged monitor),
     C_cal = Q/ΔT − m·c_p."""
@@ -233,20 +306,22 @@ def electrical(
     from heatlog.energetics.calorimeter import logged_energy
 
     ways = sum(x is not None for x in (voltage, power, power_log, monitor_log))
-    if ways != 1:
+    if ways > 1:
         raise InputError(
             "give exactly one of --voltage/--current, --power, --power-log or --monitor-log"
         )
+    missing = _electrical_missing(
+        voltage, u_voltage, current, u_current, power, u_power, power_log, u_power_rel,
+        seconds, t_on, t_off, u_seconds, delta_t, u_delta_t, reduce_json, solute, molality, cp,
+        u_cp, monitor_log, shunt_ohm, u_shunt_rel,
+    )  # fmt: skip
+    if missing:
+        raise InputError("missing input(s), all at once: " + "; ".join(missing))
     extra: dict[str, Any] = {}
     if monitor_log is not None:
         from heatlog.csvtable import read_columns
         from heatlog.energetics.heater_energy import heater_energy
 
-        missing = [
-            n for n, v in (("--shunt-ohm", shunt_ohm), ("--u-shunt-rel", u_shunt_rel)) if v is None
-        ]
-        if missing:
-            raise InputError(f"--monitor-log also needs {' and '.join(missing)}")
         cols = read_columns(
             monitor_log, ["time_s", bus_col, shunt_col], min_rows=5, what="monitor log"
         )
@@ -294,7 +369,7 @@ def electrical(
         "Caution: heaters and their leads can burn or shock; keep the heater immersed while on "
         "and follow local electrical rules."
     )
-    _report(as_json, b, caution, {"energy_budget": energy.to_dict(), **extra})
+    _report(as_json, b, caution, {"energy_budget": energy.to_dict(), **extra}, allow_negative)
 
 
 @calibrate.command("mixing")
@@ -327,10 +402,12 @@ def electrical(
     "--cp", type=_number, default=None, help="c_p of the water, J/(g·K) (default IAPWS-95)."
 )
 @click.option("--u-cp", type=_number, default=None, help="Standard uncertainty of --cp.")
+@_allow_negative
 @json_option
 def mixing(
-    hot_g, hot_c, cold_g, cold_c, final_c, u_mass, u_temp, u_final, cp, u_cp, as_json
-) -> None:
+    hot_g, hot_c, cold_g, cold_c, final_c, u_mass, u_temp, u_final, cp, u_cp, allow_negative,
+    as_json,
+) -> None:  # fmt: skip
     """Method of mixtures: C_cal = [m_h c (T_h − T_f) − m_c c (T_f − T_c)]/(T_f − T_c)."""
     from heatlog.energetics import given_cp, mixing_calibration
 
@@ -348,7 +425,7 @@ def mixing(
         cp_hot=c,
         cp_cold=c,
     )
-    _report(as_json, b, CAUTION_HOT)
+    _report(as_json, b, CAUTION_HOT, None, allow_negative)
 
 
 @calibrate.command("reaction")
@@ -377,10 +454,11 @@ def mixing(
 )
 @_delta_t_options
 @_contents_options
+@_allow_negative
 @json_option
 def reaction_cmd(
     reference, dh, u_dh, per, amount, u_amount, final_conc, delta_t, u_delta_t, reduce_json,
-    water_g, u_water_g, temp_c, solute, molality, cp, u_cp, as_json,
+    water_g, u_water_g, temp_c, solute, molality, cp, u_cp, allow_negative, as_json,
 ) -> None:  # fmt: skip
     """Calibrate with a reaction or dissolution of known enthalpy (q = −ΔH·amount).
 
@@ -437,7 +515,7 @@ def reaction_cmd(
         contents,
         **where,
     )
-    _report(as_json, b, caution, extra)
+    _report(as_json, b, caution, extra, allow_negative)
 
 
 reaction_cmd.name = "reaction"
@@ -456,13 +534,14 @@ def _value_u(text: str) -> Any:
 
 @calibrate.command("combine")
 @click.argument("results", nargs=-1, required=True)
+@_allow_negative
 @json_option
-def combine(results: tuple[str, ...], as_json: bool) -> None:
+def combine(results: tuple[str, ...], allow_negative: bool, as_json: bool) -> None:
     """Combine repeated C_cal results (VALUE:U in J/K) into a weighted mean with the scatter."""
     from heatlog.energetics import combine_calibrations
 
     b = combine_calibrations([_value_u(r) for r in results])
-    _report(as_json, b, "")
+    _report(as_json, b, "", None, allow_negative)
 
 
 @click.command("hess")

@@ -17,7 +17,7 @@ from heatlog.probes.chains import CHAIN_SPEC_HELP, chain_from_spec
 from heatlog.probes.design import CRITERIA, design_divider
 from heatlog.probes.fitting import CalibrationFit, fit_counts, fit_resistance
 from heatlog.probes.models import MODEL_NAMES, ProbeModel
-from heatlog.probes.probefile import load_probe, probe_from_fit, save_probe
+from heatlog.probes.probefile import ID_RULE, load_probe, probe_from_fit, save_probe, valid_probe_id
 from heatlog.probes.rtd import pt100, pt1000, tolerance_class
 from heatlog.probes.thermistor import Beta
 
@@ -136,6 +136,14 @@ def fit_command(
     as_json: bool,
 ) -> None:
     """Fit a probe curve to calibration points (CSV: temp_C,resistance_ohm or temp_C,counts)."""
+    if out is not None:
+        pid = probe_id or points.stem
+        if not valid_probe_id(pid):
+            source = "--id" if probe_id else f"the points file's name {points.name!r}"
+            raise InputError(
+                f"probe id {pid!r} (taken from {source}) must be {ID_RULE}; "
+                "give one with --id, e.g. --id ntc-1"
+            )
     temps, values, is_counts = _read_points(points, chain_spec)
     options: dict[str, Any] = {"ref_u_K": ref_u, "range_C": range_C, "r0_ohm": r0, "t25_C": t25}
     if is_counts:
@@ -278,10 +286,15 @@ def convert_command(
 @click.option("--beta", type=float, default=None, help="β (K) of a nominal thermistor.")
 @click.option("--r25", type=float, default=None, help="R25 (Ω) of a nominal thermistor.")
 @click.option("--range", "range_C", type=(float, float), required=True, help="T1 T2 in °C.")
-@click.option("--criterion", type=click.Choice(CRITERIA), default="max-span", show_default=True)
+@click.option("--criterion", type=click.Choice(CRITERIA), default="max-span", show_default=True,
+              help="What the series resistor is chosen for.")  # fmt: skip
 @click.option("--series", type=float, default=None, help="Evaluate this series resistor, Ω.")
 @click.option(
-    "--bits", type=click.Choice(["10", "12", "14", "16"]), default="12", show_default=True
+    "--bits",
+    type=click.Choice(["10", "12", "14", "16"]),
+    default="12",
+    show_default=True,
+    help="ADC resolution, bits.",
 )
 @click.option("--oversample", type=int, default=1, show_default=True, help="Reads summed.")
 @click.option("--vexc", type=float, default=3.3, show_default=True, help="Excitation, V.")

@@ -7,15 +7,16 @@ from pathlib import Path
 import click
 
 from heatlog.cli.output import emit, json_option
-from heatlog.csvtable import read_columns
 from heatlog.errors import InputError
 from heatlog.gum import Input
+from heatlog.inputgate import Finding, check_profile_settings, findings_text
 from heatlog.probes.probefile import load_probe
 from heatlog.profile import KINDS, GapPolicy, ProfileResult, ProfileSettings, Thresholds
 from heatlog.profile.analysis import DEFAULT_U_ENV_K, DEFAULT_U_TEMP_K, analyse_profile
 from heatlog.profile.logcheck import DEFAULT_GAP_FACTOR
 from heatlog.profile.maturity import DEFAULT_ACTIVATION_K, DEFAULT_DATUM_C, DEFAULT_REFERENCE_C
-from heatlog.runfile import load_run, profile_run
+from heatlog.runfile import load_run, profile_run_checked
+from heatlog.thermogram import read_profile_csv
 
 CAUTION = (
     "Caution: hand warmers, cold packs, heaters and wet cement can injure skin; follow the "
@@ -30,7 +31,19 @@ def _h(seconds: float | None, u: float | None = None) -> str:
     return text if u is None else f"{text} ± {u / 3600.0:.2g} h (u, k=1)"
 
 
-def _text(result: ProfileResult, source: str) -> str:
+def _from_box(
+    path: Path, heat_capacity: float | None, loss: float | None
+) -> tuple[float, float, float, float]:
+    """C, u(C), G, u(G) from a box file (``--box``), which replaces --heat-capacity and --loss."""
+    from heatlog.boxfile import load_box
+
+    if heat_capacity is not None or loss is not None:
+        raise InputError("give --box or --heat-capacity/--loss, not both")
+    b = load_box(path)
+    return b.heat_capacity.value, b.heat_capacity.u, b.loss.value, b.loss.u
+
+
+def _text(result: ProfileResult, source: str, findings: tuple[Finding, ...] = ()) -> str:
     d = result.to_dict()
     s = result.settings
     m = result.metrics
@@ -38,6 +51,7 @@ def _text(result: ProfileResult, source: str) -> str:
     lines = [
         f"{source}: {s.kind}, {seg.time_s.size} samples over {_h(seg.duration_s)} "
         f"(segment {result.segment_index} of {len(result.check.segments)})",
+        *(f"  {line}" for line in findings_text(findings)),
         f"  method: {d['method']}",
         f"  G = {result.heat.loss.G_W_per_K:.4g} ± {result.heat.loss.u_G_W_per_K:.2g} W/K (u, k=1) "
         f"({result.heat.loss.source}); C = {s.heat_capacity.value:.5g} ± {s.heat_capacity.u:.2g} J/K (u, k=1)",
@@ -63,7 +77,9 @@ def _text(result: ProfileResult, source: str) -> str:
     th = m.thresholds
     if th.threshold_C is not None:
         lines.append(
-            f"  threshold {th.threshold_C:g} °C ({th.source}): reached after "
+            f"  threshold {th.threshold_C:g} °C ({th.source}): never reached"
+            if m.time_to_threshold_s is None
+            else f"  threshold {th.threshold_C:g} °C ({th.source}): reached after "
             f"{_h(m.time_to_threshold_s, m.u_time_to_threshold_s)}; {m.side} it for "
             f"{_h(m.time_beyond_threshold_s, m.u_time_beyond_threshold_s)}"
         )
@@ -148,8 +164,11 @@ def _probe_tau(tau: float | None, u_tau: float | None, probe_path: str | None) -
     default=None,
     help="C of box + contents + sample, J/K (required for a CSV).",
 )
-@click.option("--u-heat-capacity", type=click.FloatRange(min=0.0), default=0.0, show_default=True)
+@click.option("--u-heat-capacity", type=click.FloatRange(min=0.0), default=0.0, show_default=True,
+              help="Standard uncertainty of C, J/K (k=1).")  # fmt: skip
 @click.option("--loss", type=float, default=None, help="Heat-loss coefficient G, W/K.")
+@click.option("--box", "box_path", type=click.Path(dir_okay=False, path_type=Path), default=None,
+              help="Box file from `heatlog box fit`: C and G with their uncertainties.")  # fmt: skip
 @click.option(
     "--u-loss",
     type=click.FloatRange(min=0.0),
@@ -166,8 +185,10 @@ def _probe_tau(tau: float | None, u_tau: float | None, probe_path: str | None) -
     "start (the time base of everything printed); no heat may be released there.",
 )
 @click.option("--sample-g", type=float, default=None, help="Sample (binder) mass, g.")
-@click.option("--u-sample-g", type=click.FloatRange(min=0.0), default=0.0, show_default=True)
-@click.option("--kind", type=click.Choice(KINDS), default="generic", show_default=True)
+@click.option("--u-sample-g", type=click.FloatRange(min=0.0), default=0.0, show_default=True,
+              help="Standard uncertainty of the sample mass, g (k=1).")  # fmt: skip
+@click.option("--kind", type=click.Choice(KINDS), default="generic", show_default=True,
+              help="What is measured: sets the default threshold, band and safety checks.")  # fmt: skip
 @click.option(
     "--threshold",
     type=float,
@@ -235,7 +256,8 @@ def _probe_tau(tau: float | None, u_tau: float | None, probe_path: str | None) -
     show_default=True,
     help="Activation-energy constant Q = E/R, K, for equivalent age (cement).",
 )
-@click.option("--u-activation", type=click.FloatRange(min=0.0), default=0.0, show_default=True)
+@click.option("--u-activation", type=click.FloatRange(min=0.0), default=0.0, show_default=True,
+              help="Standard uncertainty of the activation energy / R, K (k=1).")  # fmt: skip
 @click.option(
     "--reference",
     type=float,
@@ -275,6 +297,7 @@ def profile(
     heat_capacity: float | None,
     u_heat_capacity: float,
     loss: float | None,
+    box_path: Path | None,
     u_loss: float | None,
     cooling_after: float | None,
     sample_g: float | None,
@@ -300,13 +323,15 @@ def profile(
     """Cumulative heat Q(t), rate P(t), metrics, safety flags (and maturity for cement) of a long
     run in FILE (CSV), or as a run file RUN.toml with a [profile] table describes it.
 
-    With a run file every setting comes from the file and the options above are not used.
+    With a run file every setting comes from the file and the options below are not used.
     """
     if file.lower().endswith(".toml"):
         spec = load_run(file)
-        result = profile_run(spec)
+        result, findings = profile_run_checked(spec)
         source = str(spec.log.file)
     else:
+        if box_path is not None:
+            heat_capacity, u_heat_capacity, loss, u_loss = _from_box(box_path, heat_capacity, loss)
         if heat_capacity is None:
             raise InputError(
                 "give the heat capacity of box, contents and sample (--heat-capacity J/K)"
@@ -343,15 +368,14 @@ def profile(
             reference_C=reference,
             probe_tau=tau,
         )
-        optional = [c for c in (env_col, flags_col) if c]
-        data = read_columns(Path(file), [time_col, temp_col, *optional], what="log")
-        lookup = {k.lower(): v for k, v in data.items()}
-        time_s, temp = lookup[time_col.lower()], lookup[temp_col.lower()]
-        env = lookup[env_col.lower()] if env_col else None
-        flags = lookup[flags_col.lower()] if flags_col else None
+        check_profile_settings(settings, "heatlog profile")
+        time_s, temp, env, flags, findings = read_profile_csv(
+            Path(file), time_col, temp_col, env_col, flags_col, run_kind=kind
+        )
         source = file
         result = analyse_profile(time_s, temp, settings, env_C=env, flags=flags, where=source)
     payload = result.to_dict()
     payload["file"] = file
+    payload["findings"] = [f.to_dict() for f in findings]
     payload["caution"] = CAUTION
-    emit(as_json, payload, lambda: _text(result, source))
+    emit(as_json, payload, lambda: _text(result, source, findings))

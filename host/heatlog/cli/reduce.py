@@ -2,13 +2,18 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import click
 
 from heatlog.cli.output import emit, json_option
 from heatlog.gum import Budget
+from heatlog.inputgate import findings_of, findings_text
 from heatlog.reduce import METHODS, Reduction, reduce_thermogram
-from heatlog.runfile import RunResult, run_file
 from heatlog.thermogram import read_thermogram_csv
+
+if TYPE_CHECKING:
+    from heatlog.runfile import RunResult
 
 CAUTION = (
     "Caution: hot liquids, acids/bases, heaters and cold packs can injure; follow the safety data "
@@ -27,6 +32,7 @@ def _text(red: Reduction) -> str:
         f"(fore-period from {red.fore_start_s:.1f} s, after-period to {red.after_end_s:.1f} s)",
         f"  drift: {drift.model}, k = {k:.3g} 1/s (u = {u_k:.2g}, k=1), T∞ = "
         + (f"{t_inf:.3f} °C (u = {u_t:.2g} K, k=1)" if t_inf == t_inf else "undefined (k ≈ 0)"),
+        f"  drift choice: {red.drift_reason}",
         f"  method choice: {red.method_reason}",
         "  methods: " + ", ".join(f"{m} {r.delta_t_K:+.5f}" for m, r in red.methods.items()),
         f"  events found: {len(red.events)}"
@@ -48,7 +54,7 @@ def _budget_line(label: str, b: Budget) -> str:
 
 
 def _run_text(result: RunResult) -> str:
-    lines = [result.spec.title, _text(result.reduction)]
+    lines = [result.spec.title, *findings_text(result.findings), _text(result.reduction)]
     if result.c_cal is not None:
         what = "calorimeter constant" if result.spec.electrical else "calorimeter constant used"
         lines.append(_budget_line(what, result.c_cal))
@@ -85,6 +91,12 @@ def _run_text(result: RunResult) -> str:
 @click.option("--temp-col", default="temp_C", show_default=True, help="Column with °C readings.")
 @click.option("--iso-time", is_flag=True, help="The time column holds ISO-8601 timestamps.")
 @click.option(
+    "--env-col",
+    default=None,
+    help="Column with the logged surroundings (room/ambient) temperature, °C; the exchange is "
+    "then reduced against it.",
+)
+@click.option(
     "--method",
     type=click.Choice(["auto", *METHODS]),
     default="auto",
@@ -107,17 +119,24 @@ def _run_text(result: RunResult) -> str:
     default=None,
     help="Reading step in K (ADC/probe resolution); default: from the data, else 0.",
 )
+@click.option(
+    "--allow-negative",
+    is_flag=True,
+    help="Print a run file's negative calorimeter constant instead of refusing it.",
+)
 @json_option
 def reduce(
     file: str,
     time_col: str,
     temp_col: str,
     iso_time: bool,
+    env_col: str | None,
     method: str,
     event_index: int,
     event_start: float | None,
     after_start: float | None,
     resolution: float | None,
+    allow_negative: bool,
     as_json: bool,
 ) -> None:
     """Corrected temperature change (with uncertainty) of one event in FILE.
@@ -127,13 +146,23 @@ def reduce(
     settings then replace the options here.
     """
     if file.lower().endswith(".toml"):
-        result = run_file(file)
+        from heatlog.cli.hints import run_file_hints
+        from heatlog.runfile import run_file  # energetics, probes, profile: only for run files
+
+        with run_file_hints(file):
+            result = run_file(file, allow_negative=allow_negative)
         payload = result.to_dict()
         payload["file"] = file
         payload["caution"] = CAUTION
         emit(as_json, payload, lambda: _run_text(result))
         return
-    thermogram = read_thermogram_csv(file, time_col=time_col, temp_col=temp_col, iso_time=iso_time)
+    thermogram = read_thermogram_csv(
+        file,
+        time_col=time_col,
+        temp_col=temp_col,
+        channels=(env_col,) if env_col else (),
+        iso_time=iso_time,
+    )
     red = reduce_thermogram(
         thermogram,
         method=method,
@@ -141,8 +170,11 @@ def reduce(
         event_start_s=event_start,
         after_start_s=after_start,
         resolution_K=resolution,
+        env_channel=env_col,
     )
+    found = findings_of(thermogram)
     payload = red.to_dict()
     payload["file"] = file
+    payload["findings"] = [f.to_dict() for f in found]
     payload["caution"] = CAUTION
-    emit(as_json, payload, lambda: _text(red))
+    emit(as_json, payload, lambda: "\n".join([*findings_text(found), _text(red)]))

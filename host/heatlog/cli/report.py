@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import contextlib
 import sys
 import time
 from pathlib import Path
@@ -9,6 +10,7 @@ from pathlib import Path
 import click
 
 from heatlog.cli.output import emit, json_option
+from heatlog.errors import InputError
 
 
 class StepProgress:
@@ -57,6 +59,18 @@ class StepProgress:
     help="The probe's calibration points (temp_C,resistance_ohm) to plot its calibration curve.",
 )
 @click.option(
+    "--event-start",
+    type=float,
+    default=None,
+    help="Main-period start, s (CSV logs; a run file sets event_start_s in [reduce]).",
+)
+@click.option(
+    "--after-start",
+    type=float,
+    default=None,
+    help="After-period start, s (CSV logs; a run file sets after_start_s in [reduce]).",
+)
+@click.option(
     "--progress/--no-progress",
     default=None,
     help="Step feedback on stderr (default: only when stderr is a terminal).",
@@ -68,6 +82,8 @@ def report(
     time_col: str,
     temp_col: str,
     probe_points: Path | None,
+    event_start: float | None,
+    after_start: float | None,
     progress: bool | None,
     as_json: bool,
 ) -> None:
@@ -76,14 +92,28 @@ def report(
     The report holds the inputs, results with their uncertainty budgets, the plots, the published
     name of every method used, the probe's calibration provenance and the safety cautions.
     """
+    from heatlog.cli.hints import run_file_hints
     from heatlog.report.html import render_html
     from heatlog.report.sources import report_inputs, save_text
 
     enabled = sys.stderr.isatty() if progress is None else progress
     say = StepProgress(enabled)
-    inputs = report_inputs(
-        run, time_col=time_col, temp_col=temp_col, probe_points=probe_points, progress=say
-    )
+    is_run_file = run.suffix.lower() == ".toml"
+    if is_run_file and (event_start is not None or after_start is not None):
+        raise InputError(
+            f"--event-start/--after-start apply to CSV logs; for a run file set event_start_s and "
+            f"after_start_s in the [reduce] table of {run.name}"
+        )
+    with run_file_hints(run) if is_run_file else contextlib.nullcontext():
+        inputs = report_inputs(
+            run,
+            time_col=time_col,
+            temp_col=temp_col,
+            probe_points=probe_points,
+            progress=say,
+            event_start_s=event_start,
+            after_start_s=after_start,
+        )
     text = render_html(inputs, say)
     target = out if out is not None else run.with_suffix(".html")
     save_text(target, text)

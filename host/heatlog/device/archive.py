@@ -20,7 +20,7 @@ from pathlib import Path
 from typing import Any
 
 from heatlog.errors import InputError, LinkError
-from heatlog.logformat import parse_header
+from heatlog.logformat import ANCHOR_MS, LogCorrupt, parse_header
 
 MANIFEST = "manifest.json"
 PARTIAL = ".partial"
@@ -35,7 +35,8 @@ def safe_name(text: object, fallback: str = "unknown", limit: int = 32) -> str:
 
 
 def archive_name(board_id: object, run: int, anchor_ms: int | None) -> str:
-    if anchor_ms:
+    """``<board>_r<run>_<start UTC>.hlg``; ``noclock`` for an unset or out-of-range anchor."""
+    if anchor_ms and ANCHOR_MS[0] <= anchor_ms < ANCHOR_MS[1]:
         start = dt.datetime.fromtimestamp(anchor_ms / 1000, dt.UTC).strftime("%Y%m%dT%H%M%SZ")
     else:
         start = "noclock"
@@ -173,8 +174,11 @@ class Archive:
         part, _ = self.partial(board_id, run)
         with open(part, "rb") as f:
             head = f.read(64 + 24 * 8 + 4)
-        header = parse_header(head)
-        name = archive_name(board_id, run, header.anchor_ms)
+        try:  # the bytes are the board's (CRC-32 checked): keep them even if the header is bad
+            anchor = parse_header(head).anchor_ms
+        except LogCorrupt:
+            anchor = None
+        name = archive_name(board_id, run, anchor)
         sha = sha256_file(part)
         entries = self.manifest()
         final = self.root / name
@@ -183,7 +187,7 @@ class Archive:
             if sha256_file(final) == sha:  # the same bytes are already archived
                 self.drop_partial(board_id, run)
                 return entries.get(final.name) or self._record(
-                    entries, final, board_id, run, header.anchor_ms, sha
+                    entries, final, board_id, run, anchor, sha
                 )
             k += 1
             final = self.root / name.replace(".hlg", f"_{k}.hlg")
@@ -194,7 +198,7 @@ class Archive:
         except OSError:
             os.rename(part, final)
         final.chmod(0o444)
-        entry = self._record(entries, final, board_id, run, header.anchor_ms, sha)
+        entry = self._record(entries, final, board_id, run, anchor, sha)
         self.drop_partial(board_id, run)
         return entry
 

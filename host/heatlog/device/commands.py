@@ -9,7 +9,7 @@ from __future__ import annotations
 import json
 import struct
 import time
-from collections.abc import Iterator
+from collections.abc import Container, Iterator
 from dataclasses import dataclass
 from typing import Any
 
@@ -63,13 +63,29 @@ class BoardInfo:
         return dict(self.raw)
 
 
-def _opt_int(d: dict[str, Any], key: str) -> int | None:
+MAX_CLOCK_MS = 4_102_444_800_000  # 2100-01-01 UTC: the protocol's clock range ends there
+MAX_FLASH_BYTES = 1 << 40
+MAX_RECORD_SIZE = 14 + 4 * 8  # eight channels (firmware/LOGFORMAT.md)
+
+
+def _opt_int(d: dict[str, Any], key: str, hi: int) -> int | None:
     v = d.get(key)
     if v is None:
         return None
     if isinstance(v, bool) or not isinstance(v, int):
         raise BadReply(f"identify: {key} must be an integer")
+    return _bounded(f"identify: {key}", v, 0, hi)
+
+
+def _bounded(what: str, v: int, lo: int, hi: int) -> int:
+    if not lo <= v <= hi:
+        raise BadReply(f"{what} = {v} is outside {lo}..{hi}; the board's reply is unusable")
     return v
+
+
+def _printable(text: object, limit: int) -> str:
+    """Board text shown to a user: printable characters only (no terminal escapes)."""
+    return "".join(c if c.isprintable() else "?" for c in str(text)[:limit])
 
 
 class Board:
@@ -91,15 +107,15 @@ class Board:
         if not isinstance(errs, list):
             errs = [str(errs)]
         return BoardInfo(
-            board_id=bid[:64] if bid else None,
-            firmware=str(d.get("firmware", ""))[:32],
+            board_id=_printable(bid, 64) if bid else None,
+            firmware=_printable(d.get("firmware", ""), 32),
             protocol=1,
-            clock_ms=_opt_int(d, "clock_ms"),
-            run=_opt_int(d, "run"),
-            free_bytes=_opt_int(d, "free_bytes"),
-            total_bytes=_opt_int(d, "total_bytes"),
-            record_size=_opt_int(d, "record_size"),
-            config_errors=tuple(str(e)[:200] for e in errs[:20]),
+            clock_ms=_opt_int(d, "clock_ms", MAX_CLOCK_MS),
+            run=_opt_int(d, "run", MAX_RUN_NO),
+            free_bytes=_opt_int(d, "free_bytes", MAX_FLASH_BYTES),
+            total_bytes=_opt_int(d, "total_bytes", MAX_FLASH_BYTES),
+            record_size=_opt_int(d, "record_size", MAX_RECORD_SIZE),
+            config_errors=tuple(_printable(e, 200) for e in errs[:20]),
             raw=d,
         )
 
@@ -108,6 +124,8 @@ class Board:
         new, prev = _unpack(
             "<qq", self.link.request(fr.SET_CLOCK, struct.pack("<q", epoch_ms)), "set clock"
         )
+        _bounded("set clock: new reading (ms)", new, 0, MAX_CLOCK_MS)
+        _bounded("set clock: previous reading (ms)", prev, 0, MAX_CLOCK_MS)
         return new, prev
 
     def list_runs(self) -> tuple[list[RunEntry], int | None]:
@@ -131,6 +149,8 @@ class Board:
                 out.append(RunEntry(item[0], item[1]))
             a = d.get("active")
             active = a if isinstance(a, int) and not isinstance(a, bool) else None
+            if active is not None:
+                _bounded("list runs: active", active, 0, MAX_RUN_NO)
             if d.get("more") is not True or not d["runs"]:
                 return out, active
             start += len(d["runs"])
@@ -145,7 +165,7 @@ class Board:
         )
         if r != run:
             raise BadReply(f"run checksum: asked for run {run}, got {r}")
-        return size, crc
+        return _bounded("run checksum: size", size, 0, MAX_RUN_BYTES), crc
 
     def start_run(self) -> int:
         try:
@@ -189,7 +209,7 @@ class Board:
         state, rsize = _unpack(
             "<BH", self.link.request(fr.STREAM, bytes([1 if on else 0])), "stream"
         )
-        return int(rsize)
+        return _bounded("stream: record size", rsize, 0, MAX_RECORD_SIZE)
 
     def get_config(self) -> dict[str, Any]:
         d = _json(self.link.request(fr.GET_CONFIG), "get config")
@@ -197,9 +217,10 @@ class Board:
             raise BadReply("get config: expected a JSON object")
         return d
 
-    def read_request(self, run: int, offset: int, length: int) -> int:
-        """Send one read request (no wait); returns its request id. See :meth:`parse_read`."""
-        return self.link.send(fr.READ_RUN, struct.pack("<IIH", run, offset, length))
+    def read_request(self, run: int, offset: int, length: int, busy: Container[int] = ()) -> int:
+        """Send one read request (no wait) under a request id not in ``busy``; returns the id.
+        See :meth:`parse_read`."""
+        return self.link.send(fr.READ_RUN, struct.pack("<IIH", run, offset, length), busy=busy)
 
     @staticmethod
     def parse_read(payload: bytes, run: int, offset: int, length: int) -> tuple[int, bytes]:

@@ -135,6 +135,7 @@ def export_run(path: Path, probe_dir: Path | None = None, *, note: str = "") -> 
         "bad_blocks": log.bad_blocks,
         "bad_bytes": log.bad_bytes,
         "trailing_bytes": log.trailing_bytes,
+        "damage": log.damage().to_dict() | {"summary": log.damage().describe()},
         "channels": [c.meta for c in chans],
         "temp_C_column": first.name if first is not None else None,
         "power_monitors": [

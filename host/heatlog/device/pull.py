@@ -1,25 +1,34 @@
 """Pull runs from a board into an :class:`~heatlog.device.archive.Archive`, and erase runs the
 archive provably holds.
 
-Reads are pipelined: up to ``window`` read requests are outstanding, each with its own request
-id, and chunks are appended to the partial file strictly in order, so the partial's length is
-always the last verified offset. A timeout resends the overdue requests; after ``link.retries``
-timeouts in a row without progress the pull stops with a message and the partial is kept for
-the next pull to resume. A finished file must match the board's whole-run CRC-32 and size.
+Reads are pipelined: up to ``window`` read requests are outstanding, each under its own request
+id (never one still outstanding; :class:`~heatlog.device.readwindow.ReadWindow` keeps the books
+and checks its invariants every step), and chunks are appended to the partial file strictly in
+order, so the partial's length is always the last verified offset. A damaged reply is asked for
+again at once, and so is a request whose reply is missing when the reply to a later request
+arrives (the board answers in order); a timeout resends the overdue requests, and a late reply
+to a request already asked again is used. The pull stops after ``link.retries`` + 1 silent timeouts in a row, or
+``link.stall_s`` seconds without one verified chunk while the board answers garbled, with a
+message saying which; the partial is kept for the next pull to resume. A finished file must
+match the board's whole-run CRC-32 and size.
 """
 
 from __future__ import annotations
 
+import struct
 import time
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import Any
 
 from heatlog.device import framing as fr
 from heatlog.device.archive import Archive, ArchivedRun, crc32_file, safe_name, sha256_file
-from heatlog.device.commands import READ_CHUNK, BadReply, Board
-from heatlog.device.link import BoardError, LinkTimeout
+from heatlog.device.commands import MAX_RUN_BYTES, READ_CHUNK, Board
+from heatlog.device.link import BoardError, LinkGarbled, LinkTimeout
+from heatlog.device.readwindow import ReadWindow
 from heatlog.errors import InputError, LinkError
+from heatlog.logformat import Damage, LogCorrupt, read_log
 
 MIN_RUN_BYTES = 64 + 24 + 4  # the smallest header (one channel)
 Progress = Callable[[int, int, int], None]  # (run, bytes done, bytes total)
@@ -34,12 +43,20 @@ class PullReport:
     bytes: int = 0
     seconds: float = 0.0
     retries: int = 0
+    damage: dict[str, dict[str, Any]] = field(default_factory=dict)  # file name -> Damage
+
+    @property
+    def damaged(self) -> list[str]:
+        """Archived files (pulled now or before) whose contents are damaged."""
+        return [name for name, d in self.damage.items() if d["damaged"]]
 
     def to_dict(self) -> dict[str, Any]:
         return {
             "board_id": self.board_id,
-            "pulled": [e.to_dict() for e in self.pulled],
-            "already_archived": [e.to_dict() for e in self.already],
+            "pulled": [e.to_dict() | {"damage": self.damage.get(e.name)} for e in self.pulled],
+            "already_archived": [
+                e.to_dict() | {"damage": self.damage.get(e.name)} for e in self.already
+            ],
             "skipped": self.skipped,
             "bytes": self.bytes,
             "seconds": self.seconds,
@@ -47,81 +64,121 @@ class PullReport:
         }
 
 
+def _read_reply(payload: bytes, run: int) -> tuple[int, int, bytes] | None:
+    """(offset, file size, data) of a read reply for ``run``, or None if it is not one."""
+    if len(payload) < 12:
+        return None
+    r, off, fsize = struct.unpack_from("<III", payload, 0)
+    data = payload[12:]
+    if r != run or fsize > MAX_RUN_BYTES or off + len(data) > fsize or len(data) > READ_CHUNK:
+        return None
+    return off, fsize, data
+
+
 def fetch(
     board: Board, run: int, offset: int, size: int, sink: Callable[[bytes], None],
     *, window: int = 4, progress: Progress | None = None,
+    on_step: Callable[[ReadWindow], None] | None = None,
 ) -> int:  # fmt: skip
-    """Read bytes [offset, size) of a run in order into ``sink``; returns bytes fetched."""
+    """Read bytes [offset, size) of a run in order into ``sink``; returns bytes fetched.
+
+    Give-up rules (the link's): ``link.retries`` + 1 timeouts in a row with not one byte from
+    the board raise LinkTimeout (silence); ``link.stall_s`` seconds without one verified chunk
+    while bytes do arrive raise LinkGarbled. Every verified chunk restarts both counts, so a
+    pull on a noisy line goes on as long as chunks get through. ``on_step`` sees the window
+    after every step (tests check its invariants there too)."""
     link = board.link
-    pending: dict[int, tuple[int, int, float]] = {}
-    got: dict[int, bytes] = {}
-    next_off = write_off = offset
-    stalls = 0
-    while write_off < size:
-        while len(pending) < window and next_off < size:
-            n = min(READ_CHUNK, size - next_off)
-            pending[board.read_request(run, next_off, n)] = (next_off, n, time.monotonic())
-            next_off += n
-        oldest = min(p[2] for p in pending.values())
+    w = ReadWindow(offset, size, window)
+    t_progress = time.monotonic()
+    rx_at_timeout = link.rx_bytes
+    silent = damaged = 0
+
+    def ask() -> None:
+        while w.wants():
+            off, n = w.take()
+            rid = board.read_request(run, off, n, busy=w.pending)
+            w.asked(rid, off, n, time.monotonic())
+
+    def stop_if_stuck(now: float) -> None:
+        where = f"at byte {w.write_off} of {size}"
+        keep = "the part already checked is kept: run the same pull again to resume"
+        if silent > link.retries:
+            raise LinkTimeout(
+                f"run {run}: no answer from the board: silent for {silent} timeouts of "
+                f"{link.timeout:g} s in a row {where}; check the cable and the port; {keep}"
+            )
+        if now - t_progress > link.stall_s:
+            raise LinkGarbled(
+                f"run {run}: the board answers, but garbled: no chunk arrived intact for "
+                f"{now - t_progress:.0f} s {where} ({damaged} damaged replies); check the "
+                f"cable, the port and interference; {keep}"
+            )
+
+    while not w.done:
+        ask()
+        w.check()
+        if on_step is not None:
+            on_step(w)
+        oldest = w.oldest()
+        assert oldest is not None  # check() guarantees something is pending
         f = link.receive(oldest + link.timeout, wake_on_bad=True)
         if f is None and link.bad_rids:  # a reply arrived damaged: ask for that chunk again now
             while link.bad_rids:
-                p = pending.pop(link.bad_rids.popleft(), None)
-                if p is not None:
-                    pending[board.read_request(run, p[0], p[1])] = (p[0], p[1], time.monotonic())
+                if w.again(link.bad_rids.popleft()) is not None:
+                    damaged += 1
                     link.stats.retries += 1
+            stop_if_stuck(time.monotonic())
             continue
         if f is None:
-            stalls += 1
-            link.stats.timeouts += 1
-            if stalls > link.retries:
-                raise LinkTimeout(
-                    f"run {run}: no progress after {stalls} timeouts at byte {write_off} of {size}; "
-                    "the part already checked is kept: run the same pull again to resume"
-                )
-            link.resync()
             now = time.monotonic()
-            for rid, (off, n, t) in list(pending.items()):
-                if now - t >= link.timeout * 0.9:
-                    del pending[rid]
-                    pending[board.read_request(run, off, n)] = (off, n, now)
-                    link.stats.retries += 1
+            link.stats.timeouts += 1
+            heard = link.rx_bytes > rx_at_timeout
+            rx_at_timeout = link.rx_bytes
+            silent = 0 if heard else silent + 1
+            stop_if_stuck(now)
+            link.resync()
+            for rid in w.overdue(now, link.timeout * 0.9):
+                w.again(rid)
+                link.stats.retries += 1
             continue
-        p = pending.pop(f.request_id, None)
-        if p is None:
-            link.stats.stale += 1
-            continue
-        off, n, _ = p
         if f.type == fr.READ_RUN | fr.REPLY:
-            try:
-                fsize, data = board.parse_read(f.payload, run, off, n)
-            except BadReply:
-                fsize, data = -1, b""
-            if fsize < 0:  # a stale reply that reused this id: keep waiting for ours
-                pending[f.request_id] = p
-                link.stats.stale += 1
+            rep = _read_reply(f.payload, run)
+            hit = None if rep is None else w.match(f.request_id, rep[0])
+            if rep is None or hit is None or len(rep[2]) < hit[1].n:
+                link.stats.stale += 1  # a late reply to a request already answered
                 continue
-            if fsize != size:
+            if rep[1] != size:
                 raise LinkError(
-                    f"run {run} changed size on the board ({size} -> {fsize} bytes) during the pull; "
-                    "stop the run first, then pull again"
+                    f"run {run} changed size on the board ({size} -> {rep[1]} bytes) during the "
+                    "pull; stop the run first, then pull again"
                 )
-            if off >= write_off:
-                got[off] = data
-            stalls = 0
-            while write_off in got:
-                d = got.pop(write_off)
+            if hit[0] == f.request_id:  # replies come in order: earlier ones missing are lost
+                for lost in w.sent_before(hit[1].order):
+                    w.again(lost)
+                    link.stats.retries += 1
+            for d in w.arrived(hit[0], rep[2]):
                 sink(d)
-                write_off += len(d)
+            t_progress = time.monotonic()
+            silent = damaged = 0
             if progress is not None:
-                progress(run, write_off, size)
+                progress(run, w.write_off, size)
+            continue
+        if f.request_id not in w.pending:
+            link.stats.stale += 1
             continue
         if f.type == fr.ERROR and f.payload[:1] != b"\x01":
             code = f.payload[0] if f.payload else 9
             raise BoardError(code, f.payload[1:201].decode("utf-8", "replace"))
-        # a garbled request (error code 1) or an unexpected frame: ask again
-        pending[board.read_request(run, off, n)] = (off, n, time.monotonic())
-        link.stats.retries += 1
+        if f.type == fr.ERROR:  # our request arrived garbled (error code 1): ask again
+            w.again(f.request_id, damaged=False)
+            link.stats.retries += 1
+            damaged += 1
+            stop_if_stuck(time.monotonic())
+            continue
+        link.stats.stale += 1  # another command's reply under a reused id: keep waiting
+    w.check()
+    if on_step is not None:
+        on_step(w)
     return size - offset
 
 
@@ -163,9 +220,22 @@ def pull(
         report.pulled.append(
             _pull_one(board, archive, bid, e.run, e.size, window, progress, report)
         )
+    for got in report.pulled + report.already:
+        report.damage[got.name] = file_damage(archive.root / got.name)
     report.seconds = time.monotonic() - t0
     report.retries = board.link.stats.retries - retries0
     return report
+
+
+def file_damage(path: Path) -> dict[str, Any]:
+    """The decoder's damage summary of an archived run file (``Damage.to_dict`` plus a one-line
+    ``summary``); a header it cannot use is damage too. The file is a faithful copy of the
+    board's: the damage was on the board (a power cut, failing flash), not made by the link."""
+    try:
+        d = read_log(path).damage()
+    except LogCorrupt as exc:
+        d = Damage(problems=(str(exc),))
+    return d.to_dict() | {"summary": d.describe()}
 
 
 def _pull_one(

@@ -39,10 +39,20 @@ import numpy as np
 import tomli_w
 
 from heatlog.errors import CalibrationError, HeatlogError
+from heatlog.probes.digest import probe_digest
 from heatlog.probes.fitting import CalibrationFit
 from heatlog.probes.models import MODEL_KINDS, MODEL_NAMES, ProbeModel, build_model
 
-_ID = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.\-]{0,63}$")
+# Letters and digits of any script (\w on str), then also '.', '_' or '-'.
+_ID = re.compile(r"^[^\W_][\w.\-]{0,63}$")
+ID_RULE = "1–64 letters (any alphabet), digits, '.', '_' or '-', starting with a letter or digit"
+
+
+def valid_probe_id(text: object) -> bool:
+    """Whether ``text`` can be a probe id (:data:`ID_RULE`)."""
+    return isinstance(text, str) and _ID.fullmatch(text) is not None
+
+
 _REQUIRED = (
     "id",
     "kind",
@@ -151,6 +161,7 @@ def probe_from_fit(
         "covariance": [[float(v) for v in row] for row in np.atleast_2d(fit.covariance)],
     }
     probe = ProbeFile(probe_id, fit.model, calibration_date, reference, float(u), summary)
+    summary["digest"] = probe_digest(probe.to_dict())  # a later edit or damage is refused
     return parse_probe(probe_to_toml(probe), "fitted probe")  # one validation path
 
 
@@ -178,10 +189,8 @@ def parse_probe(text: str, where: str = "probe file") -> ProbeFile:
     if unknown:
         raise CalibrationError(f"{where}: unknown key(s) {', '.join(unknown)}")
     probe_id = doc["id"]
-    if not isinstance(probe_id, str) or not _ID.match(probe_id):
-        raise CalibrationError(
-            f"{where}: id must be 1–64 letters, digits, '.', '_' or '-', got {probe_id!r}"
-        )
+    if not valid_probe_id(probe_id):
+        raise CalibrationError(f"{where}: id must be {ID_RULE}, got {probe_id!r}")
     name = doc["model"]
     if name not in MODEL_NAMES:
         raise CalibrationError(
@@ -220,6 +229,12 @@ def parse_probe(text: str, where: str = "probe file") -> ProbeFile:
         if not isinstance(table, dict):
             raise CalibrationError(f"{where}: [{key}] must be a table")
     _check_covariance(fit, where)
+    if "digest" in fit and fit["digest"] != probe_digest(doc):
+        raise CalibrationError(
+            f"{where}: the file's content no longer matches the digest that 'heatlog probe fit' "
+            "wrote into [fit] (the file was damaged or edited); fit the probe again, or delete "
+            "the digest line if the edit was deliberate"
+        )
     bad_const = sorted(set(constants) - set(_CONSTANTS))
     if bad_const:
         raise CalibrationError(f"{where}: unknown constant(s) {', '.join(bad_const)}")

@@ -412,8 +412,13 @@ def heating_curve_fit(
     *,
     u_power_rel: float = 0.0,
     resolution_K: float = 0.0,
+    sensitivity_only: bool = False,
 ) -> HeatingCurveFit:
     """C and G from T(t) while a heater of logged power P(t) (W, 0 when off) heats the box.
+
+    ``sensitivity_only``: a refit with one input moved by its uncertainty, to find how far C
+    and G move with it; the residual check then does not refuse (the moved input is what makes
+    the fit worse), and the caller uses only the change in C and G.
 
     Fits T − T(0) = a·∫P dt − b·∫(T − T_env)dt + c with a = 1/C, b = G/C; then C = 1/a, G = b/a.
     ``u_power_rel`` is the relative standard uncertainty of the power's scale; it scales C and G
@@ -436,7 +441,10 @@ def heating_curve_fit(
             f"the heating-curve fit gives 1/C = {a:.3g}, G/C = {b:.3g}; both must be positive — "
             "log longer, with the heater both on and off"
         )
-    ratio, warn = residual_check(rms, reading_noise(y), resolution_K, "heating-curve fit")
+    if sensitivity_only:
+        ratio, warn = rms / max(reading_noise(y), NOISE_FLOOR_K), None
+    else:
+        ratio, warn = residual_check(rms, reading_noise(y), resolution_K, "heating-curve fit")
     c_val, g_val = 1.0 / a, b / a
     # Jacobians of C = 1/a and G = b/a with respect to (a, b).
     jc = np.array([-1.0 / a**2, 0.0])

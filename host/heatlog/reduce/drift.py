@@ -230,7 +230,7 @@ def _solve(j: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, float]:
     return p, float(r @ r)
 
 
-def _fit(model: str, ft, fy, at, ay) -> DriftFit:
+def _fit(model: str, ft, fy, at, ay, k_fixed: float | None = None) -> DriftFit:
     t_f = float(ft.mean())
     t_a = float(at.mean())
     y = np.concatenate([fy, ay])
@@ -259,6 +259,8 @@ def _fit(model: str, ft, fy, at, ay) -> DriftFit:
         grid = np.concatenate([[-0.5 / span, 0.0], np.geomspace(1e-3 / span, kmax, 25)])
         if math.isfinite(k0) and -0.5 / span < k0 < kmax:
             grid = np.sort(np.append(grid, k0))
+        if k_fixed is not None:  # k found elsewhere (a surroundings model, ``surroundings``)
+            grid = np.array([float(k_fixed)])
         vals = np.array([rss_of(k) for k in grid])
         i = int(np.argmin(vals))
         lo, hi = grid[max(i - 1, 0)], grid[min(i + 1, grid.size - 1)]
@@ -315,12 +317,18 @@ def fit_drift(
     after_t: np.ndarray,
     after_y: np.ndarray,
     model: str = "auto",
+    k_fixed: float | None = None,
 ) -> DriftChoice:
-    """Fit both drift models and pick one (``auto``: AIC, see the module docstring)."""
+    """Fit both drift models and pick one (``auto``: AIC, see the module docstring).
+
+    ``k_fixed`` fixes the Newtonian k (found with a surroundings model) and takes that model.
+    """
     if model not in (*MODELS, "auto"):
         raise ReductionError(f"unknown drift model {model!r}; use linear, newtonian or auto")
     lin = _fit("linear", fore_t, fore_y, after_t, after_y)
-    newt = _fit("newtonian", fore_t, fore_y, after_t, after_y)
+    newt = _fit("newtonian", fore_t, fore_y, after_t, after_y, k_fixed)
+    if k_fixed is not None:
+        return DriftChoice(newt, lin, newt, "newtonian with k from the surroundings model")
     if model == "auto":
         pick_linear = lin.aic < newt.aic - AIC_MARGIN
         chosen = lin if pick_linear else newt

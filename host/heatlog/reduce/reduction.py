@@ -35,14 +35,17 @@ from heatlog.reduce.correction import (
     trapezoid_weights,
 )
 from heatlog.reduce.drift import DriftChoice, DriftFit, fit_drift
-from heatlog.reduce.events import (
-    MIN_PERIOD_POINTS,
-    MIN_PERIOD_S,
-    Event,
-    detect_events,
-    reading_noise,
-)
+from heatlog.reduce.events import Event, detect_events, reading_noise
+from heatlog.reduce.periods import FULL_PERIOD_S, min_period_s, period_shortfall
 from heatlog.reduce.sampling import block_means
+from heatlog.reduce.surroundings import (
+    ENV_LAG_BOUND_S,
+    ENV_NOISE_DRAWS,
+    SurroundingsFit,
+    env_response,
+    fit_surroundings,
+    ramp_preferred,
+)
 from heatlog.reduce.uncertainty import delta_t_budget, resolution_u
 from heatlog.thermogram import Thermogram
 
@@ -141,16 +144,9 @@ def detect_resolution(y: np.ndarray) -> float:
 
 
 def _period_check(t: np.ndarray, lo: float, hi: float, what: str, advice: str) -> None:
-    n = int(np.count_nonzero((t >= lo) & (t <= hi)))
-    length = hi - lo
-    if length < MIN_PERIOD_S or n < MIN_PERIOD_POINTS:
-        span = (
-            f"{lo:.0f} s to {hi:.0f} s" if hi > lo else f"would run from {lo:.0f} s to {hi:.0f} s"
-        )
-        raise ReductionError(
-            f"the {what} ({span}) lasts {max(length, 0):.0f} s with {n} readings; it needs at "
-            f"least {MIN_PERIOD_S:.0f} s and {MIN_PERIOD_POINTS} readings: {advice}"
-        )
+    why = period_shortfall(t, lo, hi, what)
+    if why is not None:
+        raise ReductionError(f"{why}: {advice}" if advice else why)
 
 
 @dataclass(frozen=True, eq=False)
@@ -162,12 +158,12 @@ class _Pass:
     block_after: int
 
 
-def _one_pass(t, y, lo, t0, ta, hi, drift_model: str) -> _Pass:
+def _one_pass(t, y, lo, t0, ta, hi, drift_model: str, k_fixed: float | None = None) -> _Pass:
     fm = (t >= lo) & (t <= t0)
     am = (t >= ta) & (t <= hi)
     ft, fy, bf = block_means(t[fm], y[fm], MAX_PERIOD_POINTS)
     at, ay, ba = block_means(t[am], y[am], MAX_PERIOD_POINTS)
-    choice = fit_drift(ft, fy, at, ay, drift_model)
+    choice = fit_drift(ft, fy, at, ay, drift_model, k_fixed)
     fit = choice.chosen
     mp = main_period(t, y, fit, t0, ta)
     values = {
@@ -176,6 +172,104 @@ def _one_pass(t, y, lo, t0, ta, hi, drift_model: str) -> _Pass:
         "dickinson-60": dickinson_60(mp, fit)[0],
     }
     return _Pass(choice, values, mp.t, bf, ba)
+
+
+def _pair(a: float, b: float) -> str:
+    """``"a K vs b K"`` with just enough digits that two different values never read alike."""
+    for digits in range(2, 7):
+        left, right = f"{a:.{digits}g}", f"{b:.{digits}g}"
+        if left != right or a == b:
+            break
+    return f"{left} K vs {right} K"
+
+
+def _rp_with(t, y_work, lo, t0, ta, hi, k: float) -> float:
+    return _one_pass(t, y_work, lo, t0, ta, hi, "newtonian", k).values["regnault-pfaundler"]
+
+
+def _surroundings_rows(
+    t, y_meas, y_work, lo, t0, ta, hi, fit, sur, steady_alt, env, env_noise, k_fixed, base
+) -> list[Component]:
+    """Budget rows of the surroundings model (effects computed with Regnault–Pfaundler)."""
+    rows: list[Component] = []
+
+    def row(name: str, u: float, how: str, note: str) -> None:
+        if math.isfinite(u):
+            rows.append(Component(name, 0.0, u, 1.0, "K", math.inf, how, note))
+
+    ref = base.values["regnault-pfaundler"]
+    if steady_alt is not None:
+        alt = _rp_with(t, y_meas - steady_alt.w, lo, t0, ta, hi, steady_alt.k_per_s)
+        row(
+            "steady-room assumption",
+            abs(alt - ref) / math.sqrt(3.0),
+            "B",
+            f"fore/after drifts point to a room drifting {steady_alt.beta_K_per_s * 3600:+.2f} "
+            "K/h; difference to that model, rectangular",
+        )
+    if sur is None or k_fixed is None:
+        return rows
+    k = k_fixed
+    _, u_k, _, _ = fit.k_and_t_inf()
+    if sur.kind == "ramp":
+        e = t - 0.5 * (t[0] + t[-1])
+        w1 = env_response(t, e, k)
+        ub = sur.u_beta_K_per_s
+        hi_v = _rp_with(t, y_meas - (sur.beta_K_per_s + ub) * w1, lo, t0, ta, hi, k)
+        lo_v = _rp_with(t, y_meas - (sur.beta_K_per_s - ub) * w1, lo, t0, ta, hi, k)
+        row("room drift (fitted)", abs(hi_v - lo_v) / 2, "A", "u(β) of the fitted room drift")
+        # k and β are told apart only by the curvature of the drift periods: the spread to the
+        # steady-room result stays in the budget as a rectangular row
+        steady_v = _one_pass(t, y_meas, lo, t0, ta, hi, "auto").values["regnault-pfaundler"]
+        row(
+            "room-drift model",
+            abs(steady_v - ref) / math.sqrt(3.0),
+            "B",
+            "difference to the steady-room result, rectangular",
+        )
+        return rows
+    e = np.asarray(env, dtype=float) - float(np.mean(env))
+    if math.isfinite(u_k) and u_k > 0:
+        vals = [
+            _rp_with(t, y_meas - env_response(t, e, kk), lo, t0, ta, hi, k)
+            for kk in (max(k - u_k, 0.0), k + u_k)
+        ]
+        row(
+            "surroundings term: k in T_env",
+            abs(vals[1] - vals[0]) / 2,
+            "A",
+            "u(k) through w = k-filtered T_env",
+        )
+    if env_noise > 0:
+        rng = np.random.default_rng(0)
+        draws = [
+            _rp_with(
+                t,
+                y_meas - env_response(t, e + rng.normal(0.0, env_noise, e.size), k),
+                lo, t0, ta, hi, k,
+            )
+            - ref
+            for _ in range(ENV_NOISE_DRAWS)
+        ]  # fmt: skip
+        row(
+            "surroundings probe noise",
+            float(np.sqrt(np.mean(np.square(draws)))),
+            "A",
+            f"σ = {env_noise:.2g} K per reading, {ENV_NOISE_DRAWS} seeded draws",
+        )
+    rate = np.gradient(e, t)
+    if e.size > 7:
+        from scipy.ndimage import uniform_filter1d
+
+        rate = uniform_filter1d(rate, size=max(3, int(60.0 / max(np.median(np.diff(t)), 1e-9))))
+    lagged = _rp_with(t, y_meas - env_response(t, e + ENV_LAG_BOUND_S * rate, k), lo, t0, ta, hi, k)
+    row(
+        "surroundings probe lag",
+        abs(lagged - ref) / math.sqrt(3.0),
+        "B",
+        f"T_env read up to {ENV_LAG_BOUND_S:.0f} s late, rectangular",
+    )
+    return rows
 
 
 def reduce_thermogram(
@@ -187,23 +281,45 @@ def reduce_thermogram(
     after_start_s: float | None = None,
     resolution_K: float | None = None,
     drift_model: str = "auto",
+    env_channel: str | None = None,
 ) -> Reduction:
     """Corrected, signed temperature change of one event with its GUM budget.
 
     ``event_index`` selects among detected events (time order). ``event_start_s`` and
     ``after_start_s`` override the detected boundaries. ``resolution_K`` is the reading step
     (ADC/probe resolution); ``None`` takes it from the data when the readings sit on a grid.
-    Raises :class:`ReductionError` when no event is found or a period is too short.
+    ``env_channel`` names the thermogram channel with the logged surroundings temperature; the
+    exchange then runs against it (module ``surroundings``). Without one, a steadily drifting
+    room is fitted too and taken when the data call for it (stated criterion there).
+    Raises :class:`ReductionError` when no event is found or a period is below the stated minimum
+    (module ``periods``).
     """
     if method != "auto" and method not in METHODS:
         raise ReductionError(f"unknown method {method!r}; use auto or one of {', '.join(METHODS)}")
     t_raw, y_raw = thermogram.time_s, thermogram.temp_C
     t, y, _ = block_means(t_raw, y_raw, MAX_POINTS)
+    env: np.ndarray | None = None
+    env_noise = 0.0
+    if env_channel is not None:
+        if env_channel not in thermogram.channels:
+            have = ", ".join(repr(c) for c in thermogram.channels) or "none"
+            raise ReductionError(
+                f"no surroundings column {env_channel!r} in the log (channels read: {have}); "
+                "name the logged ambient column, or leave it out"
+            )
+        env_raw = thermogram.channels[env_channel]
+        if not np.all(np.isfinite(env_raw)) or np.ptp(env_raw) > 200.0:
+            raise ReductionError(
+                f"the surroundings column {env_channel!r} holds non-finite or implausible values "
+                "(a spread over 200 K); check the column"
+            )
+        _, env, m_env = block_means(t_raw, env_raw, MAX_POINTS)
+        env_noise = reading_noise(np.asarray(env_raw)) / math.sqrt(m_env)
     q = detect_resolution(y_raw) if resolution_K is None else float(resolution_K)
     if q < 0 or not math.isfinite(q):
         raise ReductionError("the resolution must be a step of zero or more kelvin")
     noise = reading_noise(y)
-    events, rr = detect_events(t, y, noise_K=noise, resolution_K=q)
+    events, rr = detect_events(t, y, noise_K=noise, resolution_K=q, env=env)
 
     notes: list[str] = []
     ev: Event | None = None
@@ -231,6 +347,20 @@ def reduce_thermogram(
     after = [e for e in events if e.start_s >= ta and e is not ev]
     lo = before[-1].after_start_s if before else float(t[0])
     hi = after[0].start_s if after else float(t[-1])
+    tail_K = ev.tail_K if (ev is not None and after_start_s is None) else 0.0
+    if ev is not None and after_start_s is None:
+        # a long release: the after-period may start earlier than the detector's choice, as long
+        # as the release left is carried in the budget (``Event.tail_K``) and it is past the peak
+        need = min_period_s(rr.step_s)
+        if hi - ta < need and hi - need > ev.peak_s + 2 * ev.tail_s:
+            new_ta = hi - need
+            tail_K = ev.tail_K * math.exp((ta - new_ta) / ev.tail_s)
+            notes.append(
+                f"the log ends soon after the release: after-period started at {new_ta:.0f} s "
+                f"instead of {ta:.0f} s; the release still to come (≈{tail_K:.2g} K) is in the "
+                "budget"
+            )
+            ta = new_ta
     _period_check(
         t,
         lo,
@@ -247,9 +377,49 @@ def reduce_thermogram(
         "or give --after-start",
     )
 
-    base = _one_pass(t, y, lo, t0, ta, hi, drift_model)
+    for what, a, b in (("fore-period", lo, t0), ("after-period", ta, hi)):
+        if b - a < FULL_PERIOD_S:
+            notes.append(
+                f"short {what} ({b - a:.0f} s): reduced with the uncertainty its own readings "
+                f"give; {FULL_PERIOD_S:.0f} s or more is better"
+            )
+
+    # the surroundings: measured, or a steady/drifting room fitted from the drift periods
+    fm = (t >= lo) & (t <= t0)
+    am = (t >= ta) & (t <= hi)
+    sur: SurroundingsFit | None = None
+    steady_alt: SurroundingsFit | None = None
+    k_fixed: float | None = None
+    y_raw_b = y
+    if env is not None:
+        sur = fit_surroundings(t, y, fm, am, env)
+    elif drift_model == "auto":
+        ramp = fit_surroundings(t, y, fm, am, None, ramp=True)
+        steady = fit_surroundings(t, y, fm, am, None, ramp=False)
+        if ramp_preferred(ramp, steady.aic):
+            sur = ramp
+        elif (
+            math.isfinite(ramp.u_beta_K_per_s) and abs(ramp.beta_K_per_s) > 2 * ramp.u_beta_K_per_s
+        ):
+            steady_alt = ramp
+    if sur is not None:
+        y = y - sur.w
+        k_fixed = sur.k_per_s
+    base = _one_pass(t, y, lo, t0, ta, hi, "newtonian" if sur else drift_model, k_fixed)
     fit = base.choice.chosen
     mp = main_period(t, y, fit, t0, ta)
+    drift_reason = base.choice.criterion
+    if sur is not None and sur.kind == "measured":
+        drift_reason = (
+            f"surroundings measured ({env_channel}): Newton's law against the logged T_env(t), "
+            f"k fitted over fore- and after-periods together"
+        )
+    elif sur is not None:
+        drift_reason = (
+            f"AIC drifting room {sur.aic:.1f} vs steady room {steady.aic:.1f}: the surroundings "
+            f"drift by {sur.beta_K_per_s * 3600:+.2f} K/h (u {sur.u_beta_K_per_s * 3600:.2g} "
+            "K/h, k=1); Newton's law against a steadily drifting room"
+        )
 
     tau = ev.tail_s if ev is not None else 60.0
     onset = ev.onset_s if ev is not None else t0
@@ -328,20 +498,41 @@ def reduce_thermogram(
         u_n = abs(fit.k_per_s) * sigma_main * float(np.sqrt(np.sum(w**2)))
         return u_f, u_a, (u_n if math.isfinite(u_n) else 0.0), []
 
-    # boundaries: main-period start earlier, after-period start later
-    shift0 = max(rr.window_s / 2, 30.0)
-    shift1 = max(2 * tau, 30.0)
+    # boundaries: main-period start earlier, after-period start later; a short period is
+    # shortened only down to the stated minimum (the shift shrinks with it)
+    need = min_period_s(rr.step_s)
+    shift0 = min(max(rr.window_s / 2, 30.0), (t0 - lo) - need)
+    shift1 = min(max(2 * tau, 30.0), (hi - ta) - need)
     alternatives = []
     for d0, d1 in ((shift0, 0.0), (0.0, shift1), (shift0, shift1)):
+        if d0 < 0 or d1 < 0 or (d0 == 0 and d1 == 0):
+            continue
         a0, a1 = t0 - d0, ta + d1
         try:
             _period_check(t, lo, a0, "fore-period", "")
             _period_check(t, a1, hi, "after-period", "")
         except ReductionError:
             continue
-        alternatives.append(_one_pass(t, y, lo, a0, a1, hi, fit.model).values)
+        alternatives.append(_one_pass(t, y, lo, a0, a1, hi, fit.model, k_fixed).values)
     if not alternatives:
         notes.append("periods too short to vary the boundaries; boundary component omitted")
+
+    more = _surroundings_rows(
+        t, y_raw_b, y, lo, t0, ta, hi, fit, sur, steady_alt, env, env_noise, k_fixed, base
+    )
+    if tail_K > 0:
+        more.append(
+            Component(
+                "release after the after-period start",
+                0.0,
+                tail_K / math.sqrt(3.0),
+                1.0,
+                "K",
+                math.inf,
+                "B",
+                "exponential tail beyond the after-period start, rectangular",
+            )
+        )
 
     def boundary_spread(name: str) -> float:
         ref = name if name != "newton" else "regnault-pfaundler"
@@ -350,7 +541,8 @@ def reduce_thermogram(
     def u_without_spread(name: str) -> float:
         u_f, u_a, u_n, extra = parts(name)
         b = boundary_spread(name) / math.sqrt(3.0)
-        return math.sqrt(u_f**2 + u_a**2 + u_n**2 + b**2 + u_res**2 + sum(c.u**2 for c in extra))
+        rows = extra + (more if name != "newton" else [c for c in more if "tail" not in c.note])
+        return math.sqrt(u_f**2 + u_a**2 + u_n**2 + b**2 + u_res**2 + sum(c.u**2 for c in rows))
 
     if method == "auto":
         u_rp = u_without_spread("regnault-pfaundler")
@@ -359,12 +551,12 @@ def reduce_thermogram(
             chosen = "newton"
             reason = (
                 f"the Newton-model fit matches the main period within the noise and is more "
-                f"precise (u {u_nt:.2g} K vs {u_rp:.2g} K for Regnault–Pfaundler)"
+                f"precise (u {_pair(u_nt, u_rp)} for Regnault–Pfaundler)"
             )
         else:
             chosen = "regnault-pfaundler"
             reason = "Regnault–Pfaundler needs only Newtonian exchange; " + (
-                f"it is at least as precise as the Newton fit (u {u_rp:.2g} K vs {u_nt:.2g} K)"
+                f"it is at least as precise as the Newton fit (u {_pair(u_rp, u_nt)})"
                 if newton_ok
                 else "the Newton-model fit does not match the main period within the noise"
             )
@@ -396,6 +588,7 @@ def reduce_thermogram(
         method_spread=method_spread,
         method=chosen,
         extra=extra,
+        more=more if chosen != "newton" else [c for c in more if "tail" not in c.note],
     )
 
     # naive: extreme reading after the start minus the reading at the start
@@ -404,6 +597,11 @@ def reduce_thermogram(
     window = y_raw[i0:i1]
     naive = float((window.max() if value >= 0 else window.min()) - y_raw[i0])
 
+    if sur is not None:
+        notes.append(
+            "drift periods and corrections use the readings minus the surroundings term "
+            f"w(t) (k = {sur.k_per_s:.3g} 1/s); the drift values shown are of those"
+        )
     if fit.model == "newtonian" and fit.k_per_s < 0:
         notes.append("fitted exchange constant is negative: the drift is not Newtonian")
     return Reduction(
@@ -420,7 +618,7 @@ def reduce_thermogram(
         events=events,
         event_index=chosen_index,
         drift=fit,
-        drift_reason=base.choice.criterion,
+        drift_reason=drift_reason,
         naive_delta_t_K=naive,
         noise_K=noise,
         resolution_K=q,

@@ -13,7 +13,11 @@ Components, all in kelvin with sensitivity 1 (each is already the effect on the 
 * period boundaries: largest change of the result when the main-period start is moved earlier and
   the after-period start later (see ``reduce_thermogram``), as a rectangular half-width (a/√3);
 * method spread: largest difference between the chosen result and the other exact methods that
-  apply (rectangular a/√3).
+  apply (rectangular a/√3);
+* release still under way when the after-period starts (``Event.tail_K``, rectangular a/√3),
+  and, with a moving surroundings temperature (``surroundings``): the exchange constant in the
+  T_env term, the surroundings probe's noise and lag, or the fitted room drift, or the spread
+  against a drifting room when the data contradict a steady one.
 """
 
 from __future__ import annotations
@@ -45,7 +49,11 @@ def delta_t_budget(
     method_spread: float,
     method: str,
     extra: Sequence[Component] = (),
+    more: Sequence[Component] = (),
 ) -> Budget:
+    """The ΔT budget. ``extra`` replaces the drift rows (a whole-curve fit); ``more`` adds rows
+    (surroundings model, unfinished release) to any method."""
+
     def row(name: str, u: float, dof: float, evaluation: str, note: str) -> Component:
         return Component(name, 0.0, u, 1.0, "K", dof, evaluation, note)
 
@@ -88,5 +96,6 @@ def delta_t_budget(
             "largest difference to other applicable methods, rectangular",
         ),
         *extra,
+        *more,
     ]
     return Budget(f"corrected temperature change ({method})", value, "K", tuple(comps))

@@ -9,7 +9,7 @@ draws the curve and the state as plain text. :meth:`LiveGuide.csv_text` is the r
 Phases and the criteria behind each signal (thresholds are options; the defaults are common
 practice, no source):
 
-1. ``settling`` → ``stable`` ("stable — start now"). Over the last ``window_s`` seconds (default
+1. ``settling`` → ``stable`` ("fore-period steady, start now"). Over the last ``window_s`` seconds (default
    180 s) a straight line is fitted to the readings. The fore-period is stable when the window is
    full, the residual standard deviation (noise) is at most ``max_noise_K`` (default 5 mK), the
    drift rate is below ``max_drift_K_per_min`` (default 50 mK/min) *with its uncertainty*:
@@ -17,7 +17,10 @@ practice, no source):
    is steady: the rates b₁, b₂ of lines fitted to the first and second half of the window differ
    by |b₂ − b₁| + 2·u(b₂ − b₁) ≤ ``max_drift_change_K_per_min`` (default 5 mK/min). A steady
    drift is what the corrections (Regnault–Pfaundler, Dickinson) assume for the fore-period; a
-   small one keeps the exchange correction, and its uncertainty, small.
+   small one keeps the exchange correction, and its uncertainty, small. The window is never
+   shorter than :func:`heatlog.reduce.periods.baseline_needed_s` at the run's sampling step: the
+   rule the reduction applies, so a run started at the signal leaves the reduction a fore-period
+   it accepts.
 2. ``stable`` → ``event``: once stable, a reading that leaves the extrapolated fore-period line
    by more than max(``event_sigmas``·σ, ``min_event_K``) (defaults 8σ and 5 mK), three readings
    in a row, marks the event at the first of them. A release started before the stable signal
@@ -28,7 +31,7 @@ practice, no source):
    reduced with :func:`heatlog.reduce.reduce_thermogram` (the detected event nearest the
    guide's is reduced); the running ΔT and u(ΔT) are reported once the reduction finds an
    after-period.
-4. ``after`` → ``enough`` ("enough after-period — you may stop"): the after-period found by the
+4. ``after`` → ``enough`` ("you may stop"): the after-period found by the
    reduction has lasted ``min_after_s`` (default 300 s), u(ΔT) ≤ ``target_u_K`` (default 5 mK),
    and the estimate has settled: it moved by no more than u(ΔT) since the previous reduction.
 """
@@ -43,7 +46,8 @@ import numpy as np
 
 from heatlog.errors import InputError, ReductionError
 from heatlog.reduce import reduce_thermogram
-from heatlog.reduce.events import MIN_PERIOD_S, detect_events, reading_noise
+from heatlog.reduce.events import detect_events, reading_noise
+from heatlog.reduce.periods import baseline_needed_s
 from heatlog.reduce.reduction import MAX_POINTS, detect_resolution
 from heatlog.reduce.sampling import block_means
 from heatlog.thermogram import Thermogram
@@ -51,6 +55,7 @@ from heatlog.thermogram import Thermogram
 PHASES = ("settling", "stable", "event", "after", "enough")
 _DEPARTURES = 3  # readings in a row off the fore-period line that make an event
 _JUMP_S = 20.0  # span of the "recent rate" used to spot an event before the stable signal
+_FIRST_REDUCE_S = 120.0  # age of the event before the first running reduction is tried
 
 
 @dataclass(frozen=True)
@@ -169,8 +174,14 @@ class LiveGuide:
         # keep only readings not flagged as departures (they are at the end)
         end = t.size - len(self._departures)
         t, y = t[:end], y[:end]
-        lo = int(np.searchsorted(t, t[-1] - self.options.window_s)) if t.size else 0
+        lo = int(np.searchsorted(t, t[-1] - self._window_s())) if t.size else 0
         return t[lo:], y[lo:]
+
+    def _window_s(self) -> float:
+        """The stable window: the option, and never less than the reduction needs."""
+        t = self._t
+        step = float(np.median(np.diff(t[-50:]))) if len(t) > 2 else 0.0
+        return max(self.options.window_s, baseline_needed_s(step))
 
     def _fore(self, s: GuideState) -> GuideState:
         o = self.options
@@ -187,17 +198,18 @@ class LiveGuide:
                         phase="event",
                         event_s=self._departures[0],
                         stable=False,
-                        message=f"event at {self._departures[0]:.0f} s: the release is under "
+                        message=f"at {self._departures[0]:.0f} s: the release is under "
                         "way; keep logging",
                     )
                 return s
             self._departures.clear()
         t, y = self._window()
-        if t.size < 5 or t[-1] - t[0] < 0.95 * o.window_s:
+        window = self._window_s()
+        if t.size < 5 or t[-1] - t[0] < 0.95 * window:
             have = t[-1] - t[0] if t.size else 0.0
             return replace(
                 s,
-                message=f"settling: {have:.0f} of {o.window_s:.0f} s of fore-period readings",
+                message=f"{have:.0f} of {window:.0f} s of fore-period readings so far",
             )
         a, b, u_b, sigma, tm = _line(t, y)
         drift, u_drift = 60.0 * b, 60.0 * u_b
@@ -212,7 +224,7 @@ class LiveGuide:
             "steady": f"|{change * 1e3:.2f}| + 2·{u_change * 1e3:.2f} mK/min ≤ "
             f"{o.max_drift_change_K_per_min * 1e3:g} mK/min (second-half minus first-half rate)",
             "noise": f"{sigma * 1e3:.2f} mK ≤ {o.max_noise_K * 1e3:g} mK",
-            "window": f"last {o.window_s:g} s",
+            "window": f"last {window:g} s (at least what the reduction needs at this sampling)",
             "source": "thresholds: common practice, no source",
         }
         stable = (
@@ -225,7 +237,7 @@ class LiveGuide:
                 s,
                 phase="event",
                 event_s=self._departures[0],
-                message=f"event at {self._departures[0]:.0f} s, before the fore-period was "
+                message=f"at {self._departures[0]:.0f} s, before the fore-period was "
                 "stable: the correction will be less certain; keep logging",
             )
         s = replace(
@@ -247,8 +259,8 @@ class LiveGuide:
                 s,
                 phase="stable",
                 start_signal_s=t_now if first else s.start_signal_s,
-                message=f"stable — start now (drift {drift * 1e3:+.2f}, u = {u_drift * 1e3:.2f} (k=1) "
-                f"mK/min, noise {sigma * 1e3:.2f} mK)",
+                message=f"fore-period steady, start now (drift {drift * 1e3:+.2f} ± {u_drift * 1e3:.2f} "
+                f"mK/min (u, k=1), noise {sigma * 1e3:.2f} mK)",
             )
         why = []
         if abs(drift) + 2.0 * u_drift > o.max_drift_K_per_min:
@@ -262,7 +274,7 @@ class LiveGuide:
         if s.phase == "stable":
             # keep the last stable line for event detection; say the drift has changed
             return replace(s, message="fore-period no longer steady (" + ", ".join(why) + "): wait")
-        return replace(s, message="settling: " + ", ".join(why) + " too large")
+        return replace(s, message=", ".join(why) + " too large: wait")
 
     def _early_event(self) -> bool:
         """A release started while still settling. Reference: a line through the window's
@@ -296,7 +308,7 @@ class LiveGuide:
         o = self.options
         assert s.event_s is not None
         t_now = s.time_s
-        if t_now - s.event_s < MIN_PERIOD_S:
+        if t_now - s.event_s < _FIRST_REDUCE_S:
             return s
         if self._last_reduce is not None and t_now - self._last_reduce < o.reduce_every_s:
             return s
@@ -334,7 +346,7 @@ class LiveGuide:
         )
         head = f"ΔT = {red.delta_t_K:+.4f} K, u = {red.u_delta_t_K * 1e3:.2g} mK ({red.method})"
         if s.enough:
-            return replace(s, message=f"{head}: enough after-period — you may stop")
+            return replace(s, message=f"{head}: you may stop")
         return replace(s, message=f"{head}: after-period {after_len:.0f} s; keep logging")
 
     # ----- output ---------------------------------------------------------------------------

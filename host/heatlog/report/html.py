@@ -227,6 +227,54 @@ def _pm(b: Budget, fmt: str = ".4g") -> str:
     return f"{b.value:{fmt}} {b.unit}, u = {b.u:.2g} {b.unit}, U(k = {b.k:g}) = {b.expanded:.2g} {b.unit}"
 
 
+def _hours(seconds: float | None, u: float | None = None) -> str:
+    if seconds is None:
+        return "never"
+    text = f"{seconds / 3600.0:.3g} h"
+    return text if u is None else f"{text}, u = {u / 3600.0:.2g} h"
+
+
+def profile_figure_rows(p: ProfileResult) -> list[tuple[str, str]]:
+    """Every further figure `heatlog profile` prints: C and G, threshold and band times, the
+    maturity and the heat at standard ages (label, text)."""
+    m = p.metrics
+    loss = p.heat.loss
+    c = p.settings.heat_capacity
+    rows = [
+        ("heat capacity C", f"{c.value:.5g} J/K, u = {c.u:.2g} J/K"),
+        (
+            "heat-loss coefficient G",
+            f"{loss.G_W_per_K:.4g} W/K, u = {loss.u_G_W_per_K:.2g} W/K ({loss.source})",
+        ),
+    ]
+    th = m.thresholds
+    if th.threshold_C is not None:
+        if m.time_to_threshold_s is None:
+            rows.append((f"threshold {th.threshold_C:g} °C ({th.source})", "never reached"))
+        else:
+            rows.append((
+                f"threshold {th.threshold_C:g} °C ({th.source})",
+                f"reached after {_hours(m.time_to_threshold_s, m.u_time_to_threshold_s)}; "
+                f"{m.side} it for {_hours(m.time_beyond_threshold_s, m.u_time_beyond_threshold_s)}",
+            ))  # fmt: skip
+    if th.band_C is not None:
+        rows.append((f"time within {th.band_C[0]:g}–{th.band_C[1]:g} °C",
+                     _hours(m.time_in_band_s, m.u_time_in_band_s)))  # fmt: skip
+    if p.maturity is not None:
+        mt = p.maturity
+        rows.append(("maturity (ASTM C1074), temperature–time factor",
+                     f"{mt.factor_Ch[-1]:.4g} °C·h, u = {mt.factor_budget.u:.2g} °C·h (T₀ = {mt.datum_C:g} °C)"))  # fmt: skip
+        rows.append(("equivalent age",
+                     f"{mt.equivalent_age_h[-1]:.4g} h, u = {mt.age_budget.u:.2g} h at "
+                     f"{mt.reference_C:g} °C (Q = {mt.activation_K:g} K)"))  # fmt: skip
+        for row in p.to_dict()["heat_at_ages"]:
+            per_g = (f"; {row['heat_J_per_g']:.4g} J/g, u = {row['u_heat_J_per_g']:.2g} J/g"
+                     if "heat_J_per_g" in row else "")  # fmt: skip
+            rows.append((f"Q at {row['age_h']:g} h",
+                         f"{row['heat_J']:.5g} J, u = {row['u_heat_J']:.2g} J{per_g}"))  # fmt: skip
+    return rows
+
+
 def result_rows(inputs: ReportInputs) -> list[tuple[str, str]]:
     """The headline results with their uncertainties (label, text)."""
     rows: list[tuple[str, str]] = []
@@ -300,6 +348,7 @@ def result_rows(inputs: ReportInputs) -> list[tuple[str, str]]:
                 f"{m.peak_C:.2f} °C, u = {m.u_peak_C:.2g} °C, at {m.time_to_peak_s / 3600:.3g} h",
             )
         )
+        rows += profile_figure_rows(p)
         if not p.complete:
             rows.append(("completeness", "INCOMPLETE: a skipped gap leaves heat out of Q"))
     return rows
@@ -441,6 +490,13 @@ def make_figures(inputs: ReportInputs, progress: Progress | None = None) -> list
                 plots.figure_png_base64(plots.profile_figure(inputs.profile, inputs.title)),
             )
         )
+        figs.append(
+            Figure(
+                "profile-temperature",
+                "Temperature and environment against time, with the peak, threshold and band.",
+                plots.figure_png_base64(plots.profile_temperature_figure(inputs.profile)),
+            )
+        )
     if inputs.calibration is not None:
         say("plotting the probe calibration")
         figs.append(
@@ -461,6 +517,21 @@ def _figure_html(f: Figure) -> str:
     )
 
 
+def _findings_section(inputs: ReportInputs) -> list[str]:
+    """The input gate's findings (spikes left out, units converted, ...): a short section."""
+    from heatlog.inputgate import findings_of
+
+    found = findings_of(inputs.run) if inputs.run is not None else findings_of(inputs.thermogram)
+    if not found:
+        return []
+    items = [
+        f"<li><strong>{esc('refused' if f.severity == 'refuse' else 'flagged')} "
+        f"[{esc(f.code)}]</strong>: {esc(f.message)}; {esc(f.action)}</li>"
+        for f in found
+    ]
+    return ["<h2>Input checks</h2><ul>", *items, "</ul>"]
+
+
 def render_html(inputs: ReportInputs, progress: Progress | None = None) -> str:
     """The whole report as one HTML document (no external resources)."""
     figs = make_figures(inputs, progress)
@@ -475,7 +546,7 @@ def render_html(inputs: ReportInputs, progress: Progress | None = None) -> str:
         "<h2>Results</h2>",
         _kv(result_rows(inputs)).replace("<table>", '<table class="result-table">', 1),
     ]
-    for key in ("thermogram", "profile", "hess"):
+    for key in ("thermogram", "profile", "profile-temperature", "hess"):
         if key in by_key:
             body.append(_figure_html(by_key[key]))
     if inputs.inputs:
@@ -510,6 +581,7 @@ def render_html(inputs: ReportInputs, progress: Progress | None = None) -> str:
     body += ["<h2>Probe and calibration</h2>", _probe_section(inputs.probe, inputs.calibration)]
     if "calibration" in by_key:
         body.append(_figure_html(by_key["calibration"]))
+    body += _findings_section(inputs)
     notes = list(inputs.notes)
     if red is not None:
         notes += list(red.notes)

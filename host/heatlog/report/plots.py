@@ -222,6 +222,30 @@ def profile_figure(result: ProfileResult, title: str = "") -> Figure:
     return fig
 
 
+def profile_temperature_figure(result: ProfileResult, title: str = "") -> Figure:
+    """Temperature against time with the environment, the peak (or lowest point) and any
+    threshold and band the metrics used; long logs thinned keeping the extremes."""
+    h = result.heat
+    m = result.metrics
+    hours = (h.time_s - h.time_s[0]) / 3600.0
+    fig, (ax,) = _figure(rows=1, height=4.2)
+    th, y, env = _thin_with(hours, h.temp_C, h.env_C)
+    ax.plot(th, y, color=AFTER, lw=1.3, label="temperature")
+    ax.plot(th, env, color="grey", lw=1.0, ls="--", label="environment")
+    label = "lowest point" if m.side == "below" else "peak"
+    ax.plot([m.time_to_peak_s / 3600.0], [m.peak_C], "o", color=FORE, label=label)
+    thr = m.thresholds
+    if thr.threshold_C is not None:
+        ax.axhline(
+            thr.threshold_C, color="red", lw=0.8, ls=":", label=f"threshold {thr.threshold_C:g} °C"
+        )
+    if thr.band_C is not None:
+        ax.axhspan(thr.band_C[0], thr.band_C[1], color=BAND, alpha=0.15,
+                   label=f"band {thr.band_C[0]:g}–{thr.band_C[1]:g} °C")  # fmt: skip
+    _finish(ax, "time since start / h", "T / °C", title or f"Temperature ({result.settings.kind})")
+    return fig
+
+
 def hess_figure(comparison: Comparison, label: str = "") -> Figure:
     """Measured and Hess's-law predicted enthalpy with k = 2 error bars and the z score."""
     c = comparison

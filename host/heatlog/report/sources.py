@@ -152,8 +152,11 @@ def report_inputs(
     temp_col: str = "temp_C",
     probe_points: Path | None = None,
     progress: Progress | None = None,
+    event_start_s: float | None = None,
+    after_start_s: float | None = None,
 ) -> ReportInputs:
-    """Everything a report on ``path`` (run file or CSV log) shows."""
+    """Everything a report on ``path`` (run file or CSV log) shows. ``event_start_s`` and
+    ``after_start_s`` override the detected periods of a CSV log (a run file has its own)."""
     say = progress or _quiet
     p = Path(path)
     if p.suffix.lower() == ".toml":
@@ -166,7 +169,7 @@ def report_inputs(
     say("reading the log")
     thermogram = read_thermogram_csv(p, time_col=time_col, temp_col=temp_col)
     say("reducing the log")
-    red = reduce_thermogram(thermogram)
+    red = reduce_thermogram(thermogram, event_start_s=event_start_s, after_start_s=after_start_s)
     return ReportInputs(
         title=p.stem,
         source=str(p),

@@ -417,10 +417,14 @@ class PtyServer(_BoardServer):
         self.port = os.ttyname(self.slave)
         self.link_path = link_path
         if link_path is not None:
-            link_path = Path(link_path)
-            if link_path.is_symlink() or link_path.exists():
-                link_path.unlink()
-            link_path.symlink_to(self.port)
+            from heatlog.sim.linkpath import make_link
+
+            try:
+                make_link(link_path, self.port)  # never over an existing file
+            except Exception:
+                for fd in (self.master, self.slave):
+                    os.close(fd)
+                raise
 
     @property
     def path(self) -> str:
@@ -449,6 +453,9 @@ class PtyServer(_BoardServer):
                 pass
         if self.link_path is not None and Path(self.link_path).is_symlink():
             Path(self.link_path).unlink()
+
+
+LEAVING_GRACE_S = 0.5  # how long a new connection waits for the previous host's close to show
 
 
 class TcpServer(_BoardServer):
@@ -520,6 +527,8 @@ class TcpServer(_BoardServer):
             except OSError:
                 conn = None
             if conn is not None:
+                if self.client is not None:  # a host that closed just before may not show yet
+                    data += self._drain_leaving(LEAVING_GRACE_S)
                 if self.client is None:
                     conn.setblocking(False)
                     conn.setsockopt(socket.IPPROTO_TCP, socket.TCP_NODELAY, 1)
@@ -528,6 +537,32 @@ class TcpServer(_BoardServer):
                 else:  # busy, as a serial port opened by another program
                     conn.close()
         return data
+
+    def _drain_leaving(self, grace_s: float) -> bytes:
+        """Read what the connected host still sends for up to ``grace_s``; drop it if it has
+        closed (end of stream), so a host that reopens the port right after is not refused."""
+        got = b""
+        deadline = time.monotonic() + grace_s
+        while self.client is not None:
+            left = deadline - time.monotonic()
+            try:
+                ready, _, _ = select.select([self.client], [], [], max(left, 0.0))
+            except (OSError, ValueError):
+                self._drop_client()
+                break
+            if not ready:
+                break
+            try:
+                chunk = self.client.recv(65536)
+            except (BlockingIOError, InterruptedError):
+                continue
+            except OSError:
+                chunk = b""
+            if not chunk:
+                self._drop_client()
+                break
+            got += chunk
+        return got
 
     def _send(self, data: bytes) -> int:
         if self.client is None:

@@ -2,7 +2,8 @@
 
 :class:`FaultySerial` drops, duplicates and bit-flips bytes in both directions, holds back
 some reads for a while (delay), inserts junk, and can cut the link for good after a number of
-bytes have come from the board. All randomness comes from one seeded generator, so a failing
+bytes have come from the board; it can also insert a false frame header, a boot line, or go
+silent for a while (everything the board sends meanwhile is lost). All randomness comes from one seeded generator, so a failing
 case replays exactly. :class:`WrongDevice` is a port on which something else answers (an NMEA
 GPS, say) and never speaks the heatlog protocol.
 """
@@ -26,6 +27,11 @@ class FaultPlan:
     delay: float = 0.0  # probability per read that its bytes are held back for delay_s
     delay_s: float = 0.05
     cut_after: int | None = None  # bytes read from the board before the link dies
+    fake_header: float = 0.0  # probability per read of a start byte, version, type, id and a
+    #   long declared length: a false frame start that swallows the next bytes
+    boot: float = 0.0  # probability per read of a boot line (the board restarted its REPL)
+    silence: float = 0.0  # probability per read that the board goes quiet for silence_s
+    silence_s: float = 0.3
     seed: int = 0
 
 
@@ -38,6 +44,7 @@ class FaultySerial:
         self.cut = False
         self._held: list[tuple[float, bytes]] = []
         self._ready = bytearray()
+        self._quiet_until = 0.0
         self.timeout = getattr(inner, "timeout", 0.02)
 
     def _mangle(self, data: bytes) -> bytes:
@@ -78,6 +85,15 @@ class FaultySerial:
                     ).tobytes()
                     + data
                 )
+            if p.fake_header and self.rng.random() < p.fake_header:
+                rid, n = int(self.rng.integers(0, 256)), int(self.rng.integers(256, 1025))
+                data = bytes([0xA7, 1, 0x84, rid, n & 0xFF, n >> 8]) + data
+            if p.boot and self.rng.random() < p.boot:
+                data = b"\r\nheatlog: boot, reset cause 1\r\n" + data
+            if p.silence and self.rng.random() < p.silence:
+                self._quiet_until = now + p.silence_s
+            if now < self._quiet_until:
+                data = b""
             if p.delay and self.rng.random() < p.delay:
                 self._held.append((now + p.delay_s, data))
                 data = b""

@@ -1,0 +1,170 @@
+"""A surroundings temperature that changes during the run: measured (an ambient column) or fitted.
+
+Newton's law of exchange (docs/REFERENCES.md: ISO1928) with a moving surroundings temperature
+T_env(t) = T_e0 + e(t):
+dT/dt = k(T_e0 + e(t) − T) + u + P(t)/C. Let w be e seen through the vessel's own exchange,
+dw/dt = k(e − w) (any start value). Then X = T − w obeys dX/dt = k(T_e0 − X) + u + P(t)/C
+exactly: a vessel in a steady room with the same release. So the readings minus w_k are reduced
+by the steady-room machinery (``drift``, ``correction``) with the same k, and the corrected
+change of X is the corrected change of T.
+
+* measured: e(t) is the logged surroundings column (minus its mean). k is found by one search
+  (variable projection) over the fore- and after-periods together: for each k the Newtonian
+  drift of y − w_k is linear in (T_f, T_a, s_f) and is solved by least squares; the k with the
+  smallest residual sum of squares wins.
+* ramp (no ambient column): e(t) = β·(t − t_m), a room warming or cooling steadily; β enters
+  linearly (one more column w1_k), k by the same search. Chosen over the steady-room model by
+  the Akaike information criterion (docs/REFERENCES.md: AKAIKE1974), see ``ramp_preferred``
+  for the margin. When it is not chosen but its β is significant (|β| > 2u(β)), the budget
+  gets a row for the spread between the two (the fore- and after-period drifts disagree with
+  a steady room).
+
+w_k is computed exactly for e piecewise linear between readings:
+w_{i+1} = a·w_i + e_{i+1} − a·e_i − m·(1 − a)/k, a = e^(−kΔ), m the slope of e over the step.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.optimize import minimize_scalar
+
+from heatlog.reduce.drift import _design, _expo, residual_sigma
+
+#: Bound on how far the logged surroundings reading may lag what the vessel exchanges with
+#: (probe time constant in still air plus the vessel wall): common practice, no source.
+ENV_LAG_BOUND_S = 120.0
+#: Seeded draws for the surroundings-noise row (Monte Carlo, docs/REFERENCES.md: JCGM101).
+ENV_NOISE_DRAWS = 16
+#: The drifting-room model is taken over the steady room only on strong evidence: an AIC lower
+#: by more than this (stricter than the linear/Newtonian margin, since a ramp also soaks up
+#: small misfits such as probe lag) and a drift of at least ``RAMP_MIN_K_PER_H`` (a room
+#: steadier than 0.1 K/h counts as steady); both common practice, no source.
+RAMP_AIC_MARGIN = 10.0
+RAMP_MIN_K_PER_H = 0.1
+
+
+def env_response(t: np.ndarray, e: np.ndarray, k: float) -> np.ndarray:
+    """w with dw/dt = k(e − w), w(t₀) = 0, e linear between samples (exact)."""
+    t = np.asarray(t, dtype=float)
+    e = np.asarray(e, dtype=float)
+    w = np.zeros_like(e)
+    if e.size < 2:
+        return w
+    d = np.diff(t)
+    a = np.exp(-k * d)
+    c = _expo(k, d)  # (1 − a)/k, → Δ for k → 0
+    m = np.diff(e) / d
+    inc = e[1:] - a * e[:-1] - m * c
+    # w_{i+1} = a_i w_i + inc_i: a first-order recursion; uniform steps go through lfilter
+    if np.allclose(d, d[0], rtol=1e-9, atol=0.0):
+        from scipy.signal import lfilter
+
+        w[1:] = lfilter([1.0], [1.0, -float(a[0])], inc)
+        return w
+    acc = 0.0
+    for i in range(inc.size):
+        acc = a[i] * acc + inc[i]
+        w[i + 1] = acc
+    return w
+
+
+@dataclass(frozen=True)
+class SurroundingsFit:
+    """The exchange constant and the surroundings term found with it."""
+
+    kind: str  # "measured" or "ramp"
+    k_per_s: float
+    w: np.ndarray  # w_k on the reduction's time base (subtract from the readings)
+    beta_K_per_s: float = math.nan  # ramp only
+    u_beta_K_per_s: float = math.nan
+    rss: float = math.nan
+    n: int = 0
+
+    @property
+    def aic(self) -> float:
+        p = 5 if self.kind == "ramp" else 4
+        return self.n * math.log(max(self.rss, 1e-300) / max(self.n, 1)) + 2 * p
+
+
+def _k_search(rss_of, span: float) -> float:
+    kmax = 20.0 / span
+    grid = np.concatenate([[0.0], np.geomspace(1e-3 / span, kmax, 30)])
+    vals = np.array([rss_of(k) for k in grid])
+    i = int(np.argmin(vals))
+    lo, hi = grid[max(i - 1, 0)], grid[min(i + 1, grid.size - 1)]
+    if hi <= lo:
+        return float(grid[i])
+    k = float(
+        minimize_scalar(
+            rss_of, bounds=(lo, hi), method="bounded", options={"xatol": 1e-12 + 1e-9 * grid[i]}
+        ).x
+    )
+    return k if rss_of(k) <= vals[i] else float(grid[i])
+
+
+def fit_surroundings(
+    t: np.ndarray,
+    y: np.ndarray,
+    fore: np.ndarray,
+    after: np.ndarray,
+    env: np.ndarray | None,
+    ramp: bool = True,
+) -> SurroundingsFit:
+    """k (and β for a ramp) from the fore- and after-periods (boolean masks on ``t``).
+
+    ``env`` is the logged surroundings temperature on ``t`` (measured kind); ``None`` fits the
+    ramp model, or with ``ramp=False`` the steady room (for the AIC comparison on the same data).
+    """
+    ft, at = t[fore], t[after]
+    t_f, t_a = float(ft.mean()), float(at.mean())
+    yy = np.concatenate([y[fore], y[after]])
+    span = max(at[-1] - ft[0], 1.0)
+    if env is not None:
+        e = np.asarray(env, dtype=float) - float(np.mean(env))
+    else:
+        e = t - 0.5 * (t[0] + t[-1])
+
+    def system(k: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        w = env_response(t, e, k)
+        j = _design("newtonian", k, ft, at, t_f, t_a)
+        ww = np.concatenate([w[fore], w[after]])
+        if env is None:
+            return (np.column_stack([j, ww]), yy, w) if ramp else (j, yy, 0.0 * w)
+        return j, yy - ww, w
+
+    def rss_of(k: float) -> float:
+        j, z, _ = system(k)
+        p, *_ = np.linalg.lstsq(j, z, rcond=None)
+        r = z - j @ p
+        return float(r @ r)
+
+    k = _k_search(rss_of, span)
+    j, z, w = system(k)
+    p, *_ = np.linalg.lstsq(j, z, rcond=None)
+    r = z - j @ p
+    rss = float(r @ r)
+    n = int(z.size)
+    if env is not None:
+        return SurroundingsFit("measured", k, w, rss=rss, n=n)
+    if not ramp:
+        return SurroundingsFit("steady", k, w, 0.0, 0.0, rss, n)
+    s2 = residual_sigma(r, n - 5) ** 2
+    try:
+        cov = np.linalg.inv(j.T @ j) * s2
+        u_beta = float(math.sqrt(max(cov[3, 3], 0.0)))
+    except np.linalg.LinAlgError:
+        u_beta = math.inf
+    beta = float(p[3])
+    return SurroundingsFit("ramp", k, beta * w, beta, u_beta, rss, n)
+
+
+def ramp_preferred(ramp: SurroundingsFit, steady_aic: float) -> bool:
+    """The stated criterion: the ramp model's AIC is lower by more than ``RAMP_AIC_MARGIN`` and
+    the room drifts by at least ``RAMP_MIN_K_PER_H``."""
+    return (
+        ramp.aic < steady_aic - RAMP_AIC_MARGIN
+        and abs(ramp.beta_K_per_s) * 3600.0 >= RAMP_MIN_K_PER_H
+    )

@@ -1,0 +1,56 @@
+"""The lazy command table: every row imports, is the command it names, and lists its own help."""
+
+import subprocess
+import sys
+
+import click
+import pytest
+from click.testing import CliRunner
+
+from heatlog.cli import COMMANDS, load_command, main
+
+
+@pytest.mark.parametrize("name", sorted(COMMANDS))
+def test_every_row_is_the_command_it_names(name):
+    command = load_command(name)
+    assert isinstance(command, click.Command)
+    assert command.name == name
+    # The listing shows the table's line without importing; it must be the command's own.
+    assert command.get_short_help_str(limit=10_000) == COMMANDS[name][1], (
+        f"COMMANDS[{name!r}] help drifted from the command's docstring; copy its first sentence"
+    )
+
+
+def test_listing_matches_the_loaded_commands():
+    lazy = CliRunner().invoke(main, ["--help"]).output
+    ctx = click.Context(main)
+    loaded = [load_command(n) for n in main.list_commands(ctx)]
+    for command in loaded:
+        assert command.name in lazy
+    assert main.list_commands(ctx) == sorted(COMMANDS)
+
+
+def test_version_and_help_import_no_command_module():
+    # A fresh interpreter: what `heatlog --help` imports must not include numpy or any command
+    # (the output-encoding wrapper the group enters on every run is stdlib only, and allowed).
+    code = (
+        "import sys\n"
+        "from heatlog.cli import main\n"
+        "try:\n"
+        "    main(['--help'])\n"
+        "except SystemExit:\n"
+        "    pass\n"
+        "heavy = sorted(m for m in sys.modules if m.split('.')[0] in ('numpy', 'scipy')"
+        " or (m.startswith('heatlog.cli.') and m != 'heatlog.cli.asciitext'))\n"
+        "print('HEAVY', heavy)\n"
+    )
+    out = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=True
+    ).stdout
+    assert "HEAVY []" in out, out
+    assert "reduce" in out and "Commands:" in out
+
+
+def test_unknown_command_is_a_usage_error():
+    r = CliRunner().invoke(main, ["no-such-command"])
+    assert r.exit_code == 2 and "No such command" in r.output
