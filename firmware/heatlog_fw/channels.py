@@ -7,7 +7,6 @@ from . import logformat as lf
 from .adc_divider import AdcDivider, AdcDividerUv
 from .ads1115 import Ads1115, Ads1115Ratio
 from .conversions import rtd_fault_codes
-from .ina2xx import Ina2xx, InaBus, InaShunt
 from .max31865 import Max31865
 
 ADS_RATES_SPS = config.ADS_RATES_SPS
@@ -104,7 +103,9 @@ def build(cfg, machine):
                 buses[key] = machine.I2C(
                     b["id"], scl=machine.Pin(b["scl"]), sda=machine.Pin(b["sda"]), freq=400000
                 )
-            if kind != "ads1115":
+            if kind != "ads1115":  # the monitor's driver: loaded only when a config has one
+                from .ina2xx import Ina2xx, InaBus, InaShunt
+
                 avg, ct, pga, bus32 = config.power_settings(ch)
                 dev = Ina2xx(buses[key], ch["address"], kind, avg, ct, pga, bus32)
                 out.append(InaBus(dev))

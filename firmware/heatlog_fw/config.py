@@ -11,7 +11,7 @@ See firmware/config.example.json.
 
 import json
 
-from . import ina2xx, pins
+from . import pins
 
 MAX_CONFIG_BYTES = 4096
 KINDS = ("adc_divider", "ads1115", "max31865", "ina226", "ina219")
@@ -131,6 +131,8 @@ def _channel(errs, ch, i):
 
 def _power(errs, ch, where):
     """An INA226/INA219 monitor in the heater's low-voltage circuit (it measures, never switches)."""
+    from . import ina2xx  # only a config with a monitor loads the driver (board heap)
+
     kind = ch["kind"]
     _int_in(errs, ch, "address", 0x40, 0x4F, where)
     _bus(errs, ch, "i2c", ("id", "sda", "scl"), where)
@@ -170,6 +172,8 @@ def _power(errs, ch, where):
 
 def power_settings(ch):
     """(averages, conversion index, pga index, 32 V bus) of a validated power channel."""
+    from . import ina2xx
+
     if ch["kind"] == "ina226":
         return ch.get("averages", 16), _ct_index(ch.get("conversion_us", 1100)), 3, True
     return (
@@ -181,6 +185,8 @@ def power_settings(ch):
 
 
 def _ct_index(us):
+    from . import ina2xx
+
     return ina2xx.INA226_CT_US.index(us)
 
 
@@ -233,6 +239,8 @@ def timing_problems(cfg):
         )
     for i, ch in enumerate(cfg["channels"]):
         if ch["kind"] in POWER_KINDS:
+            from . import ina2xx
+
             avg, ct, _, _ = power_settings(ch)
             r = ina2xx.result_ms(ch["kind"], avg, ct)
             if r > cfg["interval_ms"]:
