@@ -34,6 +34,12 @@ def table(cfg):
                     ch["probe_id"],
                 )
             )
+        elif kind in config.POWER_KINDS:
+            code = lf.KIND_INA226 if kind == "ina226" else lf.KIND_INA219
+            pga = config.power_settings(ch)[2]
+            uohm = int(round(ch["shunt_ohm"] * 1000000))
+            for mode in (lf.MODE_BUS, lf.MODE_SHUNT):
+                out.append((code, mode, ch["address"], pga, uohm, ch["probe_id"]))
         elif kind == "ads1115":
             src = (ch["signal"] << 4) | ch["excitation"]
             out.append(
@@ -90,13 +96,21 @@ def build(cfg, machine):
             else:  # rp2: ratiometric; building from a Pin also turns the pad analog
                 adc = machine.ADC(machine.Pin(ch["pin"]))
                 out.append(AdcDivider(adc, dnl, low))
-        elif kind == "ads1115":
+        elif kind == "ads1115" or kind in config.POWER_KINDS:
             b = ch["i2c"]
             key = ("i2c", b["id"])
             if key not in buses:
                 buses[key] = machine.I2C(
                     b["id"], scl=machine.Pin(b["scl"]), sda=machine.Pin(b["sda"]), freq=400000
                 )
+            if kind != "ads1115":  # the monitor's driver: loaded only when a config has one
+                from .ina2xx import Ina2xx, InaBus, InaShunt
+
+                avg, ct, pga, bus32 = config.power_settings(ch)
+                dev = Ina2xx(buses[key], ch["address"], kind, avg, ct, pga, bus32)
+                out.append(InaBus(dev))
+                out.append(InaShunt(dev))
+                continue
             ads = Ads1115(buses[key], ch["address"], ch["gain"], ch["rate"])
             out.append(Ads1115Ratio(ads, ch["signal"], ch["excitation"]))
         else:

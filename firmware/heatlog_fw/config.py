@@ -14,7 +14,8 @@ import json
 from . import pins
 
 MAX_CONFIG_BYTES = 4096
-KINDS = ("adc_divider", "ads1115", "max31865")
+KINDS = ("adc_divider", "ads1115", "max31865", "ina226", "ina219")
+POWER_KINDS = ("ina226", "ina219")  # one config channel, two logged ones (bus, shunt)
 MODELS = {
     "steinhart_hart": ("A", "B", "C"),
     "beta": ("R25", "beta"),
@@ -75,6 +76,9 @@ def _channel(errs, ch, i):
         errs.append(where + "kind must be one of " + ", ".join(KINDS))
         return
     _text(errs, ch, "probe_id", where)
+    if kind in POWER_KINDS:
+        _power(errs, ch, where)
+        return
     _model(errs, ch, where)
     if ch.get("role", "vessel") not in ROLES:
         errs.append(where + "role must be one of " + ", ".join(ROLES))
@@ -125,6 +129,72 @@ def _channel(errs, ch, i):
         _bus(errs, ch, "spi", ("id", "sck", "mosi", "miso"), where)
 
 
+def _power(errs, ch, where):
+    """An INA226/INA219 monitor in the heater's low-voltage circuit (it measures, never switches)."""
+    from . import ina2xx  # only a config with a monitor loads the driver (board heap)
+
+    kind = ch["kind"]
+    _int_in(errs, ch, "address", 0x40, 0x4F, where)
+    _bus(errs, ch, "i2c", ("id", "sda", "scl"), where)
+    shunt = ch.get("shunt_ohm")
+    if not _is_num(shunt) or not 0.0001 <= shunt <= 100:
+        errs.append(where + "shunt_ohm must be a number in 0.0001..100 (the shunt resistor)")
+        shunt = None
+    avgs = ina2xx.INA226_AVERAGES if kind == "ina226" else ina2xx.INA219_AVERAGES
+    if ch.get("averages", 16) not in avgs:
+        errs.append(where + "averages must be one of " + ", ".join(str(a) for a in avgs))
+    full_mv = 81.92
+    if kind == "ina226":
+        if ch.get("conversion_us", 1100) not in ina2xx.INA226_CT_US:
+            errs.append(
+                where + "conversion_us must be one of "
+                + ", ".join(str(t) for t in ina2xx.INA226_CT_US)
+            )  # fmt: skip
+    else:
+        pga = ch.get("shunt_range_mV", 320)
+        if pga not in ina2xx.INA219_PGA_MV:
+            errs.append(where + "shunt_range_mV must be 40, 80, 160 or 320")
+        else:
+            full_mv = pga
+        if ch.get("bus_range_V", 32) not in (16, 32):
+            errs.append(where + "bus_range_V must be 16 or 32")
+    imax = ch.get("max_current_A")
+    if imax is not None:
+        if not _is_num(imax) or not 0 < imax <= 50:
+            errs.append(where + "max_current_A must be a number in 0..50")
+        elif shunt is not None and imax * shunt * 1000 > full_mv:
+            errs.append(
+                where + "max_current_A x shunt_ohm = " + str(round(imax * shunt * 1000, 2))
+                + " mV exceeds the " + kind + " shunt range of " + str(full_mv)
+                + " mV; use a smaller shunt" + (" or a wider shunt_range_mV" if kind == "ina219" else "")
+            )  # fmt: skip
+
+
+def power_settings(ch):
+    """(averages, conversion index, pga index, 32 V bus) of a validated power channel."""
+    from . import ina2xx
+
+    if ch["kind"] == "ina226":
+        return ch.get("averages", 16), _ct_index(ch.get("conversion_us", 1100)), 3, True
+    return (
+        ch.get("averages", 16),
+        0,
+        ina2xx.INA219_PGA_MV.index(ch.get("shunt_range_mV", 320)),
+        ch.get("bus_range_V", 32) == 32,
+    )
+
+
+def _ct_index(us):
+    from . import ina2xx
+
+    return ina2xx.INA226_CT_US.index(us)
+
+
+def logged_channels(cfg):
+    """How many channels a run log holds for cfg: a power monitor logs two (bus, shunt)."""
+    return sum(2 if ch.get("kind") in POWER_KINDS else 1 for ch in cfg["channels"])
+
+
 def _bus(errs, ch, key, fields, where):
     b = ch.get(key)
     if not isinstance(b, dict):
@@ -143,6 +213,8 @@ def sample_time_ms(cfg):
             t += 2 * n * (1100 // ADS_RATES_SPS[ch["rate"]] + 2)
         elif ch["kind"] == "max31865":
             t += n * ((66 if ch.get("mains_hz", 50) == 50 else 55) + (bias_settle_ms(ch) or 0))
+        elif ch["kind"] in POWER_KINDS:
+            t += 2  # two register reads; the device converts on its own
         else:
             t += 1 + n // 8
     return t
@@ -165,6 +237,17 @@ def timing_problems(cfg):
             "oversample x conversion time (" + str(t) + " ms) exceeds min(interval_ms, 4000 ms);"
             " lower oversample or raise interval_ms"
         )
+    for i, ch in enumerate(cfg["channels"]):
+        if ch["kind"] in POWER_KINDS:
+            from . import ina2xx
+
+            avg, ct, _, _ = power_settings(ch)
+            r = ina2xx.result_ms(ch["kind"], avg, ct)
+            if r > cfg["interval_ms"]:
+                out.append(
+                    "channels[" + str(i) + "]: averages x conversion time (" + str(r)
+                    + " ms) exceeds interval_ms; readings would repeat: lower averages"
+                )  # fmt: skip
     wd = cfg.get("watchdog_ms", DEFAULTS["watchdog_ms"])
     if t + 1000 > wd:
         out.append(
@@ -208,8 +291,8 @@ def _pin_problems(errs, cfg, board):
                         )  # fmt: skip
                     claim(p, where + key, where + key)
             continue
-        bus = "i2c" if kind == "ads1115" else "spi"
-        b = ch.get(bus) if kind in ("ads1115", "max31865") else None
+        bus = "spi" if kind == "max31865" else "i2c"
+        b = ch.get(bus) if kind in KINDS else None
         if isinstance(b, dict):
             bid = b.get("id")
             if _is_int(bid) and bid not in pins.bus_ids(board, bus):
@@ -262,6 +345,8 @@ def validate(cfg, port=None):
     else:
         for i, ch in enumerate(chans):
             _channel(errs, ch, i)
+        if not errs and logged_channels(cfg) > 8:
+            errs.append("channels: a power monitor logs two channels; at most 8 in all")
         roles = [ch.get("role", "vessel") for ch in chans if isinstance(ch, dict)]
         if roles and "vessel" not in roles:
             errs.append('channels: at least one channel must have role "vessel" (the default)')

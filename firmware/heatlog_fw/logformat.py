@@ -45,7 +45,11 @@ SEG_CLOCK_VALID = const(0x10)  # anchor_ms holds a host-set epoch time
 KIND_ADC_DIVIDER = const(1)
 KIND_ADS1115 = const(2)
 KIND_MAX31865 = const(3)
-KIND_NAMES = {1: "adc_divider", 2: "ads1115", 3: "max31865"}
+KIND_INA226 = const(4)  # power monitor: mode 0 bus code, mode 1 shunt code; ref = shunt in uohm
+KIND_INA219 = const(5)  # the same for an INA219; the entry's gain byte holds its PGA index
+KIND_NAMES = {1: "adc_divider", 2: "ads1115", 3: "max31865", 4: "ina226", 5: "ina219"}
+MODE_BUS = const(0)
+MODE_SHUNT = const(1)
 # channel-entry mode bits of an on-chip ADC divider (kind 1)
 MODE_NTC_HIGH = const(0x01)  # thermistor on the high side
 MODE_UV_RATIO = const(0x02)  # raw is a Q15 ratio of read_uv() readings (ESP32), not a code sum

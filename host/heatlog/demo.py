@@ -92,14 +92,20 @@ def _log_runs(
         return pull(board, archive)
 
 
-def _run_files(out: Path, cal_csv: Path, run_csv: Path, chain: str) -> None:
+def _run_files(
+    out: Path, cal_csv: Path, run_csv: Path, chain: str, monitor: dict[str, Any]
+) -> None:
     log = f'time_col = "time_s"\nraw_col = "ch0_raw"\nchain = "{chain}"\nprobe = "probe.toml"\n'
     water = f'[[contents]]\nname = "water"\nmass_g = {sc.WATER_G}\nu_mass_g = 0.05\ncp = "water"\n'
     (out / "calibration.toml").write_text(
         "# invented data: heatlog demo (simulated board)\n"
-        f'title = "Electrical calibration of the cup: {sc.HEATER_W:g} W for {sc.HEATER_S:g} s"\n'
+        f'title = "Electrical calibration of the cup: about {sc.HEATER_W:g} W for {sc.HEATER_S:g} s"\n'
         f'[log]\nfile = "{cal_csv.name}"\n{log}\n{water}\n'
-        f"[electrical]\npower_W = {sc.HEATER_W}\nu_power_W = 0.01\nseconds = {sc.HEATER_S}\nu_seconds = 0.2\n",
+        "# the heater's energy: ∫V·I dt from the INA226 logged beside the probe; the shunt's\n"
+        "# 0.1 % tolerance taken as a rectangular half-width (u = 0.1 %/√3)\n"
+        f'[electrical]\nmonitor = "{monitor["monitor"]}"\nbus_col = "{monitor["bus_col"]}"\n'
+        f'shunt_col = "{monitor["shunt_col"]}"\nshunt_ohm = {monitor["shunt_ohm"]}\n'
+        "u_shunt_rel = 0.000577\n",
         encoding="utf-8",
     )
     (out / "dissolution.toml").write_text(
@@ -188,6 +194,7 @@ def run_demo(
         )
     csvs = []
     chain = ""
+    monitor: dict[str, Any] = {}
     for entry, name in zip(archived[-2:], ("calibration", "dissolution"), strict=True):
         csv, meta = export_run(
             out / "archive" / entry.name,
@@ -196,9 +203,12 @@ def run_demo(
         )
         shutil.copyfile(csv, out / f"{name}.csv")
         csvs.append(out / f"{name}.csv")
-        chain = json.loads(meta.read_text())["channels"][0]["chain"]
-    _run_files(out, csvs[0], csvs[1], chain)
+        info = json.loads(meta.read_text())
+        chain = info["channels"][0]["chain"]
+        if name == "calibration":
+            monitor = info["power_monitors"][0]
+    _run_files(out, csvs[0], csvs[1], chain, monitor)
     cal = run_file(out / "calibration.toml")
     run = run_file(out / "dissolution.toml")
-    truth = DemoTruth(sc.CUP_C_J_PER_K, sc.NH4NO3_DH_KJ, sc.HEATER_W * sc.HEATER_S, truth_sim)
+    truth = DemoTruth(sc.CUP_C_J_PER_K, sc.NH4NO3_DH_KJ, sc.HEATER.total_J, truth_sim)
     return DemoResult(out, truth, cal, run, report, time.monotonic() - t_start)

@@ -54,7 +54,8 @@ HDR_CLOCK_VALID = 0x01
 INTERVAL_MS = (100, 3_600_000)
 OVERSAMPLE = (1, 256)
 ANCHOR_MS = (946_684_800_000, 4_102_444_800_000)  # 2000-01-01 .. 2100-01-01 UTC
-KIND_NAMES = {1: "adc_divider", 2: "ads1115", 3: "max31865"}
+KIND_NAMES = {1: "adc_divider", 2: "ads1115", 3: "max31865", 4: "ina226", 5: "ina219"}
+POWER_KIND_CODES = (4, 5)  # current/voltage monitors: mode 0 bus code, mode 1 shunt code
 # mode bits of an on-chip ADC divider channel (kind 1)
 MODE_NTC_HIGH = 0x01  # thermistor on the high side
 MODE_UV_RATIO = 0x02  # raw is a Q15 ratio of calibrated read_uv() readings (ESP32)
@@ -96,7 +97,7 @@ class Channel:
     calibrated microvolt readings (ESP32) rather than a sum of codes, bits 2..3 = excitation
     divider k − 1. source: ADC pin, ADS1115 (signal mux << 4 | excitation mux), or the
     MAX31865 chip-select pin. gain: ADS1115 PGA setting (0..5); the excitation ADC pin of a
-    ``MODE_UV_RATIO`` divider; else 0. ref_ohm: fixed divider resistor or MAX31865 reference
+    ``MODE_UV_RATIO`` divider; else 0. ref_ohm: fixed divider resistor, MAX31865 reference or monitor shunt
     resistor.
     """
 
@@ -107,6 +108,11 @@ class Channel:
     gain: int
     ref_ohm: float
     probe_id: str
+
+    @property
+    def is_power(self) -> bool:
+        """A heater's current/voltage monitor (``heatlog.monitorlog``), not a probe."""
+        return self.kind_code in POWER_KIND_CODES
 
     @property
     def q15_ratio(self) -> bool:
@@ -123,6 +129,8 @@ class Channel:
         logged raw values into probe resistance; oversample is the header's. lead_ohm: loop
         resistance of a 2-wire RTD's leads (the log does not know it)."""
         ref = f"{self.ref_ohm:g}"
+        if self.is_power:
+            raise LogCorrupt(f"channel {self.probe_id!r} is a power monitor, not a probe")
         if self.kind_code == 3:
             return f"max31865:rref={ref},lead={lead_ohm:g},n={oversample}"
         if self.kind_code not in (1, 2):
@@ -136,7 +144,7 @@ class Channel:
         """Raw value that means ratio 1 for one reading (multiply by oversample for sums)."""
         if self.q15_ratio:
             return 32768
-        return {1: 4096, 3: 32768}.get(self.kind_code, 0)
+        return {1: 4096, 3: 32768}.get(self.kind_code, 1)
 
 
 @dataclass(frozen=True)
@@ -349,7 +357,7 @@ def parse_header(data: bytes) -> LogHeader:
                 mode=wires,
                 source=source,
                 gain=gain,
-                ref_ohm=ref_mohm / 1000.0,
+                ref_ohm=ref_mohm / (1e6 if kind in POWER_KIND_CODES else 1e3),  # shunt: µΩ
                 probe_id=_text(pid),
             )
         )

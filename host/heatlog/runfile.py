@@ -23,6 +23,9 @@ RUN.toml`` evaluates it. The layout, with every key optional unless marked::
     name = "water"  mass_g = 150.0  u_mass_g = 0.05  cp = "water"  # or cp = 4.0, u_cp = 0.02
     [electrical]                 # this run calibrates: heater energy
     power_W = 5.0  u_power_W = 0.01  seconds = 300.0  u_seconds = 0.1   # or voltage_V/current_A
+    # or the energy ∫V·I dt from a logged INA226/INA219 (columns of the same log):
+    monitor = "ina226"  bus_col = "ch1_bus_V"  shunt_col = "ch2_shunt_V"
+    shunt_ohm = 0.1  u_shunt_rel = 0.0005          # the shunt's tolerance/√3 or calibration u
     [sample]                     # this run measures
     name = "NH4NO3"  mass_g = 8.0  u_mass_g = 0.002
     molar_mass_g_per_mol = 80.043                  # or taken from the reaction's first reactant
@@ -72,6 +75,7 @@ from heatlog.energetics.heat import (
     specific_enthalpy,
     substitute,
 )
+from heatlog.energetics.heater_energy import HeaterEnergy, heater_energy
 from heatlog.errors import InputError
 from heatlog.gum import Budget, Component, Input
 from heatlog.inputgate import (
@@ -97,6 +101,7 @@ class LogSpec:
     raw_col: str | None = None
     chain: str | None = None
     probe: Path | None = None
+    extra_cols: tuple[str, ...] = ()  # further columns read beside the temperature
     env_col: str | None = None  # logged surroundings temperature (°C)
 
 
@@ -108,11 +113,23 @@ class ContentSpec:
 
 
 @dataclass(frozen=True)
+class LoggedPowerSpec:
+    """The heater's energy from a logged current/voltage monitor (energetics.heater_energy)."""
+
+    monitor: str
+    bus_col: str
+    shunt_col: str
+    shunt_ohm: float
+    u_shunt_rel: float
+
+
+@dataclass(frozen=True)
 class ElectricalSpec:
-    seconds: Input
+    seconds: Input | None
     power_W: Input | None = None
     voltage_V: Input | None = None
     current_A: Input | None = None
+    logged: LoggedPowerSpec | None = None
 
 
 @dataclass(frozen=True)
@@ -244,7 +261,20 @@ def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
     if "electrical" in doc:
         e = _table(doc, "electrical", where)
         w = f"{where} [electrical]"
-        if "power_W" in e:
+        if "monitor" in e:
+            for key in ("bus_col", "shunt_col"):
+                if not isinstance(e.get(key), str):
+                    raise InputError(f'{w}: monitor needs {key} = "…" (a column of the log)')
+            logged = LoggedPowerSpec(
+                str(e["monitor"]),
+                e["bus_col"],
+                e["shunt_col"],
+                _number(e, "shunt_ohm", w),
+                _number(e, "u_shunt_rel", w),
+            )
+            electrical = ElectricalSpec(None, logged=logged)
+            log_spec = replace(log_spec, extra_cols=(logged.bus_col, logged.shunt_col))
+        elif "power_W" in e:
             electrical = ElectricalSpec(
                 _quantity(e, "seconds", "s", w), power_W=_quantity(e, "power_W", "W", w)
             )
@@ -255,7 +285,10 @@ def parse_run(doc: Mapping[str, Any], path: Path) -> RunSpec:
                 current_A=_quantity(e, "current_A", "A", w),
             )
         else:
-            raise InputError(f"{w}: give power_W, or voltage_V and current_A, and seconds")
+            raise InputError(
+                f"{w}: give power_W, or voltage_V and current_A, and seconds; or monitor with "
+                "bus_col, shunt_col, shunt_ohm and u_shunt_rel"
+            )
 
     sample = None
     if "sample" in doc:
@@ -383,7 +416,7 @@ def read_run_log(log: LogSpec, probe: ProbeFile | None = None) -> Thermogram:
     """The run's thermogram: a temperature column, or raw readings through the probe file
     (or through ``probe``, when given)."""
     env = (log.env_col,) if log.env_col else ()
-    if log.raw_col is None:
+    if log.raw_col is None and not log.extra_cols:
         th = read_thermogram_csv(
             log.file, time_col=log.time_col, temp_col=log.temp_col, channels=env
         )
@@ -391,7 +424,7 @@ def read_run_log(log: LogSpec, probe: ProbeFile | None = None) -> Thermogram:
             return th
         return replace(th, metadata={**th.metadata, "env_col": log.env_col})
     time_s, temp, extras, meta = read_log_arrays(
-        log, env, probe=probe, kind="thermogram", temperature_channels=env
+        log, (*env, *log.extra_cols), probe=probe, kind="thermogram", temperature_channels=env
     )
     if env:
         meta["env_col"] = log.env_col
@@ -412,6 +445,7 @@ class RunResult:
     specific: Budget | None = None
     hess: hess.Comparison | None = None
     predicted: Budget | None = None
+    heater: HeaterEnergy | None = None  # the energy from a logged monitor, when that was used
     hess_warning: str | None = None  # why no prediction could be made (the measurement stands)
     enthalpy_temp_C: float | None = None  # the temperature the measured ΔH refers to
     enthalpy_temp_basis: str = ""  # why that temperature (which heat capacity was used)
@@ -429,6 +463,8 @@ class RunResult:
                 "u_J_per_K": self.c_cal.u,
                 "budget": self.c_cal.to_dict(),
             }
+        if self.heater is not None:
+            out["heater_energy"] = self.heater.to_dict()
         if self.heat_J is not None:
             out.update(
                 heat_J=self.heat_J.value, u_heat_J=self.heat_J.u, heat_budget=self.heat_J.to_dict()
@@ -525,11 +561,26 @@ def reduce_with_settings(thermogram: Thermogram, r: Mapping[str, Any]) -> Reduct
     return with_probe_curve(red, thermogram.metadata.get("probe_file"))
 
 
-def _energy(e: ElectricalSpec) -> Budget:
+def _energy(e: ElectricalSpec, thermogram: Thermogram) -> tuple[Budget, HeaterEnergy | None]:
+    if e.logged is not None:
+        g = e.logged
+        for col in (g.bus_col, g.shunt_col):
+            if col not in thermogram.channels:
+                raise InputError(f"the log has no column {col!r} for the heater monitor")
+        he = heater_energy(
+            thermogram.time_s,
+            thermogram.channels[g.bus_col],
+            thermogram.channels[g.shunt_col],
+            shunt_ohm=g.shunt_ohm,
+            u_shunt_rel=g.u_shunt_rel,
+            monitor=g.monitor,
+        )
+        return he.budget, he
+    assert e.seconds is not None
     if e.power_W is not None:
-        return calorimeter.power_energy(e.power_W, e.seconds)
+        return calorimeter.power_energy(e.power_W, e.seconds), None
     assert e.voltage_V is not None and e.current_A is not None
-    return calorimeter.electrical_energy(e.voltage_V, e.current_A, e.seconds)
+    return calorimeter.electrical_energy(e.voltage_V, e.current_A, e.seconds), None
 
 
 def _molar_mass(sample: SampleSpec) -> float | None:
@@ -568,13 +619,14 @@ def evaluate_run(
     dt = red.budget
 
     if spec.electrical is not None:
-        c = calorimeter.electrical_calibration(
-            _energy(spec.electrical), as_input(dt), list(contents)
-        )
+        energy, heater = _energy(spec.electrical, thermogram)
+        c = calorimeter.electrical_calibration(energy, as_input(dt), list(contents))
         c = substitute(c, "ΔT", dt)  # ΔT's own parts, so a later run can share its probe rows
         flag = check_constant(c.value, c.u, str(spec.path), allow_negative=allow_negative)
         found_in += [flag] if flag else []
-        return RunResult(spec, red, mean_temp, contents, c_cal=c, findings=tuple(found_in))
+        return RunResult(
+            spec, red, mean_temp, contents, c_cal=c, findings=tuple(found_in), heater=heater
+        )
 
     c_cal: Budget | Input | None = spec.heat_capacity
     if spec.calibrations:

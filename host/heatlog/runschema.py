@@ -46,6 +46,11 @@ TABLE_KEYS: dict[str, set[str]] = {
         "u_current_A",
         "seconds",
         "u_seconds",
+        "monitor",
+        "bus_col",
+        "shunt_col",
+        "shunt_ohm",
+        "u_shunt_rel",
     },
     "sample": {
         "name",

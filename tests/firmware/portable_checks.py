@@ -554,6 +554,83 @@ def check_max31865_bias_only_during_conversion(vectors):
     assert all(x & 0x80 for x in hw2.rtd.config_writes)
 
 
+POWER_CHANNEL = {
+    "kind": "ina226",
+    "probe_id": "heater",
+    "address": 0x40,
+    "i2c": {"id": 0, "sda": 4, "scl": 5},
+    "shunt_ohm": 0.1,
+    "averages": 16,
+    "conversion_us": 1100,
+    "max_current_A": 0.8,
+}
+
+
+def check_ina_power_monitor(vectors):
+    """INA226/INA219 codes, config words, faults; one config channel logs bus and shunt."""
+    import machine
+    from heatlog_fw import channels, config, ina2xx
+    from heatlog_fw import logformat as lf
+
+    # config words (TI SBOS547 / SBOS448, from memory): AVG 16 = 0b010, CT 1100 us = 0b100
+    assert ina2xx.config_word("ina226", 16, 4) == (2 << 9) | (4 << 6) | (4 << 3) | 7
+    assert (
+        ina2xx.config_word("ina219", 128, 0, 3, True)
+        == 0x2000 | (3 << 11) | (0xF << 7) | (0xF << 3) | 7
+    )
+    assert ina2xx.result_ms("ina226", 16, 4) == 36  # 16 x (1100 + 1100) us = 35.2 ms
+    assert ina2xx.result_ms("ina219", 128, 0) == 137  # 2 x 68.1 ms
+    i2c = machine.I2C(0)
+    dev = machine.FakeIna2xx("ina226", bus_uv=12000000, shunt_nv=50000000)
+    i2c.devices[0x40] = dev
+    ina = ina2xx.Ina2xx(i2c, 0x40, "ina226", 16, 4)
+    assert dev.writes[-1] == (0, ina.config)
+    bus, shunt = ina2xx.InaBus(ina), ina2xx.InaShunt(ina)
+    assert bus.read_raw(4) == 9600 and bus.fault == 0  # 12 V / 1.25 mV
+    assert shunt.read_raw(4) == 20000 and shunt.fault == 0  # 50 mV / 2.5 uV
+    dev.shunt_nv = -1250000  # reverse current: a signed code
+    assert shunt.read_raw(1) == -500
+    dev.shunt_nv = 90000000  # beyond +-81.92 mV: saturated, flagged
+    assert shunt.read_raw(1) == 32767 and shunt.fault == ina2xx.FAULT_RANGE
+    dev.present = False
+    assert bus.read_raw(1) == 0 and bus.fault == ina2xx.FAULT_OPEN
+    dev.present = True
+    dev.writes = []
+    bus.run_start()
+    assert dev.writes == [(0, ina.config)]  # configured again at each run start
+
+    d219 = machine.FakeIna2xx("ina219", bus_uv=5000000, shunt_nv=25000000)
+    i2c.devices[0x41] = d219
+    i219 = ina2xx.Ina2xx(i2c, 0x41, "ina219", 8, 0, 1, False)  # +-80 mV, 16 V bus
+    assert ina2xx.InaBus(i219).read_raw(1) == 1250  # 5 V / 4 mV
+    assert ina2xx.InaShunt(i219).read_raw(1) == 2500  # 25 mV / 10 uV
+    d219.shunt_nv = 85000000
+    sh = ina2xx.InaShunt(i219)
+    assert sh.read_raw(1) == 8000 and sh.fault == ina2xx.FAULT_RANGE  # the 80 mV range's end
+
+    cfg = {
+        "board_id": "pw-1",
+        "interval_ms": 1000,
+        "board": "rp2040",
+        "channels": [EXAMPLE_CONFIG["channels"][0], POWER_CHANNEL],
+    }
+    assert config.validate(cfg, "rp2") == [], config.validate(cfg, "rp2")
+    assert config.logged_channels(cfg) == 3
+    tab = channels.table(cfg)
+    assert tab[1] == (lf.KIND_INA226, lf.MODE_BUS, 0x40, 3, 100000, "heater")
+    assert tab[2] == (lf.KIND_INA226, lf.MODE_SHUNT, 0x40, 3, 100000, "heater")
+    bad = dict(POWER_CHANNEL, shunt_ohm=0.2, averages=5, conversion_us=1000)
+    errs = config.validate(dict(cfg, channels=[bad]), "rp2")
+    assert any("averages must be one of" in e for e in errs), errs
+    assert any("conversion_us must be one of" in e for e in errs), errs
+    assert any("exceeds the ina226 shunt range" in e for e in errs), errs  # 0.8 A x 0.2 ohm
+    slow = dict(POWER_CHANNEL, averages=1024, conversion_us=8244)  # 16.9 s per result
+    errs = config.validate(dict(cfg, channels=[slow]), "rp2")
+    assert any("readings would repeat" in e for e in errs), errs
+    many = dict(cfg, channels=[POWER_CHANNEL] * 5)  # 10 logged channels
+    assert any("at most 8 in all" in e for e in config.validate(many, "rp2"))
+
+
 EXAMPLE_CONFIG = {
     "board_id": "bench-1",
     "interval_ms": 1000,
@@ -1015,6 +1092,7 @@ def check_clock_survives_ticks_wrap(vectors):
 
 
 CHECKS = [
+    check_ina_power_monitor,
     check_max31865_bias_only_during_conversion,
     check_max31865_fault_detection,
     check_clock_survives_ticks_wrap,

@@ -8,6 +8,7 @@ import pytest
 from click.testing import CliRunner
 
 from heatlog.cli import main
+from heatlog.sim import scenarios as sc
 from heatlog.sim.board import PtyServer, TcpServer, pty_available
 
 
@@ -151,9 +152,9 @@ def test_a_pulled_and_calibrated_csv_goes_straight_into_reduce(port, tmp_path):
     r = run("reduce", csv, "--json")
     assert r.exit_code == 0, r.output
     d = json.loads(r.output)
-    # run 1 of the demo scenario: 1500 J of heater into about 669 J/K (invented data), a rise
-    # of about 2.24 K; the first hour holds the whole event and its after-period
-    assert d["delta_t_K"] == pytest.approx(1500.0 / 669.4, rel=0.02)
+    # run 1 of the demo scenario: about 1467 J of heater into about 669 J/K (invented data), a
+    # rise of about 2.19 K; the first hour holds the whole event and its after-period
+    assert d["delta_t_K"] == pytest.approx(sc.HEATER.total_J / 669.4, rel=0.02)
 
 
 def test_sim_on_a_port_already_taken_is_one_line():

@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 from importlib import resources
 from pathlib import Path
+from typing import Any
 
 import click
 
@@ -22,6 +23,18 @@ CAUTION = (
 def _heat(d: dict) -> float:
     runs = d["simulator"]["runs"]
     return float(runs[-1]["total_heat_J"]) if runs else float("nan")
+
+
+def _heater_line(cal: Any, d: dict[str, Any]) -> list[str]:
+    he = cal.heater
+    if he is None:
+        return []
+    b = he.budget
+    return [
+        f"    heater energy ∫V·I dt = {b.value:.1f} J, U(k=2) = {b.expanded:.1f} J from the logged "
+        f"{he.monitor} (invented truth {d['true_heater_J']:.1f} J); its power changed by "
+        f"{100 * he.power_change_rel:+.1f} % while on"
+    ]
 
 
 @click.command("demo")
@@ -58,6 +71,7 @@ def demo(out: Path, link: str, as_json: bool) -> None:
     payload = result.to_dict()
     (out / "results.json").write_text(json.dumps(jsonable(payload), indent=2), encoding="utf-8")
     write_report(result.run, out / "report.html", probe_points=EXAMPLE_POINTS)
+    write_report(result.calibration, out / "calibration.html", probe_points=EXAMPLE_POINTS)
 
     def text() -> str:
         d = payload
@@ -73,6 +87,7 @@ def demo(out: Path, link: str, as_json: bool) -> None:
             f"{2 * cal.reduction.u_delta_t_K:.4f} K ({cal.reduction.method}); C_cal = "
             f"{cal.c_cal.value:.1f} J/K, U(k={cal.c_cal.k:g}) = {cal.c_cal.expanded:.1f} J/K "
             f"(invented truth {d['true_calorimeter_constant_J_per_K']:.1f} J/K)",
+            *_heater_line(cal, d),
             f"  dissolution run: ΔT = {run.reduction.delta_t_K:+.4f} K, U(k=2) = "
             f"{2 * run.reduction.u_delta_t_K:.4f} K "
             f"(naive peak reading {run.reduction.naive_delta_t_K:+.4f} K)",
@@ -89,7 +104,7 @@ def demo(out: Path, link: str, as_json: bool) -> None:
             )
         if run.hess_warning is not None:
             lines.append(f"  warning: {run.hess_warning}")
-        lines.append(f"  files, results.json and report.html in {out}")
+        lines.append(f"  files, results.json, report.html and calibration.html in {out}")
         lines.append(CAUTION)
         return "\n".join(lines)
 

@@ -166,6 +166,14 @@ def _report(
                 f"{ref['concentration']:.4g} {ref['concentration_unit']} "
                 f"({ref['conditions']}; {ref['source']})"
             )
+        he = payload.get("heater_energy")
+        if he:
+            lines.append(
+                f"Heater energy ∫V·I dt = {he['energy_J']:.5g} J, U(k=2) = {he['U_energy_J']:.2g} J "
+                f"from the logged {he['monitor']}: on at {he['t_on_s']:.1f} s, off at "
+                f"{he['t_off_s']:.1f} s (u = {he['u_t_on_s']:.2g} s, {he['u_t_off_s']:.2g} s, k=1); "
+                f"its power changed by {100 * he['power_change_rel']:+.2f} % while on"
+            )
         if flag is not None:
             lines.append(f"Note: {flag.message}; {flag.action}.")
         if caution:
@@ -183,12 +191,24 @@ def calibrate() -> None:
 def _electrical_missing(
     voltage, u_voltage, current, u_current, power, u_power, power_log, u_power_rel,
     seconds, t_on, t_off, u_seconds, delta_t, u_delta_t, reduce_json, solute, molality, cp, u_cp,
+    monitor_log=None, shunt_ohm=None, u_shunt_rel=None,
 ) -> list[str]:  # fmt: skip
     """Every input `calibrate electrical` still needs, so one error lists them all."""
     missing: list[str] = []
-    if voltage is None and power is None and power_log is None:
-        missing.append("the heater energy: --voltage and --current, or --power, or --power-log")
-    if power_log is not None:
+    if voltage is None and power is None and power_log is None and monitor_log is None:
+        missing.append(
+            "the heater energy: --voltage and --current, or --power, or --power-log, or --monitor-log"
+        )
+    if monitor_log is not None:
+        missing += [
+            f"{name} ({what})"
+            for name, value, what in (
+                ("--shunt-ohm", shunt_ohm, "the monitor's shunt resistor, ohm"),
+                ("--u-shunt-rel", u_shunt_rel, "relative standard uncertainty of the shunt"),
+            )
+            if value is None
+        ]
+    elif power_log is not None:
         if u_power_rel is None:
             missing.append("--u-power-rel (relative standard uncertainty of the logged power)")
     else:
@@ -241,6 +261,29 @@ def _electrical_missing(
     default=None,
     help="Relative standard uncertainty of the logged power's scale (e.g. 0.002).",
 )
+@click.option(
+    "--monitor-log",
+    type=click.Path(dir_okay=False, path_type=Path),
+    default=None,
+    help="CSV from `heatlog pull` holding a logged INA226/INA219: the energy is ∫V·I dt, "
+    "with the switching instants found from the current.",
+)
+@click.option(
+    "--monitor",
+    type=click.Choice(["ina226", "ina219"]),
+    default="ina226",
+    show_default=True,
+    help="The monitor that logged --monitor-log (its gain and offset errors enter the budget).",
+)
+@click.option("--bus-col", default="ch1_bus_V", show_default=True, help="Bus-voltage column.")
+@click.option("--shunt-col", default="ch2_shunt_V", show_default=True, help="Shunt-voltage column.")
+@click.option("--shunt-ohm", type=_number, default=None, help="The shunt resistor, ohm.")
+@click.option(
+    "--u-shunt-rel",
+    type=_number,
+    default=None,
+    help="Relative standard uncertainty of the shunt (tolerance/√3, or its calibration's u).",
+)
 @click.option("--seconds", type=_number, default=None, help="Heating time, s.")
 @click.option("--on", "t_on", type=_number, default=None, help="Heater switched on at, s.")
 @click.option("--off", "t_off", type=_number, default=None, help="Heater switched off at, s.")
@@ -253,24 +296,43 @@ def _electrical_missing(
 @json_option
 def electrical(
     voltage, u_voltage, current, u_current, power, u_power, power_log, u_power_rel,
-    seconds, t_on, t_off, u_seconds, delta_t, u_delta_t, reduce_json,
+    monitor_log, monitor, bus_col, shunt_col, shunt_ohm, u_shunt_rel, seconds, t_on, t_off,
+    u_seconds, delta_t, u_delta_t, reduce_json,
     water_g, u_water_g, temp_c, solute, molality, cp, u_cp, allow_negative, as_json,
 ) -> None:  # fmt: skip
-    """Electrical calibration: Q = V·I·t (or P·t, or ∫P dt), C_cal = Q/ΔT − m·c_p."""
+    """Electrical calibration: Q = V·I·t (or P·t, ∫P dt, or ∫V·I dt from a logged monitor),
+    C_cal = Q/ΔT − m·c_p."""
     from heatlog.energetics import electrical_calibration, electrical_energy, power_energy
     from heatlog.energetics.calorimeter import logged_energy
 
-    ways = sum(x is not None for x in (voltage, power, power_log))
+    ways = sum(x is not None for x in (voltage, power, power_log, monitor_log))
     if ways > 1:
-        raise InputError("give exactly one of --voltage/--current, --power or --power-log")
+        raise InputError(
+            "give exactly one of --voltage/--current, --power, --power-log or --monitor-log"
+        )
     missing = _electrical_missing(
         voltage, u_voltage, current, u_current, power, u_power, power_log, u_power_rel,
         seconds, t_on, t_off, u_seconds, delta_t, u_delta_t, reduce_json, solute, molality, cp,
-        u_cp,
+        u_cp, monitor_log, shunt_ohm, u_shunt_rel,
     )  # fmt: skip
     if missing:
         raise InputError("missing input(s), all at once: " + "; ".join(missing))
-    if power_log is not None:
+    extra: dict[str, Any] = {}
+    if monitor_log is not None:
+        from heatlog.csvtable import read_columns
+        from heatlog.energetics.heater_energy import heater_energy
+
+        cols = read_columns(
+            monitor_log, ["time_s", bus_col, shunt_col], min_rows=5, what="monitor log"
+        )
+        lookup = {k.lower(): v for k, v in cols.items()}
+        he = heater_energy(
+            lookup["time_s"], lookup[bus_col.lower()], lookup[shunt_col.lower()],
+            shunt_ohm=shunt_ohm, u_shunt_rel=u_shunt_rel, monitor=monitor,
+        )  # fmt: skip
+        energy = he.budget
+        extra["heater_energy"] = he.to_dict()
+    elif power_log is not None:
         from heatlog.csvtable import read_columns
 
         if u_power_rel is None:
@@ -307,7 +369,7 @@ def electrical(
         "Caution: heaters and their leads can burn or shock; keep the heater immersed while on "
         "and follow local electrical rules."
     )
-    _report(as_json, b, caution, {"energy_budget": energy.to_dict()}, allow_negative)
+    _report(as_json, b, caution, {"energy_budget": energy.to_dict(), **extra}, allow_negative)
 
 
 @calibrate.command("mixing")

@@ -20,6 +20,7 @@ import numpy as np
 from heatlog.device.archive import safe_name
 from heatlog.errors import HeatlogError
 from heatlog.logformat import Channel, RunLog, read_log
+from heatlog.monitorlog import power_channels
 from heatlog.probes import Chain, chain_from_spec, load_probe
 from heatlog.probes.probefile import ProbeFile
 
@@ -37,6 +38,7 @@ class ChannelTable:
     resistance: np.ndarray | None
     temp_C: np.ndarray | None
     meta: dict[str, Any]
+    volts: tuple[str, np.ndarray] | None = None  # a power monitor's channel: (column, V)
 
 
 def calibrate(
@@ -46,8 +48,19 @@ def calibrate(
     keep = log.fault_mask == 0
     t = log.offset_ms[keep] / 1000.0
     out = []
+    monitors = {}
+    for p in power_channels(log.header):
+        bus, shunt = p.volts(log.raw[keep])
+        monitors[p.bus_index] = ("bus_V", bus, p)
+        monitors[p.shunt_index] = ("shunt_V", shunt, p)
     for i, ch in enumerate(log.header.channels):
         raw = log.raw[keep, i]
+        if i in monitors:
+            what, volts, p = monitors[i]
+            meta_p: dict[str, Any] = {"index": i, "kind": ch.kind, "probe_id": ch.probe_id}
+            meta_p.update(power_monitor=p.to_dict(), quantity=what)
+            out.append(ChannelTable(f"ch{i}", raw, None, None, meta_p, (f"ch{i}_{what}", volts)))
+            continue
         chain, spec = chain_for(ch, log.header.oversample)
         meta: dict[str, Any] = {
             "index": i,
@@ -95,6 +108,8 @@ def export_run(path: Path, probe_dir: Path | None = None, *, note: str = "") -> 
             cols.append((f"{c.name}_resistance_ohm", c.resistance, "%.4f"))
         if c.temp_C is not None:
             cols.append((f"{c.name}_temp_C", c.temp_C, "%.5f"))
+        if c.volts is not None:
+            cols.append((c.volts[0], c.volts[1], "%.7g"))
     first = next((c for c in chans if c.temp_C is not None), None)
     if first is not None:
         cols.append(("temp_C", first.temp_C, "%.5f"))  # type: ignore[arg-type]
@@ -123,6 +138,14 @@ def export_run(path: Path, probe_dir: Path | None = None, *, note: str = "") -> 
         "damage": log.damage().to_dict() | {"summary": log.damage().describe()},
         "channels": [c.meta for c in chans],
         "temp_C_column": first.name if first is not None else None,
+        "power_monitors": [
+            dict(
+                p.to_dict(),
+                bus_col=f"ch{p.bus_index}_bus_V",
+                shunt_col=f"ch{p.shunt_index}_shunt_V",
+            )
+            for p in power_channels(h)
+        ],
     }
     js = path.with_suffix(".json")
     js.write_text(json.dumps(meta, indent=2), encoding="utf-8")

@@ -15,7 +15,15 @@ import numpy as np
 from heatlog.device.commands import BadReply
 from heatlog.device.export import chain_for, load_probes
 from heatlog.errors import HeatlogError
-from heatlog.logformat import KIND_NAMES, MODE_NTC_HIGH, MODE_UV_RATIO, Channel, decode_record
+from heatlog.logformat import (
+    KIND_NAMES,
+    MODE_NTC_HIGH,
+    MODE_UV_RATIO,
+    POWER_KIND_CODES,
+    Channel,
+    decode_record,
+)
+from heatlog.monitorlog import BUS_LSB_V, SHUNT_LSB_V
 
 _KIND_CODES = {v: k for k, v in KIND_NAMES.items()}
 
@@ -29,6 +37,13 @@ def channels_from_config(cfg: dict[str, Any]) -> tuple[list[Channel], int]:
         if not isinstance(ch, dict) or ch.get("kind") not in _KIND_CODES:
             raise BadReply("get config: unknown channel kind")
         code = _KIND_CODES[ch["kind"]]
+        if code in POWER_KIND_CODES:  # a heater monitor logs two channels: bus, then shunt
+            shunt = ch.get("shunt_ohm")
+            if isinstance(shunt, bool) or not isinstance(shunt, int | float) or not shunt > 0:
+                raise BadReply("get config: power monitor without a positive shunt_ohm")
+            pid = str(ch.get("probe_id", ""))[:16]
+            out += [Channel(ch["kind"], code, m, 0, 0, float(shunt), pid) for m in (0, 1)]
+            continue
         ref = ch.get("r_ref_ohm" if code == 3 else "r_fixed_ohm")
         if isinstance(ref, bool) or not isinstance(ref, int | float) or not ref > 0:
             raise BadReply("get config: channel without a positive resistor value")
@@ -64,7 +79,7 @@ class LiveDecoder:
         seq, offset, flags, faults, raw = decode_record(payload, len(self.channels))
         temps: list[float | None] = []
         for c, v in zip(self.channels, raw, strict=True):
-            probe = self.probes.get(c.probe_id)
+            probe = None if c.is_power else self.probes.get(c.probe_id)
             t = None
             if probe is not None:
                 chain, _ = chain_for(c, self.oversample)
@@ -87,5 +102,12 @@ class LiveDecoder:
     def line(self, r: dict[str, Any]) -> str:
         parts = []
         for c, v, t in zip(self.channels, r["raw"], r["temp_C"], strict=True):
+            if c.is_power:
+                if c.mode == 0:
+                    parts.append(f"{c.probe_id}: {v * BUS_LSB_V[c.kind_code]:.3f} V")
+                else:
+                    amps = v * SHUNT_LSB_V[c.kind_code] / c.ref_ohm
+                    parts.append(f"{c.probe_id}: {amps:.4f} A")
+                continue
             parts.append(f"{c.probe_id}: {v}" + ("" if t is None else f" = {t:.3f} °C"))
         return f"{r['offset_s']:10.1f} s  " + "  ".join(parts)

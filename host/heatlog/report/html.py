@@ -361,9 +361,10 @@ def _budgets(inputs: ReportInputs) -> list[Budget]:
     if red is not None:
         out.append(red.budget)
     if run is not None:
+        heater = run.heater.budget if run.heater is not None else None
         out += [
             b
-            for b in (run.c_cal, run.heat_J, run.molar, run.specific, run.predicted)
+            for b in (heater, run.c_cal, run.heat_J, run.molar, run.specific, run.predicted)
             if b is not None
         ]
     if inputs.profile is not None:
@@ -454,6 +455,20 @@ def make_figures(inputs: ReportInputs, progress: Progress | None = None) -> list
                 "residuals",
                 "Residuals of the drift fits; dotted lines at ±2σ of each period's readings.",
                 plots.figure_png_base64(plots.residuals_figure(red)),
+            )
+        )
+    run = inputs.run
+    logged = run.spec.electrical.logged if run and run.spec.electrical else None
+    th = inputs.thermogram
+    if run is not None and run.heater is not None and logged is not None and th is not None:
+        say("plotting the logged heater power")
+        power = th.channels[logged.bus_col] * th.channels[logged.shunt_col] / logged.shunt_ohm
+        figs.append(
+            Figure(
+                "heater",
+                "Readings (top) and the heater power logged by the current/voltage monitor "
+                "(bottom); shaded: the switching instants found from the current, ±2u (k = 2).",
+                plots.figure_png_base64(plots.heater_power_figure(th, power, run.heater)),
             )
         )
     if inputs.run is not None and inputs.run.hess is not None:

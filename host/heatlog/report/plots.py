@@ -20,6 +20,7 @@ import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 
+from heatlog.energetics.heater_energy import HeaterEnergy
 from heatlog.energetics.hess import Comparison
 from heatlog.probes.fitting import CalibrationFit
 from heatlog.profile import ProfileResult, downsample_extrema
@@ -109,6 +110,32 @@ def thermogram_figure(thermogram: Thermogram, reduction: Reduction, title: str =
     ax.set_title(title or "Thermogram and drift correction")
     ax.legend(fontsize="small", loc="best")
     ax.grid(alpha=0.3)
+    return fig
+
+
+def heater_power_figure(
+    thermogram: Thermogram,
+    power_W: np.ndarray,
+    heater: HeaterEnergy,
+    title: str = "",
+) -> Figure:
+    """The readings above, the heater power logged by the monitor below (same time axis), with
+    the switching instants found from the current and their uncertainty."""
+    t = thermogram.time_s
+    fig, (ax1, ax2) = _figure(rows=2, height=5.6)
+    tt, yy = _thin(t, thermogram.temp_C)
+    ax1.plot(tt, yy, ".", ms=2.0, color=READINGS, label="readings")
+    tp, pp = _thin(t, power_W)
+    ax2.plot(tp, pp, "-", lw=1.0, color=AFTER, label="heater power V·I (logged)")
+    for ax in (ax1, ax2):
+        for x, u in ((heater.t_on_s, heater.u_t_on_s), (heater.t_off_s, heater.u_t_off_s)):
+            ax.axvspan(x - 2 * u, x + 2 * u, color=EVENT, alpha=0.25, lw=0)
+            ax.axvline(x, color=EVENT, lw=0.8)
+    b = heater.budget
+    ax2.plot([], [], " ", label=f"∫V·I dt = {b.value:.5g} J, U(k=2) = {b.expanded:.2g} J")
+    ax2.plot([], [], " ", label=f"power changed {100 * heater.power_change_rel:+.2f} % while on")
+    _finish(ax1, None, "temperature / °C", title or "Thermogram and logged heater power")
+    _finish(ax2, "time / s", "power / W")
     return fig
 
 

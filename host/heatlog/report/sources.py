@@ -71,7 +71,19 @@ def _spec_rows(spec: RunSpec) -> list[tuple[str, str]]:
             rows.append(
                 ("heater current", f"{e.current_A.value:g} A, u = {e.current_A.u:g} A (k = 1)")
             )
-        rows.append(("heater time", f"{e.seconds.value:g} s, u = {e.seconds.u:g} s (k = 1)"))
+        if e.seconds is not None:
+            rows.append(("heater time", f"{e.seconds.value:g} s, u = {e.seconds.u:g} s (k = 1)"))
+        if e.logged is not None:
+            g = e.logged
+            rows.append(
+                (
+                    "heater energy",
+                    f"∫V·I dt from the logged {g.monitor.upper()} ({g.bus_col}, {g.shunt_col})",
+                )
+            )
+            rows.append(
+                ("heater shunt", f"{g.shunt_ohm:g} ohm, u = {100 * g.u_shunt_rel:.3g} % (k = 1)")
+            )
     s = spec.sample
     if s is not None:
         rows.append(("sample", f"{s.name}: {s.mass_g.value:g} g, u = {s.mass_g.u:g} g (k = 1)"))

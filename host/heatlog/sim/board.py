@@ -29,8 +29,10 @@ import numpy as np
 
 from heatlog.sim.fakemachine import PWRON_RESET, WDT_RESET, FakeMachine
 from heatlog.sim.firmware import load_firmware
-from heatlog.sim.scenarios import PROBE_TRUTH, R_FIXED_OHM, Scenario
-from heatlog.sim.thermal import ThermalModel, Vessel
+from heatlog.sim.monitor import ADDRESS as MONITOR_ADDRESS
+from heatlog.sim.monitor import SimIna226
+from heatlog.sim.scenarios import PROBE_TRUTH, R_FIXED_OHM, SHUNT_OHM, Scenario
+from heatlog.sim.thermal import SuppliedHeater, ThermalModel, Vessel
 
 _TABLE_T0, _TABLE_STEP = -20.0, 0.001
 _LN_R_TABLE: list[float] = np.log(
@@ -92,6 +94,9 @@ class VirtualBoard:
         self.runs: list[dict[str, Any]] = []
         self.resets = 0
         self._ratio_at = (-1, 0.5)
+        if scenario.power_monitor:
+            self.monitor = SimIna226(self._heater_state, SHUNT_OHM, self.rng)
+            self.machine.i2c_devices[MONITOR_ADDRESS] = self.monitor
         self._start_firmware(PWRON_RESET)
 
     # -- firmware lifecycle ----------------------------------------------------------------
@@ -173,10 +178,23 @@ class VirtualBoard:
         self.current_run = run
         self.runs.append({"run": run, "experiment": exp, "model": self.model})
 
-    def _adc_code(self, pin: object) -> int:
+    def _begin_if_new_run(self) -> None:
         store = self.logger.store
         if store.active and store.run_no != self.current_run:
             self._begin_experiment(store.run_no)
+
+    def _heater_state(self) -> tuple[float, float]:
+        """(volts across the heater, amps through it) now: what the monitor measures."""
+        self._begin_if_new_run()
+        self.model.advance((self.now_ms - self.model_start_ms) / 1000.0)
+        t = self.model.t
+        for s in self.model.sources:
+            if isinstance(s, SuppliedHeater):
+                return s.voltage_V(t), s.current_A(t)
+        return 0.0, 0.0
+
+    def _adc_code(self, pin: object) -> int:
+        self._begin_if_new_run()
         if self._ratio_at[0] != self.now_ms:  # every read of one sample sees the same moment
             self.model.advance((self.now_ms - self.model_start_ms) / 1000.0)
             r = self._resistance(self.model.probe_C)

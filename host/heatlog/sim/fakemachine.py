@@ -12,6 +12,7 @@ from __future__ import annotations
 import calendar
 import time
 from collections.abc import Callable
+from typing import Any
 
 PWRON_RESET = 1
 WDT_RESET = 3
@@ -52,6 +53,27 @@ class _Adc:
     def read_u16(self) -> int:
         code = self.machine.adc_code(self.pin) & 0xFFF
         return (code << 4) | (code >> 8)  # rp2: the 12-bit code stretched to 16 bits
+
+
+class _I2c:
+    """An I2C bus whose devices the simulator supplies (address → object with read/write)."""
+
+    def __init__(self, machine: FakeMachine, *args: object, **kwargs: object):
+        self.machine = machine
+
+    def _device(self, addr: int) -> Any:
+        dev = self.machine.i2c_devices.get(addr)
+        if dev is None:
+            raise OSError(19, "no device at this address")  # ENODEV, as a bus without an ACK
+        return dev
+
+    def writeto_mem(self, addr: int, reg: int, buf: Any) -> None:
+        self._device(addr).write(reg, bytes(buf))
+
+    def readfrom_mem_into(self, addr: int, reg: int, buf: Any) -> None:
+        data = self._device(addr).read(reg, len(buf))
+        for i in range(len(buf)):
+            buf[i] = data[i]
 
 
 class _Rtc:
@@ -103,11 +125,15 @@ class FakeMachine:
         self.rtc_set_ms = 0
         self.cause = PWRON_RESET
         self.wdt_feeds = 0
+        self.i2c_devices: dict[int, Any] = {}
         # instance attributes shadow the class names the firmware calls
         self.ADC = self._adc  # type: ignore[misc,assignment]
 
     def _adc(self, pin: Pin, atten: int | None = None) -> _Adc:  # type: ignore[valid-type]
         return _Adc(self, pin)
+
+    def I2C(self, *args: object, **kwargs: object) -> _I2c:  # noqa: N802
+        return _I2c(self, *args, **kwargs)
 
     def RTC(self) -> _Rtc:  # noqa: N802 - the machine API's name
         return _Rtc(self)

@@ -14,7 +14,7 @@ from typing import Any
 
 from heatlog.energetics.water import water_cp
 from heatlog.probes.thermistor import SteinhartHart4
-from heatlog.sim.thermal import Heater, Hydration, Reaction, Source, Vessel
+from heatlog.sim.thermal import Hydration, Reaction, Source, SuppliedHeater, Vessel
 
 # The invented probe every scenario uses: the widely quoted 10 kΩ Steinhart–Hart set (from
 # memory) with an invented D term, A re-solved so R(25 °C) = 10 kΩ. The bundled
@@ -46,10 +46,11 @@ class Scenario:
     oversample: int
     experiments: tuple[Experiment, ...]
     caution: str = ""
+    power_monitor: bool = False  # an INA226 on the heater (sim.monitor), logged beside the probe
 
     def config(self, board_id: str = "sim-1") -> dict[str, Any]:
         """The firmware config.json the virtual board boots with."""
-        return {
+        cfg = {
             "board_id": board_id,
             "interval_ms": self.interval_ms,
             "oversample": self.oversample,
@@ -71,6 +72,9 @@ class Scenario:
                 }
             ],
         }
+        if self.power_monitor:
+            cfg["channels"].append(dict(MONITOR_CHANNEL))  # type: ignore[attr-defined]
+        return cfg
 
 
 # -- the cup used by the calibration and the pack runs (invented) ---------------------------------
@@ -79,7 +83,25 @@ WATER_G = 150.0
 ROOM_C = 22.5
 K_PER_S = 4e-4  # exchange rate constant of the lidded cup
 STIR_W = 0.01  # heat from the magnetic stirrer
-HEATER_W, HEATER_S = 5.0, 300.0
+HEATER_W, HEATER_S = 5.0, 300.0  # nominal: the heater's power at switch-on is close to 5 W
+SHUNT_OHM = 0.1
+# The calibration heater (invented): 10 ohm with a 300 ppm/K resistor warming by 40 K, on a
+# 7.5 V supply with 0.5 ohm inside that runs down by 1.5 % over the heating; its power falls
+# by about 4 % while it is on, as a real heater's can.
+HEATER = SuppliedHeater(
+    600.0, HEATER_S, supply_V=7.5, internal_ohm=0.5, shunt_ohm=SHUNT_OHM, r_ohm=10.0,
+    tcr_per_K=300e-6, warm_K=40.0, warm_tau_s=60.0, rundown_per_s=5e-5,
+)  # fmt: skip
+MONITOR_CHANNEL = {
+    "kind": "ina226",
+    "probe_id": "heater",
+    "address": 0x40,
+    "i2c": {"id": 0, "sda": 4, "scl": 5},
+    "shunt_ohm": SHUNT_OHM,
+    "averages": 16,
+    "conversion_us": 1100,
+    "max_current_A": 0.8,
+}
 NH4NO3_G, NH4NO3_CP, NH4NO3_M = 8.0, 1.74, 80.043  # cp from memory; M from atomic weights
 NH4NO3_DH_KJ = 25.9  # invented dissolution enthalpy used by the scenario (absorbs heat)
 CACL2_G, CACL2_CP, CACL2_M = 10.0, 0.67, 110.98
@@ -123,14 +145,16 @@ def tris_calibration(temp_C: float) -> Experiment:
 def electrical_calibration() -> Experiment:
     return Experiment(
         "calibration",
-        "Electrical calibration of the cup: 5 W for 300 s (invented data)",
+        "Electrical calibration of the cup: about 5 W for 300 s (invented data)",
         _cup(0.0, 21.0),
-        (Heater(600.0, HEATER_S, HEATER_W),),
+        (HEATER,),
         2400.0,
         {
             "water_g": WATER_G,
             "heater_W": HEATER_W,
             "heater_s": HEATER_S,
+            "heater_J": HEATER.total_J,
+            "shunt_ohm": SHUNT_OHM,
             "cup_J_per_K": CUP_C_J_PER_K,
         },
     )
@@ -194,9 +218,9 @@ SCENARIOS: dict[str, Scenario] = {
     s.name: s
     for s in (
         Scenario("demo", "electrical calibration, then NH4NO3 dissolution (cold pack)", 2000, 64,
-                 (electrical_calibration(), endothermic_pack()), _CUP_CAUTION),
+                 (electrical_calibration(), endothermic_pack()), _CUP_CAUTION, power_monitor=True),
         Scenario("calibration", "electrical calibration of the cup", 2000, 64,
-                 (electrical_calibration(),), _CUP_CAUTION),
+                 (electrical_calibration(),), _CUP_CAUTION, power_monitor=True),
         Scenario("endothermic", "NH4NO3 dissolution (cold-pack formulation)", 2000, 64,
                  (endothermic_pack(),), _CUP_CAUTION),
         Scenario("exothermic", "CaCl2 dissolution (hot-pack formulation)", 2000, 64,

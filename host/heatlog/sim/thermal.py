@@ -85,7 +85,59 @@ class Hydration:
         return self.heat_J
 
 
-Source = Heater | Reaction | Hydration
+@dataclass(frozen=True)
+class SuppliedHeater:
+    """A heater on a real supply (invented model): a shunt in series, the supply's open-circuit
+    voltage running down linearly and sagging under load through its internal resistance, and
+    the heater's resistance rising as it warms, R = R₀·(1 + α·ΔT_h) with ΔT_h relaxing to
+    ``warm_K`` with time constant ``warm_tau_s``. Its power drifts, as a real one's does."""
+
+    start_s: float
+    duration_s: float
+    supply_V: float
+    internal_ohm: float
+    shunt_ohm: float
+    r_ohm: float
+    tcr_per_K: float
+    warm_K: float
+    warm_tau_s: float
+    rundown_per_s: float
+
+    def _on(self, t: float) -> bool:
+        return self.start_s <= t < self.start_s + self.duration_s
+
+    def resistance_ohm(self, t: float) -> float:
+        warm = self.warm_K * -math.expm1(-max(t - self.start_s, 0.0) / self.warm_tau_s)
+        return self.r_ohm * (1.0 + self.tcr_per_K * warm)
+
+    def current_A(self, t: float) -> float:
+        if not self._on(t):
+            return 0.0
+        v_oc = self.supply_V * (1.0 - self.rundown_per_s * (t - self.start_s))
+        return v_oc / (self.internal_ohm + self.shunt_ohm + self.resistance_ohm(t))
+
+    def voltage_V(self, t: float) -> float:
+        """Across the heater's own terminals (where the monitor's bus input senses)."""
+        return self.current_A(t) * self.resistance_ohm(t)
+
+    def power(self, t: float) -> float:
+        i = self.current_A(t)
+        return i * i * self.resistance_ohm(t)
+
+    def energy(self, t: float) -> float:
+        from scipy import integrate
+
+        end = min(t, self.start_s + self.duration_s)
+        if end <= self.start_s:
+            return 0.0
+        return float(integrate.quad(self.power, self.start_s, end, limit=200, epsabs=1e-9)[0])
+
+    @property
+    def total_J(self) -> float:
+        return self.energy(self.start_s + self.duration_s)
+
+
+Source = Heater | SuppliedHeater | Reaction | Hydration
 
 
 @dataclass(frozen=True)
@@ -114,7 +166,7 @@ class ThermalModel:
         scales = [vessel.probe_lag_s / 4 if vessel.probe_lag_s > 0 else 1.0, 1.0]
         for s in sources:
             scales.append(s.tau_s / 20 if isinstance(s, Reaction) else 1.0)
-            if isinstance(s, Heater):
+            if isinstance(s, Heater | SuppliedHeater):
                 scales.append(max(s.duration_s / 50, 0.05))
         self.max_step_s = max(min(scales), 0.01)
 

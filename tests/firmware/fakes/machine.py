@@ -111,6 +111,49 @@ class FakeAds1115:
         return bytes([(v >> 8) & 0xFF, v & 0xFF])
 
 
+class FakeIna2xx:
+    """Register model of an INA226 (kind "ina226") or INA219: bus and shunt volts in, codes out
+    (TI datasheets SBOS547 / SBOS448, from memory: INA226 2.5 uV and 1.25 mV per code;
+    INA219 10 uV per code, bus in bits 15..3 at 4 mV, bit 0 = overflow)."""
+
+    def __init__(self, kind="ina226", bus_uv=12000000, shunt_nv=50000000):
+        self.kind = kind
+        self.bus_uv = bus_uv
+        self.shunt_nv = shunt_nv  # nanovolts across the shunt (signed)
+        self.config = 0x4127 if kind == "ina226" else 0x399F
+        self.writes = []
+        self.present = True
+
+    def write(self, reg, data):
+        if not self.present:
+            raise OSError(5)
+        v = (data[0] << 8) | data[1]
+        self.writes.append((reg, v))
+        if reg == 0:
+            self.config = v
+
+    def read(self, reg, n):
+        if not self.present:
+            raise OSError(5)
+        if reg == 0:
+            v = self.config
+        elif reg == 1:
+            lsb_nv = 2500 if self.kind == "ina226" else 10000
+            mag = (abs(self.shunt_nv) + lsb_nv // 2) // lsb_nv  # rounded half away from zero
+            code = mag if self.shunt_nv >= 0 else -mag
+            if self.kind == "ina226":
+                full = 32767
+            else:
+                full = (40, 80, 160, 320)[(self.config >> 11) & 3] * 100
+            v = max(-full - (1 if self.kind == "ina226" else 0), min(full, int(code))) & 0xFFFF
+        else:
+            if self.kind == "ina226":
+                v = min(0x7FFF, (self.bus_uv + 625) // 1250)
+            else:
+                v = (min(8000, (self.bus_uv + 2000) // 4000) << 3) | 0x2  # CNVR set
+        return bytes([(v >> 8) & 0xFF, v & 0xFF])
+
+
 class SPI:
     def __init__(self, id=0, baudrate=1000000, polarity=0, phase=0, sck=None, mosi=None, miso=None):
         self.device = None
