@@ -88,7 +88,7 @@ def _log_runs(
                 if time.monotonic() > deadline:
                     raise LinkError("the simulator fell behind; is the machine very busy?")
                 time.sleep(0.05)
-            board.stop_run()
+            board.stop_run(run)
         return pull(board, archive)
 
 

@@ -273,3 +273,26 @@ def test_board_text_with_terminal_escapes_is_shown_harmless():
 
     info = Board(Link(Scripted(respond))).identify()
     assert info.board_id == "b?[2J1" and info.firmware == "0.1?"
+
+
+def test_a_stop_whose_reply_was_lost_still_reports_the_run():
+    # The board stops run 7 but its reply is lost; the retry finds no run active (error code 4)
+    # and the run list shows 7 stopped: the stop succeeded, not "check heatlog status".
+    state = {"stopped": False, "stops": 0}
+
+    def respond(f):
+        if f.type == fr.STOP_RUN:
+            state["stops"] += 1
+            if not state["stopped"]:
+                state["stopped"] = True
+                return b""  # the reply is lost
+            return fr.encode(fr.ERROR, f.request_id, b"\x04no active run")
+        if f.type == fr.LIST_RUNS:
+            payload = json.dumps({"runs": [[6, 100], [7, 200]], "active": None}).encode()
+            return fr.encode(fr.LIST_RUNS | 0x80, f.request_id, payload)
+        raise AssertionError(f.type)
+
+    board = Board(Link(Scripted(respond), timeout=0.2, retries=2))
+    assert board.stop_run(7) == 7 and state["stops"] == 2
+    state.update(stopped=False, stops=0)
+    assert board.stop_run() == 7  # the newest run on the board

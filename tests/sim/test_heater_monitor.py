@@ -122,7 +122,11 @@ def test_calibrate_electrical_takes_the_energy_from_the_monitor_log(calibration_
     # every missing input named at once, one line, non-zero exit
     bad = runner.invoke(main, args)
     assert bad.exit_code != 0
-    assert "--shunt-ohm" in bad.output and "--u-shunt-rel" in bad.output and "Traceback" not in bad.output
+    assert (
+        "--shunt-ohm" in bad.output
+        and "--u-shunt-rel" in bad.output
+        and "Traceback" not in bad.output
+    )
     wrong = runner.invoke(main, [*args, "--shunt-ohm", "0.1", "--u-shunt-rel", "0.001",
                                  "--bus-col", "volts"])  # fmt: skip
     assert wrong.exit_code != 0 and "volts" in wrong.output

@@ -181,16 +181,22 @@ class Board:
             raise
         return int(run)
 
-    def stop_run(self) -> int:
+    def stop_run(self, run: int | None = None) -> int:
+        """Stop the active run; returns its number. ``run``: the run the caller started, so a
+        stop whose reply was lost (the retry finds no run active) still knows what it stopped."""
         try:
-            (run,) = _unpack("<I", self.link.request(fr.STOP_RUN), "stop run")
+            (stopped,) = _unpack("<I", self.link.request(fr.STOP_RUN), "stop run")
         except BoardError as exc:
             if exc.code == 4 and self.link.last_attempts > 1:
+                # a retried stop whose first try got through: no run is active now
+                runs, active = self.list_runs()
+                if active is None and runs:
+                    return run if run is not None else max(r.run for r in runs)
                 raise LinkError(
                     "the run was stopped, but its reply was lost; check `heatlog status`"
                 ) from None
             raise
-        return int(run)
+        return int(stopped)
 
     def erase_run(self, run: int, size: int, crc: int) -> None:
         try:
