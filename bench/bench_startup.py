@@ -19,12 +19,10 @@ import tempfile
 import time
 from pathlib import Path
 
-import numpy as np
-
 HOST = Path(__file__).resolve().parents[1] / "host"
 sys.path.insert(0, str(HOST))
 
-from heatlog.reduce.synthetic import Release, synthetic_run  # noqa: E402
+from bench_reduce import write_run  # noqa: E402  (the same invented run file)
 
 
 def _env() -> dict[str, str]:
@@ -60,22 +58,6 @@ def interleaved_best(commands: list[list[str]], repeats: int) -> list[float]:
             best[i] = min(best[i], time.perf_counter() - start)
             CPU[i] = min(CPU.get(i, float("inf")), _child_cpu_s() - cpu0)
     return best
-
-
-def write_run(path: Path, rows: int) -> None:
-    dt = 0.05
-    duration = (rows - 1) * dt
-    run = synthetic_run(
-        releases=(Release(duration * 0.3, 4.0, 30.0),),
-        duration_s=duration,
-        dt_s=dt,
-        k_per_s=3e-4,
-        probe_lag_s=3.0,
-        noise_K=0.01,
-        seed=1,
-    )
-    data = np.column_stack([run.thermogram.time_s, run.thermogram.temp_C])
-    np.savetxt(path, data, delimiter=",", fmt="%.6f", header="time_s,temp_C", comments="")
 
 
 def main() -> None:
