@@ -52,9 +52,12 @@ def heatlog(*args: str, ok: bool = True) -> None:
 
 def command_paths(cmd: click.Command = main, path: tuple[str, ...] = ()) -> list[tuple[str, ...]]:
     out = [path]
-    if isinstance(cmd, click.Group):
-        for name, sub in cmd.commands.items():
-            out += command_paths(sub, (*path, name))
+    if isinstance(cmd, click.Group):  # list_commands/get_command: the lazy group loads them
+        ctx = click.Context(cmd)
+        for name in cmd.list_commands(ctx):
+            sub = cmd.get_command(ctx, name)
+            if sub is not None:
+                out += command_paths(sub, (*path, name))
     return out
 
 

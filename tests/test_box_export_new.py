@@ -193,10 +193,15 @@ def test_new_templates_filled_in_evaluate_on_the_demo(demo, tmp_path):
             text = re.sub(rf"(?m)^{key} = [^#\n]*", f"{key} = {value} ", text)
         (tmp_path / f"{kind}.toml").write_text(text, encoding="utf-8")
 
-    e = cal_demo.electrical
-    fill("calibration", cal_demo.log.file.as_posix(), {
-        "mass_g": cal_demo.contents[0].mass_g.value, "power_W": e.power_W.value,
-        "seconds": e.seconds.value})  # fmt: skip
+    g = cal_demo.electrical.logged  # the demo's heater energy comes from its logged monitor
+    fill("calibration", cal_demo.log.file.as_posix(), {"mass_g": cal_demo.contents[0].mass_g.value})
+    text = (tmp_path / "calibration.toml").read_text(encoding="utf-8")
+    text = re.sub(r"(?m)^(u_)?(power_W|seconds) = .*\n", "", text)  # as the template says
+    for key, value in (("monitor", f'"{g.monitor}"'), ("bus_col", f'"{g.bus_col}"'),
+                       ("shunt_col", f'"{g.shunt_col}"'), ("shunt_ohm", g.shunt_ohm),
+                       ("u_shunt_rel", g.u_shunt_rel)):  # fmt: skip
+        text = re.sub(rf"(?m)^# {key} = [^#\n]*", f"{key} = {value} ", text)
+    (tmp_path / "calibration.toml").write_text(text, encoding="utf-8")
     cal = run("reduce", tmp_path / "calibration.toml", "--json")
     assert cal.exit_code == 0, cal.output
     assert json.loads(cal.output)["calorimeter_constant"]["value_J_per_K"] == pytest.approx(

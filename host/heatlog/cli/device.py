@@ -303,7 +303,7 @@ def uncalibrated_notices(channels: list[dict[str, Any]], probes: Path | None) ->
     """One line per channel whose readings are shown raw (no probe file for its probe id)."""
     notices = []
     for i, ch in enumerate(channels):
-        if ch["calibrated"]:
+        if ch["calibrated"] or ch.get("power_monitor"):
             continue
         pid = ch["probe_id"] or "(none)"
         if probes is None:

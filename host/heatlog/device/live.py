@@ -71,7 +71,12 @@ class LiveDecoder:
 
     def channels_meta(self) -> list[dict[str, Any]]:
         return [
-            {"probe_id": c.probe_id, "kind": c.kind, "calibrated": c.probe_id in self.probes}
+            {
+                "probe_id": c.probe_id,
+                "kind": c.kind,
+                "calibrated": c.probe_id in self.probes,
+                "power_monitor": c.is_power,  # volts and amps, not a probe: no probe file
+            }
             for c in self.channels
         ]
 

@@ -76,8 +76,14 @@ class Repl:
     """The raw REPL of the board on ``port`` (a path or pyserial URL)."""
 
     def __init__(self, port: str, baudrate: int = 115200):
-        from mpremote.transport import TransportError
-        from mpremote.transport_serial import SerialTransport
+        try:
+            from mpremote.transport import TransportError
+            from mpremote.transport_serial import SerialTransport
+        except ImportError as exc:  # mpremote's console needs termios (POSIX) or msvcrt (Windows)
+            raise ReplError(
+                f"the board's REPL cannot be reached from this Python ({exc}); "
+                "run `heatlog board install` from a normal terminal session"
+            ) from None
 
         self._errors: tuple[type[BaseException], ...] = (TransportError, OSError)
         try:
