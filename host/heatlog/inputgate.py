@@ -458,6 +458,39 @@ def _temperature(
     return y
 
 
+def gate_table(
+    table: Any,
+    time_col: str,
+    temp_col: str,
+    channels: Sequence[str] = (),
+    *,
+    flags_col: str | None = None,
+    raw: bool = False,
+    **options: Any,
+) -> Gated:
+    """:func:`gate_series` on the columns of a :class:`heatlog.csvtable.Table` (the one mapping
+    every CSV reader uses): the header's units, file line numbers and reading notes passed on.
+    ``raw``: the reading column is raw counts, so a unit in its header is not a temperature's.
+    Further ``options`` (``where``, ``kind``, ``temperature_channels``, ``run_kind``) go through."""
+    lookup = {k.lower(): v for k, v in table.columns.items()}
+    units = {k.lower(): v for k, v in table.units.items()}
+    return gate_series(
+        lookup[time_col.lower()],
+        lookup[temp_col.lower()],
+        time_name=time_col,
+        temp_name=temp_col,
+        time_unit=units.get(time_col.lower(), ""),
+        temp_unit="" if raw else units.get(temp_col.lower(), ""),
+        lines=table.line_numbers,
+        channels={c: lookup[c.lower()] for c in channels},
+        channel_units={c: units.get(c.lower(), "") for c in channels},
+        flags=None if flags_col is None else lookup[flags_col.lower()],
+        raw=raw,
+        notes=table.notes,
+        **options,
+    )
+
+
 def gate_series(
     time_s: np.ndarray,
     temp: np.ndarray,

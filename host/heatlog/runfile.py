@@ -83,7 +83,7 @@ from heatlog.inputgate import (
     check_constant,
     check_profile_settings,
     findings_of,
-    gate_series,
+    gate_table,
 )
 from heatlog.probes import ProbeFile, chain_from_spec, load_probe
 from heatlog.profile import ProfileResult, ProfileSettings, analyse_profile, settings_from_table
@@ -375,23 +375,15 @@ def read_log_arrays(
     table = read_table(
         log.file, [log.time_col, temp_col, *extra], what="log", clock_col=log.time_col
     )
-    lookup = {k.lower(): v for k, v in table.columns.items()}
-    units = {k.lower(): v for k, v in table.units.items()}
-    gated = gate_series(
-        lookup[log.time_col.lower()],
-        lookup[temp_col.lower()],
+    gated = gate_table(
+        table,
+        log.time_col,
+        temp_col,
+        extra,
+        raw=log.raw_col is not None,
         where=str(log.file),
         kind=kind,
-        time_name=log.time_col,
-        temp_name=temp_col,
-        time_unit=units.get(log.time_col.lower(), ""),
-        temp_unit="" if log.raw_col is not None else units.get(temp_col.lower(), ""),
-        lines=table.line_numbers,
-        channels={c: lookup[c.lower()] for c in extra},
-        channel_units={c: units.get(c.lower(), "") for c in extra},
         temperature_channels=temperature_channels,
-        raw=log.raw_col is not None,
-        notes=table.notes,
         run_kind=run_kind,
     )
     time_s, reading, extras = gated.time_s, gated.temp_C, gated.channels

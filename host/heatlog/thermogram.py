@@ -3,7 +3,7 @@
 :class:`Thermogram` is what the reduction works on. :func:`read_thermogram_csv` is the import
 from a headed CSV file through :func:`heatlog.csvtable.read_table` (a date-time time column,
 ISO 8601 or a spreadsheet form, becomes seconds from the first row) and the input gate
-(:func:`heatlog.inputgate.gate_series`), whose findings travel in the metadata.
+(:func:`heatlog.inputgate.gate_table`), whose findings travel in the metadata.
 """
 
 from __future__ import annotations
@@ -18,7 +18,7 @@ import numpy as np
 
 from heatlog.csvtable import read_table
 from heatlog.errors import InputError
-from heatlog.inputgate import gate_series
+from heatlog.inputgate import gate_table
 
 #: Columns read, when present, as probe-fault flags (non-zero = fault) for a thermogram CSV.
 FLAG_COLUMNS = ("flags", "flag", "status", "fault")
@@ -118,24 +118,17 @@ def read_thermogram_csv(
         clock_col=time_col,
         force_clock=iso_time,  # date-time text is recognised anyway; the flag requires it
     )
-    lookup = {k.lower(): v for k, v in table.columns.items()}
-    units = {k.lower(): v for k, v in table.units.items()}
-    flag_col = next((c for c in FLAG_COLUMNS if c in lookup), None)
-    gated = gate_series(
-        lookup[time_col.lower()],
-        lookup[temp_col.lower()],
+    present = {k.lower() for k in table.columns}
+    flag_col = next((c for c in FLAG_COLUMNS if c in present), None)
+    gated = gate_table(
+        table,
+        time_col,
+        temp_col,
+        channels,
+        flags_col=flag_col,
         where=str(p),
         kind="thermogram",
-        time_name=time_col,
-        temp_name=temp_col,
-        time_unit=units.get(time_col.lower(), ""),
-        temp_unit=units.get(temp_col.lower(), ""),
-        lines=table.line_numbers,
-        channels={c: lookup[c.lower()] for c in channels},
-        channel_units={c: units.get(c.lower(), "") for c in channels},
         temperature_channels=[c for c in channels if c.lower().endswith(("_c", "temp"))],
-        flags=None if flag_col is None else lookup[flag_col],
-        notes=table.notes,
     )
     return Thermogram(
         time_s=gated.time_s,
@@ -164,22 +157,14 @@ def read_profile_csv(
     p = Path(path)
     optional = [c for c in (env_col, flags_col) if c]
     table = read_table(p, [time_col, temp_col, *optional], what="log", clock_col=time_col)
-    lookup = {k.lower(): v for k, v in table.columns.items()}
-    units = {k.lower(): v for k, v in table.units.items()}
-    gated = gate_series(
-        lookup[time_col.lower()],
-        lookup[temp_col.lower()],
+    gated = gate_table(
+        table,
+        time_col,
+        temp_col,
+        optional,
         where=str(p),
         kind="profile",
-        time_name=time_col,
-        temp_name=temp_col,
-        time_unit=units.get(time_col.lower(), ""),
-        temp_unit=units.get(temp_col.lower(), ""),
-        lines=table.line_numbers,
-        channels={c: lookup[c.lower()] for c in optional},
-        channel_units={c: units.get(c.lower(), "") for c in optional},
         temperature_channels=[env_col] if env_col else [],
-        notes=table.notes,
         run_kind=run_kind,
     )
     env = gated.channels[env_col] if env_col else None
