@@ -22,10 +22,10 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.optimize import least_squares
 
 from heatlog.reduce.drift import DriftFit, _expo, residual_sigma
 from heatlog.reduce.sampling import block_means
+from heatlog.solvers import least_squares_box
 
 METHODS = ("regnault-pfaundler", "dickinson", "dickinson-60", "newton")
 _NEWTON_PERIOD_POINTS = 250
@@ -196,13 +196,12 @@ def newton_fit(
     upper = [np.inf, np.inf, 50.0 / span, np.inf, tn, 10.0 * (tn - t0), 0.5 * (tn - t0)]
     p0 = np.clip(p0, np.array(lower) + 1e-12, np.array(upper) - 1e-12)
     try:
-        res = least_squares(
+        res = least_squares_box(
             lambda p: ww * (newton_model(p, tt) - yy),
             p0,
-            bounds=(lower, upper),
-            x_scale="jac",
+            np.array(lower),
+            np.array(upper),
             max_nfev=400,
-            tr_solver="lsmr",
         )
     except (ValueError, np.linalg.LinAlgError):
         return NewtonFit(
@@ -220,13 +219,19 @@ def newton_fit(
     except np.linalg.LinAlgError:
         pass
     p = res.x
+    # The release and the probe lag enter the model symmetrically (a convolution of two first-
+    # order responses), so the data cannot tell which time constant is whose; the shorter one is
+    # reported as the probe's (common practice, no source: a probe in a stirred vessel answers
+    # in seconds, a dissolution or reaction takes longer). Δ and its uncertainty do not depend
+    # on the choice.
+    tau_release, tau_probe = max(p[5], p[6]), min(p[5], p[6])
     return NewtonFit(
         float(p[3]),
         u,
         float(p[2]),
         float(p[4]),
-        float(p[5]),
-        float(p[6]),
+        float(tau_release),
+        float(tau_probe),
         float(math.sqrt(s2)),
         rms_main,
         bool(res.success),

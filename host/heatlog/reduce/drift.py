@@ -28,9 +28,9 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.optimize import minimize_scalar
 
 from heatlog.errors import ReductionError
+from heatlog.solvers import minimize_bounded
 
 MODELS = ("linear", "newtonian")
 AIC_MARGIN = 2.0
@@ -265,14 +265,7 @@ def _fit(model: str, ft, fy, at, ay, k_fixed: float | None = None) -> DriftFit:
         i = int(np.argmin(vals))
         lo, hi = grid[max(i - 1, 0)], grid[min(i + 1, grid.size - 1)]
         if hi > lo:
-            k = float(
-                minimize_scalar(
-                    rss_of,
-                    bounds=(lo, hi),
-                    method="bounded",
-                    options={"xatol": 1e-12 + 1e-9 * abs(grid[i])},
-                ).x
-            )
+            k = minimize_bounded(rss_of, lo, hi, xatol=1e-12 + 1e-9 * abs(grid[i]))[0]
             if rss_of(k) > vals[i]:
                 k = float(grid[i])
         else:

@@ -29,9 +29,9 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.optimize import minimize_scalar
 
 from heatlog.reduce.drift import _design, _expo, residual_sigma
+from heatlog.solvers import minimize_bounded
 
 #: Bound on how far the logged surroundings reading may lag what the vessel exchanges with
 #: (probe time constant in still air plus the vessel wall): common practice, no source.
@@ -98,11 +98,7 @@ def _k_search(rss_of, span: float) -> float:
     lo, hi = grid[max(i - 1, 0)], grid[min(i + 1, grid.size - 1)]
     if hi <= lo:
         return float(grid[i])
-    k = float(
-        minimize_scalar(
-            rss_of, bounds=(lo, hi), method="bounded", options={"xatol": 1e-12 + 1e-9 * grid[i]}
-        ).x
-    )
+    k = minimize_bounded(rss_of, lo, hi, xatol=1e-12 + 1e-9 * grid[i])[0]
     return k if rss_of(k) <= vals[i] else float(grid[i])
 
 
