@@ -35,6 +35,7 @@ from typing import Any, Literal
 
 import numpy as np
 
+from heatlog import smoothing
 from heatlog.errors import InputError
 
 Severity = Literal["refuse", "flag"]
@@ -183,9 +184,10 @@ def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
 
 
 def running_median(y: np.ndarray, window: int = HAMPEL_WINDOW) -> np.ndarray:
-    from scipy.ndimage import median_filter
-
-    return median_filter(y, size=min(window, max(1, y.size)), mode="nearest")
+    """Running median over ``window`` readings (fewer when the series is shorter), the ends
+    repeated: equal to ``scipy.ndimage.median_filter(y, size=min(window, max(1, y.size)),
+    mode="nearest")`` without importing scipy (:func:`heatlog.smoothing.running_median`)."""
+    return smoothing.running_median(y, min(window, max(1, y.size)))
 
 
 def _step(y: np.ndarray) -> float:
