@@ -2,9 +2,9 @@
 
 Every CSV that heatlog reads (calibration points, thermograms) goes through
 :func:`read_columns`, so the checks a user relies on (missing columns, text cells, NaN, too few
-rows) behave the same everywhere. Parsing is ``numpy.loadtxt`` on the wanted columns only; long
-files that are plainly numeric go through pandas' C parser instead (exact, about twice as fast),
-and anything it would read differently falls back to ``loadtxt`` and its error messages.
+rows) behave the same everywhere. Parsing is ``numpy.loadtxt`` on the wanted columns only (exact:
+it rounds decimal text to the nearest double like ``float()``); a long file is read by it straight
+from disk, only its head decoded here to find the comments, the header and the delimiter.
 """
 
 from __future__ import annotations
@@ -154,36 +154,6 @@ def _read_header(
         delimiter = ","
     names = [name.strip().strip('"').strip("'") for name in first.split(delimiter)]
     return names, delimiter
-
-
-def _read_large(path: Path, skip: int, delimiter: str, idx: list[int]) -> np.ndarray | None:
-    """Parse a long file with pandas' C parser (about twice as fast as ``numpy.loadtxt``, and
-    exact: it rounds decimal text to the nearest double like ``float()``).
-
-    Returns None whenever the file is not plainly numeric (text cells, empty cells, NaN or inf,
-    ragged rows), so that the ``numpy.loadtxt`` path below reports the problem in its usual words.
-    """
-    import pandas as pd
-
-    try:
-        frame = pd.read_csv(
-            path,
-            sep=delimiter,
-            header=None,
-            skiprows=skip,
-            usecols=idx,
-            comment="#",
-            dtype=np.float64,
-            engine="c",
-            encoding="utf-8-sig",
-            skip_blank_lines=True,
-        )
-    except (ValueError, pd.errors.ParserError, UnicodeDecodeError):
-        return None
-    arr = frame[idx].to_numpy(dtype=np.float64)  # columns in the order asked for
-    if arr.ndim != 2 or not np.isfinite(arr).all():
-        return None
-    return arr
 
 
 def read_columns(
@@ -350,9 +320,6 @@ def read_table(
         assert path is not None
         rows = path
         skip = header_line
-        fast = _read_large(path, skip, delimiter, idx)
-        if fast is not None and fast.shape[0] >= min_rows:
-            return table({name: np.ascontiguousarray(fast[:, j]) for j, name in enumerate(wanted)})
     try:
         arr = np.loadtxt(
             rows,

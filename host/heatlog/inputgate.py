@@ -35,6 +35,7 @@ from typing import Any, Literal
 
 import numpy as np
 
+from heatlog import smoothing
 from heatlog.errors import InputError
 
 Severity = Literal["refuse", "flag"]
@@ -183,9 +184,10 @@ def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
 
 
 def running_median(y: np.ndarray, window: int = HAMPEL_WINDOW) -> np.ndarray:
-    from scipy.ndimage import median_filter
-
-    return median_filter(y, size=min(window, max(1, y.size)), mode="nearest")
+    """Running median over ``window`` readings (fewer when the series is shorter), the ends
+    repeated: equal to ``scipy.ndimage.median_filter(y, size=min(window, max(1, y.size)),
+    mode="nearest")`` without importing scipy (:func:`heatlog.smoothing.running_median`)."""
+    return smoothing.running_median(y, min(window, max(1, y.size)))
 
 
 def _step(y: np.ndarray) -> float:
@@ -200,27 +202,44 @@ def spike_rows(y: np.ndarray, valid: np.ndarray) -> tuple[np.ndarray, np.ndarray
     median, window 7): a run of at most three readings that leaves the curve and comes back,
     both neighbours agreeing with each other. Returns (spike rows, threshold-exceeding rows that
     are not isolated spikes), both as indices into ``y``."""
-    idx = np.flatnonzero(valid)
-    if idx.size < HAMPEL_WINDOW:
-        return np.zeros(0, dtype=np.int64), np.zeros(0, dtype=np.int64)
-    v = y[idx]
+    none = np.zeros(0, dtype=np.int64), np.zeros(0, dtype=np.int64)
+    every = bool(valid.all())  # then the readings are used as they are, not gathered
+    idx = np.arange(0) if every else np.flatnonzero(valid)
+    if (y.size if every else idx.size) < HAMPEL_WINDOW:
+        return none
+    v = y if every else y[idx]
     med = running_median(v)
     r = v - med
+    # The threshold is at least max(10σ, MIN_SPIKE_K) (below): when the largest residual stays
+    # within that, nothing is found, so a clean log passes without the reading step or σ's
+    # median (a selection among all the readings). 10σ reaches the largest residual when the
+    # median of |second differences| is `enough` (with a 1e-9 margin over rounding), and the
+    # median is at least that when fewer than half of them lie below it.
+    biggest = float(np.abs(r).max())
+    if not biggest > MIN_SPIKE_K:
+        return none
+    second = np.abs(np.diff(v, 2))
+    enough = biggest * (1.0 + 1e-9) * math.sqrt(6.0) / (HAMPEL_SIGMAS * 1.4826)
+    if np.count_nonzero(second < enough) <= (second.size - 1) // 2:
+        return none
     # the reading noise from second differences (sd √6·σ for independent noise): the residuals to
     # a running median understate it (the median is one of the readings, so a seventh of them
     # are exactly zero), which flagged ordinary 4σ readings of clean logs as spikes
-    sigma = 1.4826 * float(np.median(np.abs(np.diff(v, 2)))) / math.sqrt(6.0)
-    thr = max(HAMPEL_SIGMAS * sigma, MIN_SPIKE_STEPS * _step(med), MIN_SPIKE_K)
+    sigma = 1.4826 * float(np.median(second)) / math.sqrt(6.0)
+    floor = max(HAMPEL_SIGMAS * sigma, MIN_SPIKE_K)
+    if not biggest > floor:
+        return none
+    thr = max(floor, MIN_SPIKE_STEPS * _step(med))
     out = np.abs(r) > thr
     spikes: list[int] = []
     other: list[int] = []
     for ra, rb in _runs(out):
         # the core of the run: a spike drags the running median of its neighbours by a step of
         # the curve, so only readings off by more than half the largest residual are its own
-        core = np.zeros(v.size, dtype=bool)
         big = np.abs(r[ra:rb])
-        core[ra:rb] = big > max(thr, 0.5 * float(big.max()))
-        for a, b in _runs(core):
+        core = big > max(thr, 0.5 * float(big.max()))
+        for ca, cb in _runs(core):
+            a, b = ra + ca, ra + cb
             if b - a <= MAX_SPIKE_RUN and a > 0 and b < v.size:
                 left, right = v[a - 1], v[b]
                 dev = v[a:b] - 0.5 * (left + right)
@@ -230,7 +249,8 @@ def spike_rows(y: np.ndarray, valid: np.ndarray) -> tuple[np.ndarray, np.ndarray
                     spikes.extend(range(a, b))
                     continue
             other.extend(range(a, b))
-    return idx[np.asarray(spikes, dtype=np.int64)], idx[np.asarray(other, dtype=np.int64)]
+    at = np.asarray(spikes, dtype=np.int64), np.asarray(other, dtype=np.int64)
+    return at if every else (idx[at[0]], idx[at[1]])
 
 
 def _time_scale(
@@ -264,15 +284,25 @@ def _time_scale(
             )
         return scale
     steps = np.diff(t)
-    steps = steps[steps > 0]
-    if steps.size == 0:
+    rising = steps > 0
+    if not rising.any():
         return 1.0
-    step = float(np.median(steps))
     span = float(np.max(t) - np.min(t))
     limit = MAX_RUN_S[kind] if limit is None else limit
-    whole = bool(np.all(np.abs(t - np.round(t)) < 1e-9 * np.maximum(1.0, np.abs(t))))
-    too_long = span > limit or (kind == "thermogram" and step >= 100.0 and span > 86400.0)
-    if too_long and whole and step >= 10.0 and 60.0 <= span / 1000.0 <= limit:
+    # the median step and the whole-number test only where a branch below needs them
+    median_step: list[float] = []
+
+    def step_() -> float:
+        if not median_step:
+            median_step.append(float(np.median(steps[rising])))
+        return median_step[0]
+
+    def whole() -> bool:
+        return bool(np.all(np.abs(t - np.round(t)) < 1e-9 * np.maximum(1.0, np.abs(t))))
+
+    too_long = span > limit or (kind == "thermogram" and span > 86400.0 and step_() >= 100.0)
+    if too_long and step_() >= 10.0 and 60.0 <= span / 1000.0 <= limit and whole():
+        step = step_()
         findings.append(
             Finding(
                 "time-unit",
@@ -292,11 +322,12 @@ def _time_scale(
             f"{'cup run' if kind == 'thermogram' else 'long run'} heatlog reduces",
             "check the time unit (mark it in the header, e.g. 'time [ms]') or the column",
         )
+    if kind != "profile" or not span < 1000.0:
+        return 1.0
+    step = step_()
     per_hour = step * 3600.0
     if (
-        kind == "profile"
-        and span < 1000.0
-        and per_hour >= 1.0
+        per_hour >= 1.0
         and abs(per_hour - round(per_hour)) < 1e-3
         and abs(step * 100.0 - round(step * 100.0)) > 1e-3
     ):
@@ -346,11 +377,13 @@ def _to_celsius(
         )
         # (docs/REFERENCES.md: SI-BROCHURE for kelvin, NIST-SP811 for Fahrenheit)
         return y - 273.15 if kind == "K" else (y - 32.0) * (5.0 / 9.0)
-    good = y[valid]
-    in_kelvin_range = (
-        bool(good.size) and KELVIN_RANGE[0] <= float(np.median(good)) <= KELVIN_RANGE[1]
-    )
-    if in_kelvin_range and float(np.min(good)) > KELVIN_MIN:
+    good = y if valid.all() else y[valid]
+    # the minimum first: it rules out kelvin for most logs without the median's sort
+    if (
+        good.size
+        and float(np.min(good)) > KELVIN_MIN
+        and KELVIN_RANGE[0] <= float(np.median(good)) <= KELVIN_RANGE[1]
+    ):
         findings.append(
             Finding(
                 "temp-unit",
@@ -380,8 +413,10 @@ def _temperature(
     absurd = np.abs(y) > MAX_ABS_READING
     valid = keep & ~absurd
     if not raw:
-        sentinel = np.isin(y, SENTINELS) & valid
-        if sentinel.any():
+        low, high = float(np.min(y)), float(np.max(y))  # NaN (a channel's) fails the test below
+        possible = not low <= high or any(low <= s <= high for s in SENTINELS)
+        sentinel = np.isin(y, SENTINELS) & valid if possible else None
+        if sentinel is not None and sentinel.any():
             # neighbours' level: the nearest non-sentinel readings either side
             ok = np.flatnonzero(valid & ~sentinel)
             if ok.size:
@@ -633,12 +668,15 @@ def gate_series(
             )
 
     # time glitches among the kept rows: duplicates and single stamps out of order
-    idx = np.flatnonzero(keep)
+    # (a log with every row kept and no duplicate is not copied or indexed on the way)
+    every = bool(keep.all())
+    idx = np.arange(n) if every else np.flatnonzero(keep)
     if idx.size >= 3:
-        tk, yk = t[idx], y[idx]
+        tk, yk = (t, y) if every else (t[idx], y[idx])
         dup = np.concatenate([[False], (np.diff(tk) == 0) & (np.diff(yk) == 0)])
-        rest = idx[~dup]
-        tr = t[rest]
+        any_dup = bool(dup.any())
+        rest = idx[~dup] if any_dup else idx
+        tr = t[rest] if any_dup else tk
         mid = (tr[:-2] < tr[2:]) & ((tr[1:-1] <= tr[:-2]) | (tr[1:-1] >= tr[2:]))
         glitch = np.concatenate([[False], mid, [False]])
         for code, rows, what in (
@@ -659,8 +697,9 @@ def gate_series(
                 keep[rows] = False
 
     faults = sum(f.count for f in findings if f.code in ("sentinel", "flagged-rows"))
-    dropped = n - int(keep.sum()) - faults
-    if dropped > max(MAX_SPIKE_RUN, MAX_DROPPED_SHARE * n) or keep.sum() < n / 2:
+    kept = int(keep.sum())
+    dropped = n - kept - faults
+    if dropped > max(MAX_SPIKE_RUN, MAX_DROPPED_SHARE * n) or kept < n / 2:
         refuse(
             where,
             "too-many-faults",
@@ -671,10 +710,10 @@ def gate_series(
 
     # time unit from the header or the sampling pattern (on the rows kept)
     limit = MAX_PROFILE_S.get(run_kind, MAX_RUN_S[kind]) if kind == "profile" else None
-    scale = _time_scale(t[keep], time_unit, time_name, kind, findings, where, limit)
-    t = t * scale if scale != 1.0 else t
+    t_kept = t[keep]
+    scale = _time_scale(t_kept, time_unit, time_name, kind, findings, where, limit)
     return Gated(
-        t[keep],
+        t_kept * scale if scale != 1.0 else t_kept,
         y[keep],
         {k: np.asarray(v, dtype=np.float64)[keep] for k, v in channels.items()},
         keep,

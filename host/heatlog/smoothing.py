@@ -1,12 +1,21 @@
-"""Savitzky–Golay smoothing and differentiation in numpy alone.
+"""Smoothing filters in numpy alone: Savitzky–Golay, a running median and a moving average.
+
+Each equals its scipy counterpart (tests/test_smoothing.py checks them against scipy on seeded
+data) and lives here because importing ``scipy.signal`` or ``scipy.ndimage`` costs a large share
+of a ``heatlog reduce`` that should take about as long as reading the file.
 
 Savitzky, A.; Golay, M. J. E. (1964), Anal. Chem. 36, 1627 (docs/REFERENCES.md: SAVGOL1964):
 a least-squares polynomial of order ``polyorder`` over a sliding window of ``window_length``
 points, evaluated (or differentiated) at the window's centre. The ends use the interior
 polynomials of the first and last window ("interp" edges). The output equals
-``scipy.signal.savgol_filter(..., mode="interp")`` to rounding (tests/test_smoothing.py checks it
-against scipy on seeded data); it lives here because importing ``scipy.signal`` alone costs
-more than half a second at every ``heatlog reduce``.
+``scipy.signal.savgol_filter(..., mode="interp")`` to rounding.
+
+:func:`running_median` equals ``scipy.ndimage.median_filter(y, size, mode="nearest")`` bit for bit
+on finite data (a median is one of the readings, picked by comparisons only); for the window of
+7 it is a selection network of 13 compare-exchanges on shifted copies of the edge-padded series,
+about as fast as scipy's C loop. :func:`moving_average` equals
+``scipy.ndimage.uniform_filter1d(x, size)`` (mode "reflect") bit for bit: the same running sum,
+added up in the same order.
 """
 
 from __future__ import annotations
@@ -64,3 +73,99 @@ def savgol_filter(
     out[:half] = _edge(x, 0, window_length, idx[:half], polyorder, deriv, delta)
     out[n - half :] = _edge(x, n - window_length, n, idx[n - half :], polyorder, deriv, delta)
     return out
+
+
+#: A median-of-7 selection network of 13 compare-exchanges (docs/REFERENCES.md: MEDIAN-NETWORK).
+#: tests/test_smoothing.py proves it on all 2^7 inputs of zeros and ones (the 0-1 principle,
+#: docs/REFERENCES.md: KNUTH-TAOCP3) and on all 7! orders of distinct values.
+MEDIAN7_NETWORK = (
+    (0, 5), (0, 3), (1, 6), (2, 4), (0, 1), (3, 5), (2, 6),
+    (2, 3), (3, 6), (4, 5), (1, 4), (1, 3), (3, 4),
+)  # fmt: skip
+
+
+def _network_plan(
+    network: tuple[tuple[int, int], ...], out: int
+) -> list[tuple[int, int, bool, bool]]:
+    """Each compare-exchange with whether its low and its high output are used later."""
+    live = {out}
+    plan = []
+    for a, b in reversed(network):
+        plan.append((a, b, a in live, b in live))
+        if a in live or b in live:
+            live |= {a, b}
+    return plan[::-1]
+
+
+_MEDIAN7_PLAN = _network_plan(MEDIAN7_NETWORK, 3)
+
+
+#: Readings per block of the median-of-7 network: its temporaries stay small (in cache, reused by
+#: the allocator) instead of twenty fresh arrays of the series' length (common practice, no source).
+_BLOCK = 1 << 14
+
+
+def _median7(y: np.ndarray) -> np.ndarray:
+    n = y.size
+    padded = np.pad(y, 3, mode="edge")
+    out = np.empty_like(y)
+    for start in range(0, n, _BLOCK):
+        m = min(_BLOCK, n - start)
+        # v[k][i] = y[start + i - 3 + k], the series' ends repeated outward
+        v = [padded[start + k : start + k + m] for k in range(7)]
+        for a, b, low, high in _MEDIAN7_PLAN:
+            x, z = v[a], v[b]
+            if low:
+                v[a] = np.minimum(x, z)
+            if high:
+                v[b] = np.maximum(x, z)
+        out[start : start + m] = v[3]
+    return out
+
+
+def running_median(y: np.ndarray, size: int) -> np.ndarray:
+    """Median of the ``size`` readings around each one, the series' ends repeated outward.
+
+    Window ``y[i - size//2 : i - size//2 + size]`` (for an even size one more reading before
+    than after), the element of rank ``size//2`` in it: scipy.ndimage's convention. Equals
+    ``scipy.ndimage.median_filter(y, size=size, mode="nearest")`` for finite 1-D input (where a
+    window holds both +0.0 and −0.0 the sign of a zero median may differ); NaN is not ordered.
+    """
+    y = np.asarray(y)
+    if y.ndim != 1:
+        raise ValueError("running_median takes a 1-D series")
+    if size < 1:
+        raise ValueError("size must be at least 1")
+    if size == 1 or y.size == 0:
+        return y.copy()
+    if size == 7:
+        return _median7(y)
+    before = size // 2
+    padded = np.pad(y, (before, size - 1 - before), mode="edge")
+    windows = np.lib.stride_tricks.sliding_window_view(padded, size)
+    return np.partition(windows, before, axis=1)[:, before].copy()
+
+
+def moving_average(x: np.ndarray, size: int) -> np.ndarray:
+    """Mean of the ``size`` values around each one, the series mirrored at its ends
+    (``d c b a | a b c d | d c b a``; the window ``x[i - size//2 : i - size//2 + size]``).
+
+    Equals ``scipy.ndimage.uniform_filter1d(x, size)`` (mode "reflect", origin 0) bit for bit on
+    float64 input: like scipy it keeps a running sum, started as the first window added up from
+    its left end, moved on by (entering − leaving) value and divided by ``size`` at each point;
+    ``numpy.add.accumulate`` adds in the same strict order.
+    """
+    x = np.asarray(x, dtype=np.float64)
+    if x.ndim != 1:
+        raise ValueError("moving_average takes a 1-D series")
+    if size < 1:
+        raise ValueError("size must be at least 1")
+    n = x.size
+    if n == 0:
+        return x.copy()
+    before = size // 2
+    padded = np.pad(x, (before, size - 1 - before), mode="symmetric")
+    steps = np.empty(n)
+    steps[0] = np.add.accumulate(padded[:size])[-1]
+    np.subtract(padded[size : size + n - 1], padded[: n - 1], out=steps[1:])
+    return np.add.accumulate(steps) / size

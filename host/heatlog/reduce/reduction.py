@@ -259,9 +259,9 @@ def _surroundings_rows(
         )
     rate = np.gradient(e, t)
     if e.size > 7:
-        from scipy.ndimage import uniform_filter1d
+        from heatlog.smoothing import moving_average
 
-        rate = uniform_filter1d(rate, size=max(3, int(60.0 / max(np.median(np.diff(t)), 1e-9))))
+        rate = moving_average(rate, size=max(3, int(60.0 / max(np.median(np.diff(t)), 1e-9))))
     lagged = _rp_with(t, y_meas - env_response(t, e + ENV_LAG_BOUND_S * rate, k), lo, t0, ta, hi, k)
     row(
         "surroundings probe lag",
