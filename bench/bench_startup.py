@@ -5,7 +5,8 @@
    ``python -c "import numpy; numpy.loadtxt(...)"`` process on the same file (target: ≤ 1.5×).
 
 Every figure is the best of interleaved repeats (each process is started anew, turn by turn, so
-machine load hits baseline and command alike). Run: ``python bench/bench_startup.py [rows] [repeats]``.
+machine load hits baseline and command alike), after one untimed run of each that writes the
+bytecode, as pip does at install time (``PYTHONDONTWRITEBYTECODE`` is lifted for the run). Run: ``python bench/bench_startup.py [rows] [repeats]``.
 The command is run as ``python -m heatlog`` with this checkout's ``host/`` first on PYTHONPATH,
 the same code the installed ``heatlog`` script runs.
 """
@@ -25,9 +26,17 @@ sys.path.insert(0, str(HOST))
 from bench_reduce import write_run  # noqa: E402  (the same invented run file)
 
 
+#: Compiled bytecode for every process of the run (a temporary folder, so the checkout stays
+#: clean). An installed heatlog, like numpy, is compiled by pip at install time; a process that
+#: compiled heatlog's modules from source on every start would measure something no user waits for.
+PYCACHE = tempfile.TemporaryDirectory(prefix="heatlog-bench-pycache-")
+
+
 def _env() -> dict[str, str]:
     env = dict(os.environ)
     env["PYTHONPATH"] = str(HOST) + os.pathsep + env.get("PYTHONPATH", "")
+    env.pop("PYTHONDONTWRITEBYTECODE", None)
+    env["PYTHONPYCACHEPREFIX"] = PYCACHE.name
     return env
 
 
@@ -50,6 +59,8 @@ def interleaved_best(commands: list[list[str]], repeats: int) -> list[float]:
     env = _env()
     best = [float("inf")] * len(commands)
     CPU.clear()
+    for cmd in commands:  # once untimed: bytecode written, files in the page cache
+        subprocess.run(cmd, env=env, check=True, stdout=subprocess.DEVNULL)
     for _ in range(repeats):
         for i, cmd in enumerate(commands):
             cpu0 = _child_cpu_s()

@@ -36,6 +36,7 @@ from typing import Any, Literal
 import numpy as np
 
 from heatlog import smoothing
+from heatlog.orderstats import median
 from heatlog.errors import InputError
 
 Severity = Literal["refuse", "flag"]
@@ -175,6 +176,14 @@ def _lines_text(lines: tuple[int, ...], total: int) -> str:
     )
 
 
+def _beyond(a: np.ndarray, bound: float) -> np.ndarray | None:
+    """Where |a| > bound (finite ``a``), or None when nowhere: the range is looked at first, so a
+    clean column costs two reductions instead of full-size temporaries."""
+    if a.size == 0 or (float(a.max()) <= bound and float(a.min()) >= -bound):
+        return None
+    return np.abs(a) > bound
+
+
 def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
     """[start, stop) of each run of True."""
     if not mask.any():
@@ -215,7 +224,7 @@ def spike_rows(y: np.ndarray, valid: np.ndarray) -> tuple[np.ndarray, np.ndarray
     # median (a selection among all the readings). 10σ reaches the largest residual when the
     # median of |second differences| is `enough` (with a 1e-9 margin over rounding), and the
     # median is at least that when fewer than half of them lie below it.
-    biggest = float(np.abs(r).max())
+    biggest = max(float(r.max()), -float(r.min()))  # max |r|, without a full-size |r|
     if not biggest > MIN_SPIKE_K:
         return none
     second = np.abs(np.diff(v, 2))
@@ -225,7 +234,7 @@ def spike_rows(y: np.ndarray, valid: np.ndarray) -> tuple[np.ndarray, np.ndarray
     # the reading noise from second differences (sd √6·σ for independent noise): the residuals to
     # a running median understate it (the median is one of the readings, so a seventh of them
     # are exactly zero), which flagged ordinary 4σ readings of clean logs as spikes
-    sigma = 1.4826 * float(np.median(second)) / math.sqrt(6.0)
+    sigma = 1.4826 * float(median(second)) / math.sqrt(6.0)
     floor = max(HAMPEL_SIGMAS * sigma, MIN_SPIKE_K)
     if not biggest > floor:
         return none
@@ -294,7 +303,7 @@ def _time_scale(
 
     def step_() -> float:
         if not median_step:
-            median_step.append(float(np.median(steps[rising])))
+            median_step.append(float(median(steps[rising])))
         return median_step[0]
 
     def whole() -> bool:
@@ -382,13 +391,13 @@ def _to_celsius(
     if (
         good.size
         and float(np.min(good)) > KELVIN_MIN
-        and KELVIN_RANGE[0] <= float(np.median(good)) <= KELVIN_RANGE[1]
+        and KELVIN_RANGE[0] <= float(median(good)) <= KELVIN_RANGE[1]
     ):
         findings.append(
             Finding(
                 "temp-unit",
                 "flag",
-                f"column {name!r} reads {float(np.median(good)):.5g} (median), where kelvin "
+                f"column {name!r} reads {float(median(good)):.5g} (median), where kelvin "
                 "lies for these experiments; read as kelvin and converted to °C",
                 "if these really are °C, say so in the header: 'temp [°C]'",
             )
@@ -410,8 +419,10 @@ def _temperature(
     """Absurd values, unit, sentinels and spikes of one temperature (or raw reading) column.
     Clears ``keep`` where a reading is left out; returns the converted column."""
     n = y.size
-    absurd = np.abs(y) > MAX_ABS_READING
-    valid = keep & ~absurd
+    beyond = _beyond(y, MAX_ABS_READING)
+    any_absurd = beyond is not None
+    absurd = beyond if beyond is not None else np.zeros(n, dtype=bool)
+    valid = keep & ~absurd if any_absurd else keep.copy()
     if not raw:
         low, high = float(np.min(y)), float(np.max(y))  # NaN (a channel's) fails the test below
         possible = not low <= high or any(low <= s <= high for s in SENTINELS)
@@ -440,11 +451,13 @@ def _temperature(
                 )
                 keep &= ~sentinel
                 valid &= ~sentinel
-        y = _to_celsius(np.where(absurd, 0.0, y), valid, unit, name, findings, where)
-        impossible = valid & ((y < MIN_TEMP_C) | (y > MAX_TEMP_C))
-        absurd = absurd | impossible
-        valid = valid & ~impossible
-    else:
+        y = np.where(absurd, 0.0, y) if any_absurd else y
+        y = _to_celsius(y, valid, unit, name, findings, where)
+        if n and (float(y.min()) < MIN_TEMP_C or float(y.max()) > MAX_TEMP_C):
+            impossible = valid & ((y < MIN_TEMP_C) | (y > MAX_TEMP_C))
+            absurd = absurd | impossible
+            valid = valid & ~impossible
+    elif any_absurd:
         y = np.where(absurd, 0.0, y)
     for a, b in _runs(absurd & keep):
         if b - a > MAX_SPIKE_RUN or valid.sum() < HAMPEL_WINDOW:
@@ -584,6 +597,8 @@ def gate_series(
     if n == 0:
         return Gated(t, y, channels, keep, tuple(findings))
     for name, arr in (("time", t), ("reading", y)):
+        if np.isfinite(arr).all():
+            continue
         bad = ~np.isfinite(arr)
         if bad.any():
             line = int(ln[int(np.argmax(bad))])
@@ -596,8 +611,8 @@ def gate_series(
             )
 
     # absurd times: never used in arithmetic
-    absurd_t = np.abs(t) > MAX_ABS_TIME
-    if absurd_t.any():
+    absurd_t = _beyond(t, MAX_ABS_TIME)
+    if absurd_t is not None:
         rows = np.flatnonzero(absurd_t)
         shown = _line_list(ln, rows)
         if rows.size > MAX_SPIKE_RUN or absurd_t.sum() > MAX_DROPPED_SHARE * n:
@@ -670,8 +685,9 @@ def gate_series(
     # time glitches among the kept rows: duplicates and single stamps out of order
     # (a log with every row kept and no duplicate is not copied or indexed on the way)
     every = bool(keep.all())
+    rising = every and n >= 2 and bool((np.diff(t) > 0).all())  # no repeat, nothing out of order
     idx = np.arange(n) if every else np.flatnonzero(keep)
-    if idx.size >= 3:
+    if idx.size >= 3 and not rising:
         tk, yk = (t, y) if every else (t[idx], y[idx])
         dup = np.concatenate([[False], (np.diff(tk) == 0) & (np.diff(yk) == 0)])
         any_dup = bool(dup.any())
@@ -710,12 +726,18 @@ def gate_series(
 
     # time unit from the header or the sampling pattern (on the rows kept)
     limit = MAX_PROFILE_S.get(run_kind, MAX_RUN_S[kind]) if kind == "profile" else None
-    t_kept = t[keep]
+    every = bool(keep.all())  # then nothing is gathered: the columns go on as they are
+
+    def kept(a: np.ndarray) -> np.ndarray:
+        a = np.asarray(a, dtype=np.float64)
+        return a if every else a[keep]
+
+    t_kept = kept(t)
     scale = _time_scale(t_kept, time_unit, time_name, kind, findings, where, limit)
     return Gated(
         t_kept * scale if scale != 1.0 else t_kept,
-        y[keep],
-        {k: np.asarray(v, dtype=np.float64)[keep] for k, v in channels.items()},
+        kept(y),
+        {k: kept(v) for k, v in channels.items()},
         keep,
         tuple(findings),
     )

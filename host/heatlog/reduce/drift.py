@@ -30,6 +30,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from heatlog.errors import ReductionError
+from heatlog.orderstats import median
 from heatlog.solvers import minimize_bounded
 
 MODELS = ("linear", "newtonian")
@@ -125,11 +126,11 @@ class DriftFit:
 
     @property
     def sigma_fore(self) -> float:
-        return float(np.median(self.sigma[: self.fore_t.size]))
+        return float(median(self.sigma[: self.fore_t.size]))
 
     @property
     def sigma_after(self) -> float:
-        return float(np.median(self.sigma[self.fore_t.size :]))
+        return float(median(self.sigma[self.fore_t.size :]))
 
     def covariance(self) -> np.ndarray:
         g = self.gain * self.sigma
@@ -224,6 +225,27 @@ def _design(model: str, k: float, tf_, ta_, t_f: float, t_a: float) -> np.ndarra
     return j
 
 
+def design_stack(ks: np.ndarray, tf_: np.ndarray, ta_: np.ndarray, t_f: float, t_a: float) -> np.ndarray:
+    """:func:`_design` of the Newtonian model for every k of ``ks``, stacked (k, row, column);
+    each layer equals the single call element by element."""
+    k = np.asarray(ks, dtype=float)[:, None]
+    tiny = np.abs(k) < 1e-14
+
+    def expo(dt: np.ndarray) -> np.ndarray:  # _expo, row by row
+        return np.where(tiny, dt, -np.expm1(-k * dt) / np.where(tiny, 1.0, k))
+
+    ef = expo(tf_ - t_f)
+    ea = expo(ta_ - t_a)
+    nf = tf_.size
+    j = np.zeros((k.size, nf + ta_.size, 3))
+    j[:, :nf, 0] = 1.0
+    j[:, :nf, 2] = ef
+    j[:, nf:, 0] = k * ea
+    j[:, nf:, 1] = 1.0 - k * ea
+    j[:, nf:, 2] = ea
+    return j
+
+
 def _solve(j: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, float]:
     p, *_ = np.linalg.lstsq(j, y, rcond=None)
     r = y - j @ p
@@ -256,12 +278,23 @@ def _fit(model: str, ft, fy, at, ay, k_fixed: float | None = None) -> DriftFit:
             r = y - j @ p
             return float(r @ r)
 
+        def rss_grid(ks: np.ndarray) -> np.ndarray:
+            # rss_of for a whole grid at once (stacked normal equations)
+            j = design_stack(ks, ft, at, t_f, t_a)
+            jt = np.swapaxes(j, 1, 2)
+            try:
+                p = np.linalg.solve(jt @ j, (jt @ y)[:, :, None])
+            except np.linalg.LinAlgError:  # a singular layer: one by one, as rss_of handles it
+                return np.array([rss_of(k) for k in ks])
+            r = y - (j @ p)[:, :, 0]
+            return np.einsum("mn,mn->m", r, r)
+
         grid = np.concatenate([[-0.5 / span, 0.0], np.geomspace(1e-3 / span, kmax, 25)])
         if math.isfinite(k0) and -0.5 / span < k0 < kmax:
             grid = np.sort(np.append(grid, k0))
         if k_fixed is not None:  # k found elsewhere (a surroundings model, ``surroundings``)
             grid = np.array([float(k_fixed)])
-        vals = np.array([rss_of(k) for k in grid])
+        vals = rss_grid(grid)
         i = int(np.argmin(vals))
         lo, hi = grid[max(i - 1, 0)], grid[min(i + 1, grid.size - 1)]
         if hi > lo:

@@ -50,6 +50,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from heatlog.reduce.periods import MIN_PERIOD_POINTS, MIN_PERIOD_S, detector_window_s
+from heatlog.orderstats import median
 from heatlog.smoothing import savgol_filter  # scipy.signal costs ~0.6 s to import
 
 __all__ = ["MIN_PERIOD_POINTS", "MIN_PERIOD_S", "Event", "detect_events", "reading_noise"]
@@ -106,7 +107,7 @@ def reading_noise(y: np.ndarray) -> float:
     if y.size < 5:
         return 0.0
     d2 = np.diff(y, 2)
-    return float(1.4826 * np.median(np.abs(d2 - np.median(d2))) / math.sqrt(6.0))
+    return float(1.4826 * median(np.abs(d2 - median(d2))) / math.sqrt(6.0))
 
 
 def _starting_masks(n: int) -> list[np.ndarray]:
@@ -140,7 +141,7 @@ def _quiet_line(
             cols = np.column_stack([np.ones(x.size), xc, env[mask] - env[mask].mean()])
             coef, *_ = np.linalg.lstsq(cols, z, rcond=None)
             r = d - (coef[0] + coef[1] * (ys - x.mean()) + coef[2] * (env - env[mask].mean()))
-        sigma = float(1.4826 * np.median(np.abs(r[mask] - np.median(r[mask]))))
+        sigma = float(1.4826 * median(np.abs(r[mask] - median(r[mask]))))
         new = np.abs(r) < 4 * max(sigma, floor)
         if new.sum() < max(6, n // 20) or np.array_equal(new, mask):
             break
@@ -153,7 +154,7 @@ def rate_residual(
 ) -> RateResidual:
     """The residual rate of step 2; with ``env`` (surroundings, °C, on ``t``) the quiet line is
     d = a + b·T + c·T_env (Newton's law against a moving surroundings temperature)."""
-    h = float(np.median(np.diff(t)))
+    h = float(median(np.diff(t)))
     grid = np.arange(t[0], t[-1] + 1e-9 * h, h)
     yg = np.interp(grid, t, y)
     n = grid.size

@@ -47,6 +47,8 @@ from heatlog.reduce.surroundings import (
     ramp_preferred,
 )
 from heatlog.reduce.uncertainty import delta_t_budget, resolution_u
+from heatlog.orderstats import distinct_count, median
+from heatlog.smoothing import moving_average
 from heatlog.thermogram import Thermogram
 
 MAX_POINTS = 4000
@@ -132,8 +134,9 @@ class Reduction:
 
 def detect_resolution(y: np.ndarray) -> float:
     """The reading step if the readings sit on a grid (ADC counts, printed decimals), else 0."""
-    sample = y[:20000]
-    u = np.unique(sample)
+    sample = np.sort(y[:20000])  # finite (the input gate saw to it)
+    # its distinct values, as numpy.unique gives them (which imports numpy.ma on first use)
+    u = sample[np.concatenate([[True], sample[1:] != sample[:-1]])] if sample.size else sample
     if u.size < 3 or u.size > sample.size // 2:
         return 0.0
     q = float(np.min(np.diff(u)))
@@ -259,9 +262,7 @@ def _surroundings_rows(
         )
     rate = np.gradient(e, t)
     if e.size > 7:
-        from heatlog.smoothing import moving_average
-
-        rate = moving_average(rate, size=max(3, int(60.0 / max(np.median(np.diff(t)), 1e-9))))
+        rate = moving_average(rate, size=max(3, int(60.0 / max(median(np.diff(t)), 1e-9))))
     lagged = _rp_with(t, y_meas - env_response(t, e + ENV_LAG_BOUND_S * rate, k), lo, t0, ta, hi, k)
     row(
         "surroundings probe lag",
@@ -469,8 +470,8 @@ def reduce_thermogram(
         "dickinson-60": lambda f: dickinson_60(main_period(t, y, f, t0, ta), f)[0],
     }
     levels = [
-        int(np.unique(y[(t >= lo) & (t <= t0)]).size),
-        int(np.unique(y[(t >= ta) & (t <= hi)]).size),
+        distinct_count(y[(t >= lo) & (t <= t0)]),
+        distinct_count(y[(t >= ta) & (t <= hi)]),
     ]
     u_res = resolution_u(q, noise, levels)
 

@@ -30,7 +30,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from heatlog.reduce.drift import _design, _expo, residual_sigma
+from heatlog.reduce.drift import _design, _expo, design_stack, residual_sigma
 from heatlog.solvers import minimize_bounded
 
 #: Bound on how far the logged surroundings reading may lag what the vessel exchanges with
@@ -72,6 +72,43 @@ def env_response(t: np.ndarray, e: np.ndarray, k: float) -> np.ndarray:
     return w
 
 
+def env_responses(t: np.ndarray, e: np.ndarray, ks: np.ndarray) -> np.ndarray:
+    """:func:`env_response` for every k of ``ks`` at once, one row each (the same arithmetic,
+    element by element, so each row equals the single call)."""
+    t = np.asarray(t, dtype=float)
+    e = np.asarray(e, dtype=float)
+    ks = np.asarray(ks, dtype=float)
+    out = np.zeros((ks.size, e.size))
+    if e.size < 2:
+        return out
+    fast = ks * float(t[-1] - t[0]) < 600.0
+    for i in np.flatnonzero(~fast):  # the per-sample recursion, where exp(span) could overflow
+        out[i] = env_response(t, e, float(ks[i]))
+    if not fast.any():
+        return out
+    k = ks[fast][:, None]
+    d = np.diff(t)
+    a = np.exp(-k * d)
+    tiny = np.abs(k) < 1e-14
+    c = np.where(tiny, d, -np.expm1(-k * d) / np.where(tiny, 1.0, k))  # _expo, row by row
+    m = np.diff(e) / d
+    inc = e[1:] - a * e[:-1] - m * c
+    rel = k * (t - t[0])
+    out[fast, 1:] = np.exp(-rel[:, 1:]) * np.cumsum(inc * np.exp(rel[:, 1:]), axis=1)
+    return out
+
+
+def _rss_stack(j: np.ndarray, z: np.ndarray) -> np.ndarray:
+    """Residual sum of squares of the least-squares fit of each ``z[i]`` by the columns of
+    ``j[i]``: what ``numpy.linalg.lstsq`` gives one by one (SVD, singular values below
+    ε·max(n, p) of the largest dropped), for a whole grid in one call."""
+    u, sv, _ = np.linalg.svd(j, full_matrices=False)
+    keep = sv > np.finfo(float).eps * max(j.shape[-2:]) * sv[:, :1]
+    coef = np.einsum("mnp,mn->mp", u, z) * keep
+    r = z - np.einsum("mnp,mp->mn", u, coef)
+    return np.einsum("mn,mn->m", r, r)
+
+
 @dataclass(frozen=True)
 class SurroundingsFit:
     """The exchange constant and the surroundings term found with it."""
@@ -90,10 +127,13 @@ class SurroundingsFit:
         return self.n * math.log(max(self.rss, 1e-300) / max(self.n, 1)) + 2 * p
 
 
-def _k_search(rss_of, span: float) -> float:
+def _k_search(rss_of, span: float, rss_grid=None) -> float:
+    """k with the least RSS: a grid from 0 to 20/span (``rss_grid``: the RSS of the whole grid
+    in one call, else ``rss_of`` point by point), then Brent's minimiser between the grid
+    neighbours of the best point."""
     kmax = 20.0 / span
     grid = np.concatenate([[0.0], np.geomspace(1e-3 / span, kmax, 30)])
-    vals = np.array([rss_of(k) for k in grid])
+    vals = rss_grid(grid) if rss_grid is not None else np.array([rss_of(k) for k in grid])
     i = int(np.argmin(vals))
     lo, hi = grid[max(i - 1, 0)], grid[min(i + 1, grid.size - 1)]
     if hi <= lo:
@@ -138,7 +178,19 @@ def fit_surroundings(
         r = z - j @ p
         return float(r @ r)
 
-    k = _k_search(rss_of, span)
+    def rss_grid(ks: np.ndarray) -> np.ndarray:
+        j = design_stack(ks, ft, at, t_f, t_a)
+        z = np.broadcast_to(yy, (ks.size, yy.size))
+        if env is not None or ramp:
+            w = env_responses(t, e, ks)
+            ww = np.concatenate([w[:, fore], w[:, after]], axis=1)
+            if env is None:
+                j = np.concatenate([j, ww[:, :, None]], axis=2)
+            else:
+                z = z - ww
+        return _rss_stack(j, z)
+
+    k = _k_search(rss_of, span, rss_grid)
     j, z, w = system(k)
     p, *_ = np.linalg.lstsq(j, z, rcond=None)
     r = z - j @ p
