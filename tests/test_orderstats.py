@@ -17,6 +17,9 @@ def test_median_is_numpys(seed):
             a = np.round(a, 2)  # ties
         assert median(a) == float(np.median(a))  # bit for bit, odd and even sizes
         assert median(a.reshape(1, -1)) == float(np.median(a))
+        scratch = a.copy()
+        assert median(scratch, overwrite=True) == float(np.median(a))
+        assert sorted(scratch) == sorted(a)  # reordered, nothing lost
 
 
 def test_median_nan_and_empty():

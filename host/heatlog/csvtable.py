@@ -348,9 +348,11 @@ def read_table(
     n = arr.shape[0]
     if n < min_rows:
         raise InputError(f"{where}: need at least {min_rows} data row(s), got {n}")
-    out = table({name: np.ascontiguousarray(arr[:, j]) for j, name in enumerate(wanted)})
-    bad = ~np.isfinite(arr)
-    if bad.any():
+    # the columns stay views into the parsed block: a copy of each would touch as much fresh
+    # memory as the parse itself, and everything downstream reads strided arrays as well
+    out = table({name: arr[:, j] for j, name in enumerate(wanted)})
+    if not np.isfinite(arr).all():
+        bad = ~np.isfinite(arr)
         row, col = np.argwhere(bad)[0]
         where_row = out.line_numbers()
         line_no = int(where_row[row]) if row < where_row.size else int(row) + 1

@@ -29,7 +29,7 @@ Pure: arrays in, a :class:`Gated` out.
 from __future__ import annotations
 
 import math
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Callable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any, Literal
 
@@ -206,6 +206,21 @@ def _step(y: np.ndarray) -> float:
     return float(np.percentile(d, 5)) if d.size else 0.0
 
 
+def _abs_second_differences(v: np.ndarray, out: np.ndarray | None = None) -> Iterator[np.ndarray]:
+    """``np.abs(np.diff(v, 2))``, the same numbers, block by block: into ``out`` when given (one
+    array instead of three of the series' length; each fresh array of a long log costs its page
+    faults), else each block in a small array of its own."""
+    size = max(v.size - 2, 0)
+    step = 1 << 16
+    for start in range(0, size, step):
+        stop = min(start + step, size)
+        first = np.diff(v[start : stop + 2])
+        part = np.empty(stop - start) if out is None else out[start:stop]
+        np.subtract(first[1:], first[:-1], out=part)
+        np.abs(part, out=part)
+        yield part
+
+
 def spike_rows(y: np.ndarray, valid: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Isolated spikes among the ``valid`` readings (Hampel test on residuals to a running
     median, window 7): a run of at most three readings that leaves the curve and comes back,
@@ -217,28 +232,36 @@ def spike_rows(y: np.ndarray, valid: np.ndarray) -> tuple[np.ndarray, np.ndarray
     if (y.size if every else idx.size) < HAMPEL_WINDOW:
         return none
     v = y if every else y[idx]
-    med = running_median(v)
-    r = v - med
     # The threshold is at least max(10σ, MIN_SPIKE_K) (below): when the largest residual stays
     # within that, nothing is found, so a clean log passes without the reading step or σ's
     # median (a selection among all the readings). 10σ reaches the largest residual when the
     # median of |second differences| is `enough` (with a 1e-9 margin over rounding), and the
     # median is at least that when fewer than half of them lie below it.
-    biggest = max(float(r.max()), -float(r.min()))  # max |r|, without a full-size |r|
+    # max |v − med| block by block: a clean log needs neither a full-size running median nor
+    # a residual array
+    biggest = 0.0
+    for start, block in smoothing.running_median_blocks(v, min(HAMPEL_WINDOW, max(1, v.size))):
+        d = v[start : start + block.size] - block
+        biggest = max(biggest, float(d.max()), -float(d.min()))
     if not biggest > MIN_SPIKE_K:
         return none
-    second = np.abs(np.diff(v, 2))
     enough = biggest * (1.0 + 1e-9) * math.sqrt(6.0) / (HAMPEL_SIGMAS * 1.4826)
-    if np.count_nonzero(second < enough) <= (second.size - 1) // 2:
+    below = sum(int(np.count_nonzero(part < enough)) for part in _abs_second_differences(v))
+    if below <= (v.size - 3) // 2:  # (the second differences number v.size − 2)
         return none
+    second = np.empty(v.size - 2)
+    for _ in _abs_second_differences(v, second):
+        pass
     # the reading noise from second differences (sd √6·σ for independent noise): the residuals to
     # a running median understate it (the median is one of the readings, so a seventh of them
     # are exactly zero), which flagged ordinary 4σ readings of clean logs as spikes
-    sigma = 1.4826 * float(median(second)) / math.sqrt(6.0)
+    sigma = 1.4826 * float(median(second, overwrite=True)) / math.sqrt(6.0)
     floor = max(HAMPEL_SIGMAS * sigma, MIN_SPIKE_K)
     if not biggest > floor:
         return none
+    med = running_median(v)
     thr = max(floor, MIN_SPIKE_STEPS * _step(med))
+    r = v - med
     out = np.abs(r) > thr
     spikes: list[int] = []
     other: list[int] = []
@@ -292,9 +315,7 @@ def _time_scale(
                 )
             )
         return scale
-    steps = np.diff(t)
-    rising = steps > 0
-    if not rising.any():
+    if not (t[1:] > t[:-1]).any():
         return 1.0
     span = float(np.max(t) - np.min(t))
     limit = MAX_RUN_S[kind] if limit is None else limit
@@ -303,7 +324,8 @@ def _time_scale(
 
     def step_() -> float:
         if not median_step:
-            median_step.append(float(median(steps[rising])))
+            steps = np.diff(t)
+            median_step.append(float(median(steps[steps > 0])))
         return median_step[0]
 
     def whole() -> bool:
@@ -685,7 +707,7 @@ def gate_series(
     # time glitches among the kept rows: duplicates and single stamps out of order
     # (a log with every row kept and no duplicate is not copied or indexed on the way)
     every = bool(keep.all())
-    rising = every and n >= 2 and bool((np.diff(t) > 0).all())  # no repeat, nothing out of order
+    rising = every and n >= 2 and bool((t[1:] > t[:-1]).all())  # no repeat, nothing out of order
     idx = np.arange(n) if every else np.flatnonzero(keep)
     if idx.size >= 3 and not rising:
         tk, yk = (t, y) if every else (t[idx], y[idx])

@@ -13,16 +13,21 @@ import math
 import numpy as np
 
 
-def median(a: np.ndarray) -> float:
+def median(a: np.ndarray, *, overwrite: bool = False) -> float:
     """``float(numpy.median(a))`` of a whole array: the same selection and the same mean of the
-    two middle values (NaN in, NaN out). An empty array gives NaN."""
+    two middle values (NaN in, NaN out). An empty array gives NaN. ``overwrite``: a scratch
+    float64 array may be reordered in place instead of copied (numpy's ``overwrite_input``)."""
     a = np.asarray(a, dtype=np.float64).ravel()
     n = a.size
     if n == 0:
         return math.nan
     half = n // 2
     kth = [half - 1, half, n - 1] if n % 2 == 0 else [half, n - 1]
-    part = np.partition(a, kth)
+    if overwrite and a.flags.writeable and a.flags.c_contiguous:
+        a.partition(kth)
+        part = a
+    else:
+        part = np.partition(a, kth)
     if math.isnan(part[-1]):
         return math.nan
     if n % 2:

@@ -72,6 +72,11 @@ def env_response(t: np.ndarray, e: np.ndarray, k: float) -> np.ndarray:
     return w
 
 
+#: k values per stacked call of the grid search (keeps its temporaries small: common practice,
+#: no source; 4 measured fastest in a fresh process, bench/bench_startup.py)
+_GRID_CHUNK = 4
+
+
 def env_responses(t: np.ndarray, e: np.ndarray, ks: np.ndarray) -> np.ndarray:
     """:func:`env_response` for every k of ``ks`` at once, one row each (the same arithmetic,
     element by element, so each row equals the single call)."""
@@ -179,6 +184,11 @@ def fit_surroundings(
         return float(r @ r)
 
     def rss_grid(ks: np.ndarray) -> np.ndarray:
+        # a few k at a time: the stacked temporaries stay small enough to be reused, where
+        # a whole grid's would be fresh memory (page faults) on every run
+        step = _GRID_CHUNK
+        if ks.size > step:
+            return np.concatenate([rss_grid(ks[i : i + step]) for i in range(0, ks.size, step)])
         j = design_stack(ks, ft, at, t_f, t_a)
         z = np.broadcast_to(yy, (ks.size, yy.size))
         if env is not None or ramp:
