@@ -25,7 +25,6 @@ sys.path.insert(0, str(HOST))
 
 from bench_reduce import write_run  # noqa: E402  (the same invented run file)
 
-
 #: Compiled bytecode for every process of the run (a temporary folder, so the checkout stays
 #: clean). An installed heatlog, like numpy, is compiled by pip at install time; a process that
 #: compiled heatlog's modules from source on every start would measure something no user waits for.

@@ -86,7 +86,9 @@ def test_box_least_squares_stops_on_a_bound_that_binds():
     t = np.linspace(0, 10, 50)
     y = 2.0 * t  # best unconstrained slope 2, capped at 1.5
 
-    got = least_squares_box(lambda p: p[0] * t - y, np.array([0.1]), np.array([0.0]), np.array([1.5]))
+    got = least_squares_box(
+        lambda p: p[0] * t - y, np.array([0.1]), np.array([0.0]), np.array([1.5])
+    )
     ref = least_squares(lambda p: p[0] * t - y, [0.1], bounds=([0.0], [1.5]))
     assert got.success
     assert got.x[0] == pytest.approx(1.5, rel=1e-6)
@@ -108,4 +110,6 @@ def test_box_least_squares_reports_running_out_of_evaluations():
 
 def test_box_least_squares_refuses_a_non_finite_start():
     with pytest.raises(ValueError):
-        least_squares_box(lambda p: np.array([np.nan]), np.array([1.0]), np.array([0.0]), np.array([2.0]))
+        least_squares_box(
+            lambda p: np.array([np.nan]), np.array([1.0]), np.array([0.0]), np.array([2.0])
+        )

@@ -36,8 +36,8 @@ from typing import Any, Literal
 import numpy as np
 
 from heatlog import smoothing
-from heatlog.orderstats import median
 from heatlog.errors import InputError
+from heatlog.orderstats import median
 
 Severity = Literal["refuse", "flag"]
 
@@ -750,16 +750,16 @@ def gate_series(
     limit = MAX_PROFILE_S.get(run_kind, MAX_RUN_S[kind]) if kind == "profile" else None
     every = bool(keep.all())  # then nothing is gathered: the columns go on as they are
 
-    def kept(a: np.ndarray) -> np.ndarray:
+    def kept_rows(a: np.ndarray) -> np.ndarray:
         a = np.asarray(a, dtype=np.float64)
         return a if every else a[keep]
 
-    t_kept = kept(t)
+    t_kept = kept_rows(t)
     scale = _time_scale(t_kept, time_unit, time_name, kind, findings, where, limit)
     return Gated(
         t_kept * scale if scale != 1.0 else t_kept,
-        kept(y),
-        {k: kept(v) for k, v in channels.items()},
+        kept_rows(y),
+        {k: kept_rows(v) for k, v in channels.items()},
         keep,
         tuple(findings),
     )

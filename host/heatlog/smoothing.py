@@ -190,4 +190,3 @@ def moving_average(x: np.ndarray, size: int) -> np.ndarray:
     steps[0] = np.add.accumulate(padded[:size])[-1]
     np.subtract(padded[size : size + n - 1], padded[: n - 1], out=steps[1:])
     return np.add.accumulate(steps) / size
-

@@ -193,7 +193,9 @@ def least_squares_box(
         while nfev < max_nfev:
             step_scaled = np.linalg.solve(jtj + lam * np.eye(jtj.shape[0]), -gf)
             x_new = x.copy()
-            x_new[free] = x[free] + _inside(step_scaled / d[free], x[free], lower[free], upper[free])
+            x_new[free] = x[free] + _inside(
+                step_scaled / d[free], x[free], lower[free], upper[free]
+            )
             f_new = np.asarray(fun(x_new), dtype=float)
             nfev += 1
             s = x_new - x

@@ -225,7 +225,9 @@ def _design(model: str, k: float, tf_, ta_, t_f: float, t_a: float) -> np.ndarra
     return j
 
 
-def design_stack(ks: np.ndarray, tf_: np.ndarray, ta_: np.ndarray, t_f: float, t_a: float) -> np.ndarray:
+def design_stack(
+    ks: np.ndarray, tf_: np.ndarray, ta_: np.ndarray, t_f: float, t_a: float
+) -> np.ndarray:
     """:func:`_design` of the Newtonian model for every k of ``ks``, stacked (k, row, column);
     each layer equals the single call element by element."""
     k = np.asarray(ks, dtype=float)[:, None]

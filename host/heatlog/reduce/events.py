@@ -49,8 +49,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from heatlog.reduce.periods import MIN_PERIOD_POINTS, MIN_PERIOD_S, detector_window_s
 from heatlog.orderstats import median
+from heatlog.reduce.periods import MIN_PERIOD_POINTS, MIN_PERIOD_S, detector_window_s
 from heatlog.smoothing import savgol_filter  # scipy.signal costs ~0.6 s to import
 
 __all__ = ["MIN_PERIOD_POINTS", "MIN_PERIOD_S", "Event", "detect_events", "reading_noise"]

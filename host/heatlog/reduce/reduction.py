@@ -24,6 +24,7 @@ import numpy as np
 
 from heatlog.errors import ReductionError
 from heatlog.gum import Budget, Component
+from heatlog.orderstats import distinct_count, median
 from heatlog.reduce.correction import (
     METHODS,
     NewtonFit,
@@ -47,7 +48,6 @@ from heatlog.reduce.surroundings import (
     ramp_preferred,
 )
 from heatlog.reduce.uncertainty import delta_t_budget, resolution_u
-from heatlog.orderstats import distinct_count, median
 from heatlog.smoothing import moving_average
 from heatlog.thermogram import Thermogram
 

@@ -1,0 +1,71 @@
+"""The stacked (whole-grid) forms used by the k searches equal their one-k counterparts."""
+
+import numpy as np
+import pytest
+
+from heatlog.inputgate import _abs_second_differences
+from heatlog.reduce.drift import _design, design_stack
+from heatlog.reduce.surroundings import _rss_stack, env_response, env_responses
+from heatlog.smoothing import running_median, running_median_blocks
+
+
+def _times(rng, n):
+    return np.cumsum(rng.uniform(0.5, 2.0, n))
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_env_responses_rows_are_env_response(seed):
+    rng = np.random.default_rng(seed)
+    t = _times(rng, 300)
+    e = np.cumsum(rng.normal(0, 0.01, t.size))
+    # 0, tiny, ordinary and one large enough for the per-sample recursion (k·span ≥ 600)
+    ks = np.array([0.0, 1e-16, 1e-4, 3e-3, 0.05, 700.0 / (t[-1] - t[0])])
+    rows = env_responses(t, e, ks)
+    for k, row in zip(ks, rows, strict=True):
+        np.testing.assert_array_equal(row, env_response(t, e, float(k)))
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_design_stack_layers_are_design(seed):
+    rng = np.random.default_rng(seed)
+    ft, at = _times(rng, 40), 500.0 + _times(rng, 60)
+    ks = np.array([-1e-4, 0.0, 1e-15, 2e-4, 1e-2])
+    stack = design_stack(ks, ft, at, float(ft.mean()), float(at.mean()))
+    for k, layer in zip(ks, stack, strict=True):
+        np.testing.assert_array_equal(
+            layer, _design("newtonian", float(k), ft, at, float(ft.mean()), float(at.mean()))
+        )
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_rss_stack_is_lstsq_including_a_zero_column(seed):
+    rng = np.random.default_rng(seed)
+    j = rng.normal(size=(5, 80, 4)) * np.array([1.0, 1e3, 1e-3, 10.0])
+    j[2, :, 3] = 0.0  # a rank-deficient layer, as the ramp column is at k = 0
+    z = rng.normal(size=(5, 80))
+    got = _rss_stack(j, z)
+    for i in range(5):
+        p, *_ = np.linalg.lstsq(j[i], z[i], rcond=None)
+        r = z[i] - j[i] @ p
+        assert got[i] == pytest.approx(float(r @ r), rel=1e-9)
+
+
+@pytest.mark.parametrize("n", [1, 6, 7, 8, 1000, (1 << 14) + 5, 3 * (1 << 14)])
+def test_running_median_blocks_cover_the_series(n):
+    y = np.random.default_rng(n).normal(size=n)
+    for size in (3, 7):
+        got = np.concatenate([b for _, b in running_median_blocks(y, min(size, n))])
+        np.testing.assert_array_equal(got, running_median(y, min(size, n)))
+        starts = [s for s, _ in running_median_blocks(y, min(size, n))]
+        assert starts[0] == 0 and starts == sorted(starts)
+
+
+@pytest.mark.parametrize("n", [3, 4, 100, (1 << 16) + 1, (1 << 17) + 7])
+def test_second_differences_block_by_block(n):
+    v = np.random.default_rng(n).normal(size=n) * 100.0
+    want = np.abs(np.diff(v, 2))
+    np.testing.assert_array_equal(np.concatenate(list(_abs_second_differences(v))), want)
+    out = np.empty(n - 2)
+    for _ in _abs_second_differences(v, out):
+        pass
+    np.testing.assert_array_equal(out, want)
