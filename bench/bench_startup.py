@@ -6,9 +6,11 @@
 
 Every figure is the best of interleaved repeats (each process is started anew, turn by turn, so
 machine load hits baseline and command alike), after one untimed run of each that writes the
-bytecode, as pip does at install time (``PYTHONDONTWRITEBYTECODE`` is lifted for the run). Run: ``python bench/bench_startup.py [rows] [repeats]``.
-The command is run as ``python -m heatlog`` with this checkout's ``host/`` first on PYTHONPATH,
-the same code the installed ``heatlog`` script runs.
+bytecode, as pip does at install time (``PYTHONDONTWRITEBYTECODE`` is lifted for the run); the
+ratio of the medians is printed beside it, since on a shared machine single runs scatter widely.
+Run: ``python bench/bench_startup.py [rows] [repeats]``. The command is run as
+``python -m heatlog`` with this checkout's ``host/`` first on PYTHONPATH, the same code the
+installed ``heatlog`` script runs.
 """
 
 from __future__ import annotations
@@ -52,11 +54,16 @@ def _child_cpu_s() -> float:
 CPU: dict[int, float] = {}  # command index → best CPU seconds of the last interleaved_best call
 
 
+MEDIAN: dict[int, float] = {}  # command index → median wall seconds of the last call
+
+
 def interleaved_best(commands: list[list[str]], repeats: int) -> list[float]:
     """Best wall time of each command, each started as a new process, run in turn. The best CPU
-    time of each goes to ``CPU``: on a loaded machine it says more than the wall time."""
+    time of each goes to ``CPU`` (on a loaded machine it says more than the wall time), the
+    median wall time to ``MEDIAN``."""
     env = _env()
     best = [float("inf")] * len(commands)
+    walls: list[list[float]] = [[] for _ in commands]
     CPU.clear()
     for cmd in commands:  # once untimed: bytecode written, files in the page cache
         subprocess.run(cmd, env=env, check=True, stdout=subprocess.DEVNULL)
@@ -65,8 +72,11 @@ def interleaved_best(commands: list[list[str]], repeats: int) -> list[float]:
             cpu0 = _child_cpu_s()
             start = time.perf_counter()
             subprocess.run(cmd, env=env, check=True, stdout=subprocess.DEVNULL)
-            best[i] = min(best[i], time.perf_counter() - start)
+            walls[i].append(time.perf_counter() - start)
+            best[i] = min(best[i], walls[i][-1])
             CPU[i] = min(CPU.get(i, float("inf")), _child_cpu_s() - cpu0)
+    for i, w in enumerate(walls):
+        MEDIAN[i] = sorted(w)[len(w) // 2]
     return best
 
 
@@ -93,6 +103,10 @@ def main() -> None:
     print(f"fresh numpy.loadtxt process:  {base_s:.3f} s")
     print(f"heatlog reduce (end to end):  {reduce_s:.3f} s")
     print(f"ratio: {reduce_s / base_s:.2f} (target <= 1.5)")
+    base_med, reduce_med = MEDIAN[0], MEDIAN[1]
+    print(
+        f"  median of {repeats}: {base_med:.3f} s vs {reduce_med:.3f} s, ratio {reduce_med / base_med:.2f}"
+    )
     print(f"  CPU time: {CPU[0]:.3f} s vs {CPU[1]:.3f} s, ratio {CPU[1] / CPU[0]:.2f}")
     print(f"  machine load (1 min): {os.getloadavg()[0]:.1f}" if hasattr(os, "getloadavg") else "")
 
