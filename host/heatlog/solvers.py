@@ -154,12 +154,14 @@ def least_squares_box(
     xtol: float = 1e-8,
     gtol: float = 1e-8,
 ) -> LeastSquaresResult:
-    """Minimise ½‖fun(x)‖² for lower ≤ x ≤ upper (x0 is clipped into the box).
+    """Minimise half the sum of squares of ``fun(x)`` for lower ≤ x ≤ upper (``x0`` is clipped
+    into the box).
 
     Stops when the cost falls by less than ``ftol`` relative, the step is below ``xtol``
     relative, the scaled projected gradient is below ``gtol``, or after ``max_nfev`` calls of
-    ``fun`` (Jacobian columns included); ``success`` is False only in that last case or when
-    the residuals stop being finite. Raises ``np.linalg.LinAlgError`` if the damped normal
+    ``fun`` (Jacobian columns included); ``success`` is False only in that last case. A trial
+    point with non-finite residuals counts as a rejected step. Raises ``ValueError`` when the
+    residuals are not finite at the start and ``np.linalg.LinAlgError`` if the damped normal
     equations cannot be solved.
     """
     lower = np.asarray(lower, dtype=float)

@@ -170,11 +170,13 @@ def fit_surroundings(
         e = t - 0.5 * (t[0] + t[-1])
 
     def system(k: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        w = env_response(t, e, k)
         j = _design("newtonian", k, ft, at, t_f, t_a)
+        if env is None and not ramp:  # the steady room: no surroundings term to compute
+            return j, yy, np.zeros(t.size)
+        w = env_response(t, e, k)
         ww = np.concatenate([w[fore], w[after]])
         if env is None:
-            return (np.column_stack([j, ww]), yy, w) if ramp else (j, yy, 0.0 * w)
+            return np.column_stack([j, ww]), yy, w
         return j, yy - ww, w
 
     def rss_of(k: float) -> float:
