@@ -8,9 +8,9 @@ Every figure is the best of interleaved repeats (each process is started anew, t
 machine load hits baseline and command alike), after one untimed run of each that writes the
 bytecode, as pip does at install time (``PYTHONDONTWRITEBYTECODE`` is lifted for the run); the
 ratio of the medians is printed beside it, since on a shared machine single runs scatter widely.
-Run: ``python bench/bench_startup.py [rows] [repeats]``. The command is run as
-``python -m heatlog`` with this checkout's ``host/`` first on PYTHONPATH, the same code the
-installed ``heatlog`` script runs.
+Run: ``python bench/bench_startup.py [rows] [repeats]``. The command is run as the installed
+``heatlog`` script runs it (``ENTRY``, the launcher pip writes for ``[project.scripts]``: no
+``runpy`` as under ``python -m``), with this checkout's ``host/`` first on PYTHONPATH.
 """
 
 from __future__ import annotations
@@ -26,6 +26,12 @@ HOST = Path(__file__).resolve().parents[1] / "host"
 sys.path.insert(0, str(HOST))
 
 from bench_reduce import write_run  # noqa: E402  (the same invented run file)
+
+#: What pip's generated ``heatlog`` launcher does (``[project.scripts] heatlog = heatlog.cli:main``).
+ENTRY = (
+    "import re, sys; from heatlog.cli import main; "
+    "sys.argv[0] = re.sub(r'(-script\\.pyw|\\.exe)?$', '', sys.argv[0]); sys.exit(main())"
+)
 
 #: Compiled bytecode for every process of the run (a temporary folder, so the checkout stays
 #: clean). An installed heatlog, like numpy, is compiled by pip at install time; a process that
@@ -85,7 +91,7 @@ def main() -> None:
     repeats = int(sys.argv[2]) if len(sys.argv) > 2 else 5
     py = sys.executable
     pass_s, version_s = interleaved_best(
-        [[py, "-c", "pass"], [py, "-m", "heatlog", "--version"]], repeats
+        [[py, "-c", "pass"], [py, "-c", ENTRY, "--version"]], repeats
     )
     print(f"python -c pass:          {pass_s:.3f} s")
     print(f"heatlog --version:       {version_s:.3f} s")
@@ -97,7 +103,7 @@ def main() -> None:
         write_run(path, rows)
         loadtxt = f"import numpy; numpy.loadtxt({str(path)!r}, delimiter=',', skiprows=1)"
         base_s, reduce_s = interleaved_best(
-            [[py, "-c", loadtxt], [py, "-m", "heatlog", "reduce", str(path)]], repeats
+            [[py, "-c", loadtxt], [py, "-c", ENTRY, "reduce", str(path)]], repeats
         )
     print(f"rows: {rows}")
     print(f"fresh numpy.loadtxt process:  {base_s:.3f} s")

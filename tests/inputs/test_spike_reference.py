@@ -90,3 +90,15 @@ def test_at_the_threshold_the_shortcut_does_not_decide():
         assert np.array_equal(ours[0], ref[0]) and np.array_equal(ours[1], ref[1]), factor
         outcomes.add(ref[0].size)
     assert outcomes == {0, 1}  # the series does straddle the threshold
+
+
+@pytest.mark.parametrize("n", [7, 8, 13, 100, (1 << 16) + 3, (1 << 17) + 11])
+def test_window_reach_is_the_windows_reach_and_bounds_the_residuals(n):
+    from heatlog.inputgate import _window_reach
+    from heatlog.smoothing import running_median
+
+    v = np.random.default_rng(n).normal(size=n)
+    windows = np.lib.stride_tricks.sliding_window_view(np.pad(v, 3, mode="edge"), 7)
+    want = max(float((windows.max(1) - v).max()), float((v - windows.min(1)).max()))
+    assert _window_reach(v) == want
+    assert _window_reach(v) >= float(np.abs(v - running_median(v, 7)).max())
