@@ -38,6 +38,7 @@ import numpy as np
 from heatlog import smoothing
 from heatlog.errors import InputError
 from heatlog.orderstats import median
+from heatlog.runschema import QUANTITY_BOUNDS
 
 Severity = Literal["refuse", "flag"]
 
@@ -892,26 +893,6 @@ def check_profile_settings(settings: Any, where: str) -> None:
                     "negative",
                     "check its sign and unit",
                 )
-
-
-#: Plausible magnitudes of a quantity typed on the command line, by unit: (low, high) on |x|
-#: (0 always allowed where a quantity may be zero). Beyond them the number is a typing or unit
-#: mistake (common practice, no source); the same spans as the run files' bounds.
-QUANTITY_BOUNDS: dict[str, tuple[float, float]] = {
-    "g": (1e-6, 1e7),
-    "W": (1e-9, 1e5),
-    "s": (1e-3, 3.2e7),
-    "V": (1e-6, 1e4),
-    "A": (1e-9, 1e3),
-    "K": (1e-6, 1e3),
-    "°C": (0.0, 2000.0),
-    "J/K": (1e-3, 1e8),
-    "J/(g·K)": (1e-2, 100.0),
-    "mol": (1e-12, 1e6),
-    "J/g": (1e-6, 1e8),
-    "J/mol": (1e-6, 1e9),
-    "mol/kg": (0.0, 100.0),
-}
 
 
 def check_quantity(name: str, value: float, u: float, unit: str) -> None:

@@ -65,20 +65,40 @@ TABLE_KEYS: dict[str, set[str]] = {
     },
 }
 
-#: Physical bounds on run-file numbers: (low, high), both included. Beyond them the value is a
-#: typing or unit mistake, never a measurement (common practice, no source): from 1 µg to 10 t of
-#: contents, 1 mJ/K to 1e8 J/K, 1 nW to 100 kW, 1 ms to a year of heating, c_p of any liquid or
-#: solid between 0.01 and 100 J/(g·K), molar masses from 1 g/mol (hydrogen atom: 1.008 g/mol).
+#: Plausible magnitudes of a quantity by its unit: (low, high) on |x| (0 always allowed where a
+#: quantity may be zero). Beyond them the number is a typing or unit mistake, never a measurement
+#: (common practice, no source). A number typed on the command line is checked against them
+#: (``inputgate.check_quantity``), and so is a run-file number of that unit (``BOUNDS``).
+QUANTITY_BOUNDS: dict[str, tuple[float, float]] = {
+    "g": (1e-6, 1e7),
+    "W": (1e-9, 1e5),
+    "s": (1e-3, 3.2e7),
+    "V": (1e-6, 1e4),
+    "A": (1e-9, 1e3),
+    "K": (1e-6, 1e3),
+    "°C": (0.0, 2000.0),
+    "J/K": (1e-3, 1e8),
+    "J/(g·K)": (1e-2, 100.0),
+    "mol": (1e-12, 1e6),
+    "J/g": (1e-6, 1e8),
+    "J/mol": (1e-6, 1e9),
+    "mol/kg": (0.0, 100.0),
+}
+
+#: Physical bounds on run-file numbers: (low, high), both included, the unit-typed ones from
+#: ``QUANTITY_BOUNDS``: from 1 µg to 10 t of contents, 1 mJ/K to 1e8 J/K, 1 nW to 100 kW, 1 ms
+#: to a year of heating, c_p of any liquid or solid between 0.01 and 100 J/(g·K), molar masses
+#: from 1 g/mol (hydrogen atom: 1.008 g/mol).
 BOUNDS: dict[str, tuple[float, float]] = {
-    "mass_g": (1e-6, 1e7),
-    "heat_capacity_J_per_K": (1e-3, 1e8),
-    "cp": (1e-2, 100.0),
-    "power_W": (1e-9, 1e5),
-    "voltage_V": (1e-6, 1e4),
-    "current_A": (1e-9, 1e3),
-    "seconds": (1e-3, 3.2e7),
+    "mass_g": QUANTITY_BOUNDS["g"],
+    "heat_capacity_J_per_K": QUANTITY_BOUNDS["J/K"],
+    "cp": QUANTITY_BOUNDS["J/(g·K)"],
+    "power_W": QUANTITY_BOUNDS["W"],
+    "voltage_V": QUANTITY_BOUNDS["V"],
+    "current_A": QUANTITY_BOUNDS["A"],
+    "seconds": QUANTITY_BOUNDS["s"],
     "molar_mass_g_per_mol": (1.0, 1e7),
-    "sample_mass_g": (1e-6, 1e7),
+    "sample_mass_g": QUANTITY_BOUNDS["g"],
     "loss_W_per_K": (0.0, 1e5),
     "resolution_K": (0.0, 100.0),
     "event_start_s": (-1e10, 1e10),
