@@ -39,3 +39,19 @@ def test_distinct_count_is_numpys(seed):
             assert distinct_count(a) == np.unique(a).size
     ints = rng.integers(0, 50, 300)
     assert distinct_count(ints) == np.unique(ints).size
+
+
+def test_all_finite_is_numpys():
+    from heatlog.orderstats import all_finite
+
+    rng = np.random.default_rng(7)
+    a = rng.normal(size=1000)
+    assert all_finite(a) and all_finite(a.reshape(10, 100)) and all_finite(a[::3])
+    for bad in (np.nan, np.inf, -np.inf):
+        b = a.copy()
+        b[rng.integers(0, a.size)] = bad
+        assert not all_finite(b)
+    # finite values whose sum overflows: still all finite
+    assert all_finite(np.array([1e308, 1e308, -1e308]))
+    assert not all_finite(np.array([1e308, 1e308, np.inf]))
+    assert all_finite(np.arange(5)) and all_finite(np.array([], dtype=float))

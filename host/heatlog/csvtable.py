@@ -21,6 +21,7 @@ import numpy as np
 
 from heatlog.clocktext import looks_like_clock, parse_clock_column
 from heatlog.errors import InputError
+from heatlog.orderstats import all_finite
 
 Source = str | os.PathLike[str] | io.TextIOBase
 
@@ -351,7 +352,7 @@ def read_table(
     # the columns stay views into the parsed block: a copy of each would touch as much fresh
     # memory as the parse itself, and everything downstream reads strided arrays as well
     out = table({name: arr[:, j] for j, name in enumerate(wanted)})
-    if not np.isfinite(arr).all():
+    if not all_finite(arr):
         bad = ~np.isfinite(arr)
         row, col = np.argwhere(bad)[0]
         where_row = out.line_numbers()

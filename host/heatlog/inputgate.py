@@ -37,7 +37,7 @@ import numpy as np
 
 from heatlog import smoothing
 from heatlog.errors import InputError
-from heatlog.orderstats import median
+from heatlog.orderstats import all_finite, median
 from heatlog.runschema import QUANTITY_BOUNDS
 
 Severity = Literal["refuse", "flag"]
@@ -652,7 +652,7 @@ def gate_series(
     if n == 0:
         return Gated(t, y, channels, keep, tuple(findings))
     for name, arr in (("time", t), ("reading", y)):
-        if np.isfinite(arr).all():
+        if all_finite(arr):
             continue
         bad = ~np.isfinite(arr)
         if bad.any():

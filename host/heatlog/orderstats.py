@@ -1,4 +1,5 @@
-"""Order statistics of whole arrays in numpy alone: the median and the number of distinct values.
+"""Whole-array statistics in numpy alone: the median, the number of distinct values, and a test
+that every value is finite.
 
 Each gives what its numpy counterpart gives (``numpy.median``, ``numpy.unique(a).size``;
 tests/test_orderstats.py checks them on seeded data) without what those load on first use: both
@@ -43,3 +44,17 @@ def distinct_count(a: np.ndarray) -> int:
     if s.dtype.kind == "f" and math.isnan(s[-1]):
         return distinct_count(s[~np.isnan(s)]) + 1
     return int(np.count_nonzero(s[1:] != s[:-1])) + 1
+
+
+def all_finite(a: np.ndarray) -> bool:
+    """``bool(numpy.isfinite(a).all())`` for a float array, without a mask of its length: a sum
+    of finite numbers that comes out finite settles it (any NaN or infinity makes the sum NaN
+    or infinite); only a sum that overflows or is not finite looks at each value."""
+    a = np.asarray(a)
+    if a.dtype.kind != "f":
+        return bool(np.isfinite(a).all())
+    with np.errstate(over="ignore", invalid="ignore"):
+        total = float(np.add.reduce(a, axis=None))
+    if math.isfinite(total):
+        return True
+    return bool(np.isfinite(a).all())

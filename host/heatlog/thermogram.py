@@ -19,6 +19,7 @@ import numpy as np
 from heatlog.csvtable import read_table
 from heatlog.errors import InputError
 from heatlog.inputgate import gate_table
+from heatlog.orderstats import all_finite
 
 #: Columns read, when present, as probe-fault flags (non-zero = fault) for a thermogram CSV.
 FLAG_COLUMNS = ("flags", "flag", "status", "fault")
@@ -77,7 +78,7 @@ def check_thermogram_arrays(time_s: np.ndarray, temp_C: np.ndarray, where: str) 
             f"(fore-period, event, after-period), got {n}"
         )
     for name, arr in (("time", time_s), ("temperature", temp_C)):
-        if np.isfinite(arr).all():
+        if all_finite(arr):
             continue
         bad = ~np.isfinite(arr)
         if bad.any():

@@ -14,7 +14,6 @@ same error is one JSON object ``{"error": message, "kind": ...}`` on stdout inst
 from __future__ import annotations
 
 import importlib
-import json
 from typing import Any, NoReturn
 
 import click
@@ -139,6 +138,8 @@ def error_kind(exc: BaseException) -> str:
 
 
 def _json_error(ctx: click.Context, message: str, kind: str, exit_code: int) -> NoReturn:
+    import json  # only for --json (a plain run need not load it)
+
     click.echo(json.dumps({"error": message, "kind": kind}))
     ctx.exit(exit_code)
 

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import json
 from collections.abc import Callable
 from typing import Any
 
@@ -20,6 +19,8 @@ json_option = click.option(
 def emit(as_json: bool, payload: dict[str, Any], text: str | Callable[[], str]) -> None:
     """Print ``payload`` as JSON when asked, otherwise the human-readable ``text``."""
     if as_json:
+        import json  # only for --json (a plain run need not load it)
+
         click.echo(json.dumps(jsonable(payload), indent=2, allow_nan=False))
     else:
         click.echo(text() if callable(text) else text)
