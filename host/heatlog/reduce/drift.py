@@ -45,6 +45,13 @@ def _expo(k: float, dt: np.ndarray | float) -> np.ndarray:
     return -np.expm1(-k * dt) / k
 
 
+def expo_rows(ks: np.ndarray, dt: np.ndarray) -> np.ndarray:
+    """:func:`_expo` for every k of ``ks``, one row each (each row equals the single call)."""
+    k = np.asarray(ks, dtype=float)[:, None]
+    tiny = np.abs(k) < 1e-14
+    return np.where(tiny, dt, -np.expm1(-k * dt) / np.where(tiny, 1.0, k))
+
+
 @dataclass(frozen=True, eq=False)
 class DriftFit:
     """A drift model fitted to a fore-period and an after-period.
@@ -231,13 +238,8 @@ def design_stack(
     """:func:`_design` of the Newtonian model for every k of ``ks``, stacked (k, row, column);
     each layer equals the single call element by element."""
     k = np.asarray(ks, dtype=float)[:, None]
-    tiny = np.abs(k) < 1e-14
-
-    def expo(dt: np.ndarray) -> np.ndarray:  # _expo, row by row
-        return np.where(tiny, dt, -np.expm1(-k * dt) / np.where(tiny, 1.0, k))
-
-    ef = expo(tf_ - t_f)
-    ea = expo(ta_ - t_a)
+    ef = expo_rows(ks, tf_ - t_f)
+    ea = expo_rows(ks, ta_ - t_a)
     nf = tf_.size
     j = np.zeros((k.size, nf + ta_.size, 3))
     j[:, :nf, 0] = 1.0

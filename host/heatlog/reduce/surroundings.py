@@ -30,7 +30,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from heatlog.reduce.drift import _design, _expo, design_stack, residual_sigma
+from heatlog.reduce.drift import _design, _expo, design_stack, expo_rows, residual_sigma
 from heatlog.solvers import minimize_bounded
 
 #: Bound on how far the logged surroundings reading may lag what the vessel exchanges with
@@ -94,8 +94,7 @@ def env_responses(t: np.ndarray, e: np.ndarray, ks: np.ndarray) -> np.ndarray:
     k = ks[fast][:, None]
     d = np.diff(t)
     a = np.exp(-k * d)
-    tiny = np.abs(k) < 1e-14
-    c = np.where(tiny, d, -np.expm1(-k * d) / np.where(tiny, 1.0, k))  # _expo, row by row
+    c = expo_rows(ks[fast], d)
     m = np.diff(e) / d
     inc = e[1:] - a * e[:-1] - m * c
     rel = k * (t - t[0])
