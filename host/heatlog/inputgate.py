@@ -212,7 +212,7 @@ def _abs_second_differences(v: np.ndarray, out: np.ndarray | None = None) -> Ite
     array instead of three of the series' length; each fresh array of a long log costs its page
     faults), else each block in a small array of its own."""
     size = max(v.size - 2, 0)
-    step = 1 << 14  # blocks of 128 KiB: the allocator reuses them
+    step = smoothing.BLOCK
     for start in range(0, size, step):
         stop = min(start + step, size)
         first = np.diff(v[start : stop + 2])
@@ -227,16 +227,9 @@ def _window_reach(v: np.ndarray) -> float:
     around i (the ends repeated outward, as the running median has them): max7 − v and
     v − min7, running maxima and minima by doubling, block by block."""
     half = HAMPEL_WINDOW // 2
-    n = v.size
     reach = 0.0
-    step = 1 << 14  # blocks of 128 KiB: the allocator reuses them
-    for start in range(0, n, step):
-        stop = min(start + step, n)
-        lo, hi = start - half, stop + half
-        seg = v[max(lo, 0) : min(hi, n)]
-        if lo < 0 or hi > n:
-            seg = np.pad(seg, (max(0, -lo), max(0, hi - n)), mode="edge")
-        centre = seg[half : half + stop - start]
+    for _, seg in smoothing.halo_blocks(v, half):
+        centre = seg[half:-half]
         for pick, sign in ((np.maximum, 1.0), (np.minimum, -1.0)):
             two = pick(seg[:-1], seg[1:])  # windows of 2, 4, then 7 = 4 + 3 overlapping
             four = pick(two[:-2], two[2:])
@@ -264,9 +257,9 @@ def spike_rows(y: np.ndarray, valid: np.ndarray) -> tuple[np.ndarray, np.ndarray
     # median is at least that when fewer than half of them lie below it.
     # Both tests below also hold for any bound above the largest residual, so a cheaper bound
     # is tried first (the median lies within its window, so |v − med| is at most the window's
-    # reach from v: half the work of the median network); the exact largest residual, max
-    # |v − med| block by block, only when the bound does not settle it. A clean log needs
-    # neither a full-size running median nor a residual array.
+    # reach from v: half the work of the median network); the running median and the exact
+    # largest residual only when the bound does not settle it. A clean log needs neither a
+    # full-size running median nor a residual array.
     def quiet(bound: float) -> bool:
         if not bound > MIN_SPIKE_K:
             return True
@@ -274,12 +267,11 @@ def spike_rows(y: np.ndarray, valid: np.ndarray) -> tuple[np.ndarray, np.ndarray
         below = sum(int(np.count_nonzero(part < enough)) for part in _abs_second_differences(v))
         return below <= (v.size - 3) // 2  # (the second differences number v.size − 2)
 
-    if v.size >= HAMPEL_WINDOW and quiet(_window_reach(v)):
+    if quiet(_window_reach(v)):
         return none
-    biggest = 0.0
-    for start, block in smoothing.running_median_blocks(v, min(HAMPEL_WINDOW, max(1, v.size))):
-        d = v[start : start + block.size] - block
-        biggest = max(biggest, float(d.max()), -float(d.min()))
+    med = running_median(v)
+    r = v - med
+    biggest = max(float(r.max()), -float(r.min()))  # max |r|, without a full-size |r|
     if quiet(biggest):
         return none
     second = np.empty(v.size - 2)
@@ -292,9 +284,7 @@ def spike_rows(y: np.ndarray, valid: np.ndarray) -> tuple[np.ndarray, np.ndarray
     floor = max(HAMPEL_SIGMAS * sigma, MIN_SPIKE_K)
     if not biggest > floor:
         return none
-    med = running_median(v)
     thr = max(floor, MIN_SPIKE_STEPS * _step(med))
-    r = v - med
     out = np.abs(r) > thr
     spikes: list[int] = []
     other: list[int] = []

@@ -101,47 +101,38 @@ def _network_plan(
 _MEDIAN7_PLAN = _network_plan(MEDIAN7_NETWORK, 3)
 
 
-#: Readings per block of the median-of-7 network: its temporaries stay small (in cache, reused by
-#: the allocator) instead of twenty fresh arrays of the series' length (common practice, no source).
-_BLOCK = 1 << 14
+#: Readings per block for work along a long series: the temporaries stay small (in cache, reused
+#: by the allocator) instead of fresh arrays of the series' length (common practice, no source).
+BLOCK = 1 << 14
 
 
-def _median7_blocks(y: np.ndarray) -> Iterator[tuple[int, np.ndarray]]:
+def halo_blocks(y: np.ndarray, half: int, block: int = BLOCK) -> Iterator[tuple[int, np.ndarray]]:
+    """(start, segment) for each run of ``block`` readings from ``start``: the segment holds them
+    with ``half`` readings either side, the series' ends repeated outward (only the end blocks
+    are padded, so no padded copy of the whole series is made)."""
     n = y.size
-    for start in range(0, n, _BLOCK):
-        m = min(_BLOCK, n - start)
-        # v[k][i] = y[start + i - 3 + k], the series' ends repeated outward (only the end blocks
-        # are padded, so no padded copy of the whole series is made)
-        lo, hi = start - 3, start + m + 3
+    for start in range(0, n, block):
+        stop = min(start + block, n)
+        lo, hi = start - half, stop + half
         seg = y[max(lo, 0) : min(hi, n)]
         if lo < 0 or hi > n:
             seg = np.pad(seg, (max(0, -lo), max(0, hi - n)), mode="edge")
-        v = [seg[k : k + m] for k in range(7)]
+        yield start, seg
+
+
+def _median7(y: np.ndarray) -> np.ndarray:
+    out = np.empty(y.size, dtype=y.dtype)
+    for start, seg in halo_blocks(y, 3):
+        m = seg.size - 6
+        v = [seg[k : k + m] for k in range(7)]  # v[k][i] = y[start + i - 3 + k]
         for a, b, low, high in _MEDIAN7_PLAN:
             x, z = v[a], v[b]
             if low:
                 v[a] = np.minimum(x, z)
             if high:
                 v[b] = np.maximum(x, z)
-        yield start, v[3]
-
-
-def _median7(y: np.ndarray) -> np.ndarray:
-    out = np.empty(y.size, dtype=y.dtype)
-    for start, block in _median7_blocks(y):
-        out[start : start + block.size] = block
+        out[start : start + m] = v[3]
     return out
-
-
-def running_median_blocks(y: np.ndarray, size: int) -> Iterator[tuple[int, np.ndarray]]:
-    """:func:`running_median` block by block, as (start, medians from there): what only needs
-    to look at the medians once (the largest residual, say) holds one block at a time, not a
-    second array of the series' length."""
-    y = np.asarray(y)
-    if size == 7 and y.ndim == 1 and y.size:
-        yield from _median7_blocks(y)
-    else:
-        yield 0, running_median(y, size)
 
 
 def running_median(y: np.ndarray, size: int) -> np.ndarray:

@@ -6,7 +6,7 @@ import pytest
 from heatlog.inputgate import _abs_second_differences
 from heatlog.reduce.drift import _design, design_stack
 from heatlog.reduce.surroundings import _rss_stack, env_response, env_responses
-from heatlog.smoothing import running_median, running_median_blocks
+from heatlog.smoothing import halo_blocks
 
 
 def _times(rng, n):
@@ -51,13 +51,17 @@ def test_rss_stack_is_lstsq_including_a_zero_column(seed):
 
 
 @pytest.mark.parametrize("n", [1, 6, 7, 8, 1000, (1 << 14) + 5, 3 * (1 << 14)])
-def test_running_median_blocks_cover_the_series(n):
+def test_halo_blocks_are_the_edge_padded_series_in_pieces(n):
     y = np.random.default_rng(n).normal(size=n)
-    for size in (3, 7):
-        got = np.concatenate([b for _, b in running_median_blocks(y, min(size, n))])
-        np.testing.assert_array_equal(got, running_median(y, min(size, n)))
-        starts = [s for s, _ in running_median_blocks(y, min(size, n))]
-        assert starts[0] == 0 and starts == sorted(starts)
+    for half in (0, 3):
+        padded = np.pad(y, half, mode="edge")
+        starts = []
+        for start, seg in halo_blocks(y, half):
+            m = seg.size - 2 * half
+            np.testing.assert_array_equal(seg, padded[start : start + m + 2 * half])
+            starts.append((start, m))
+        assert starts[0][0] == 0 and sum(m for _, m in starts) == n
+        assert all(a + m == b for (a, m), (b, _) in zip(starts, starts[1:], strict=False))
 
 
 @pytest.mark.parametrize("n", [3, 4, 100, (1 << 16) + 1, (1 << 17) + 7])
