@@ -5,7 +5,7 @@ import math
 import numpy as np
 import pytest
 
-from heatlog.orderstats import distinct_count, median
+from heatlog.orderstats import distinct, distinct_count, median
 
 
 @pytest.mark.parametrize("seed", range(6))
@@ -34,9 +34,11 @@ def test_distinct_count_is_numpys(seed):
     for n in (0, 1, 2, 5, 100, 5000):
         a = np.round(rng.normal(20, 0.5, n), int(rng.integers(0, 4)))
         assert distinct_count(a) == np.unique(a).size
+        np.testing.assert_array_equal(distinct(a), np.unique(a))
         if n:
             a[rng.integers(0, n, 3)] = np.nan
             assert distinct_count(a) == np.unique(a).size
+            np.testing.assert_array_equal(distinct(a), np.unique(a))
     ints = rng.integers(0, 50, 300)
     assert distinct_count(ints) == np.unique(ints).size
 

@@ -24,7 +24,7 @@ import numpy as np
 
 from heatlog.errors import ReductionError
 from heatlog.gum import Budget, Component
-from heatlog.orderstats import distinct_count, median
+from heatlog.orderstats import distinct, distinct_count, median
 from heatlog.reduce.correction import (
     METHODS,
     NewtonFit,
@@ -134,9 +134,8 @@ class Reduction:
 
 def detect_resolution(y: np.ndarray) -> float:
     """The reading step if the readings sit on a grid (ADC counts, printed decimals), else 0."""
-    sample = np.sort(y[:20000])  # finite (the input gate saw to it)
-    # its distinct values, as numpy.unique gives them (which imports numpy.ma on first use)
-    u = sample[np.concatenate([[True], sample[1:] != sample[:-1]])] if sample.size else sample
+    sample = y[:20000]
+    u = distinct(sample)
     if u.size < 3 or u.size > sample.size // 2:
         return 0.0
     q = float(np.min(np.diff(u)))
