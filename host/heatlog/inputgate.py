@@ -177,10 +177,16 @@ def _lines_text(lines: tuple[int, ...], total: int) -> str:
     )
 
 
-def _beyond(a: np.ndarray, bound: float) -> np.ndarray | None:
-    """Where |a| > bound (finite ``a``), or None when nowhere: the range is looked at first, so a
-    clean column costs two reductions instead of full-size temporaries."""
-    if a.size == 0 or (float(a.max()) <= bound and float(a.min()) >= -bound):
+def _beyond(
+    a: np.ndarray, bound: float, span: tuple[float, float] | None = None
+) -> np.ndarray | None:
+    """Where |a| > bound, or None when nowhere: the range (``span``, (min, max) when the caller
+    has it) is looked at first, so a clean column costs two reductions instead of full-size
+    temporaries."""
+    if a.size == 0:
+        return None
+    low, high = span if span is not None else (float(a.min()), float(a.max()))
+    if high <= bound and low >= -bound:
         return None
     return np.abs(a) > bound
 
@@ -464,12 +470,12 @@ def _temperature(
     """Absurd values, unit, sentinels and spikes of one temperature (or raw reading) column.
     Clears ``keep`` where a reading is left out; returns the converted column."""
     n = y.size
-    beyond = _beyond(y, MAX_ABS_READING)
+    low, high = float(np.min(y)), float(np.max(y))  # NaN (a channel's) fails the tests below
+    beyond = _beyond(y, MAX_ABS_READING, (low, high))
     any_absurd = beyond is not None
     absurd = beyond if beyond is not None else np.zeros(n, dtype=bool)
     valid = keep & ~absurd if any_absurd else keep.copy()
     if not raw:
-        low, high = float(np.min(y)), float(np.max(y))  # NaN (a channel's) fails the test below
         possible = not low <= high or any(low <= s <= high for s in SENTINELS)
         sentinel = np.isin(y, SENTINELS) & valid if possible else None
         if sentinel is not None and sentinel.any():
