@@ -12,7 +12,6 @@ TOML in, one :class:`~heatlog.errors.InputError` line out.
 
 from __future__ import annotations
 
-import difflib
 import math
 from collections.abc import Iterable, Mapping
 from typing import Any
@@ -120,6 +119,8 @@ MAX_ABS_NUMBER = 1e12
 
 def closest(name: str, known: Iterable[str]) -> str:
     """' (did you mean 'x'?)' for the closest known name, or '' when nothing is close."""
+    import difflib  # only on a misspelt name: the reduce path imports this module
+
     hits = difflib.get_close_matches(name, sorted(known), n=1, cutoff=0.6)
     if not hits:
         hits = sorted((k for k in known if name.lower() in k.lower()), key=len)[:1]
