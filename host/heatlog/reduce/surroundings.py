@@ -102,14 +102,46 @@ def env_responses(t: np.ndarray, e: np.ndarray, ks: np.ndarray) -> np.ndarray:
     return out
 
 
-def _rss_stack(j: np.ndarray, z: np.ndarray) -> np.ndarray:
-    """Residual sum of squares of the least-squares fit of each ``z[i]`` by the columns of
-    ``j[i]``: what ``numpy.linalg.lstsq`` gives one by one (SVD, singular values below
-    ε·max(n, p) of the largest dropped), for a whole grid in one call."""
+#: Largest condition number of a layer's normal equations (columns scaled to unit length) that
+#: is solved as such: up to it the solution's relative rounding stays below about 1e-6, and the
+#: residual sum of squares, computed from the residuals themselves, is exact to second order in
+#: that; above it, or singular, the layer goes through the SVD (common practice, no source).
+_NORMAL_COND_MAX = 1e10
+
+
+def _rss_svd(j: np.ndarray, z: np.ndarray) -> np.ndarray:
+    """:func:`_rss_stack` by SVD, as ``numpy.linalg.lstsq`` fits (singular values below
+    ε·max(n, p) of the largest dropped)."""
     u, sv, _ = np.linalg.svd(j, full_matrices=False)
     keep = sv > np.finfo(float).eps * max(j.shape[-2:]) * sv[:, :1]
     coef = np.einsum("mnp,mn->mp", u, z) * keep
     r = z - np.einsum("mnp,mp->mn", u, coef)
+    return np.einsum("mn,mn->m", r, r)
+
+
+def _rss_stack(j: np.ndarray, z: np.ndarray) -> np.ndarray:
+    """Residual sum of squares of the least-squares fit of each ``z[i]`` by the columns of
+    ``j[i]`` (what ``numpy.linalg.lstsq`` gives one by one) for a whole grid in one call: the
+    normal equations, solved with the columns scaled to unit length (an all-zero column, as the
+    ramp's at k = 0, takes no part), the residuals then computed from their solution; layers
+    that are badly conditioned (``_NORMAL_COND_MAX``) by SVD. Under half the SVD's time."""
+    jt = np.swapaxes(j, 1, 2)
+    g = jt @ j
+    b = jt @ z[:, :, None]
+    d = np.sqrt(np.diagonal(g, axis1=1, axis2=2))
+    d = np.where(d > 0.0, d, 1.0)  # a zero column: its row and column of g are zero
+    gs = g / (d[:, :, None] * d[:, None, :])
+    eye = np.eye(j.shape[2], dtype=bool)
+    gs[(np.diagonal(g, axis1=1, axis2=2) == 0.0)[:, :, None] & eye] = 1.0  # p = 0 there
+    lam = np.linalg.eigvalsh(gs)
+    good = lam[:, 0] * _NORMAL_COND_MAX > lam[:, -1]
+    if not good.all():  # those layers by SVD
+        out = _rss_svd(j, z)
+        if good.any():
+            out[good] = _rss_stack(j[good], z[good])
+        return out
+    p = np.linalg.solve(gs, b / d[:, :, None]) / d[:, :, None]
+    r = z - (j @ p)[:, :, 0]
     return np.einsum("mn,mn->m", r, r)
 
 
