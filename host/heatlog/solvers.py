@@ -104,7 +104,7 @@ def minimize_bounded(
     return x, fx, True
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class LeastSquaresResult:
     """What :func:`least_squares_box` found: parameters, residuals and Jacobian there."""
 

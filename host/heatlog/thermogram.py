@@ -28,7 +28,7 @@ FLAG_COLUMNS = ("flags", "flag", "status", "fault")
 MIN_ROWS = 8
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class Thermogram:
     """Times (s, strictly increasing) and temperatures (°C) of one run, plus named extra channels.
 

@@ -31,7 +31,7 @@ METHODS = ("regnault-pfaundler", "dickinson", "dickinson-60", "newton")
 _NEWTON_PERIOD_POINTS = 250
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class MainPeriod:
     """Nodes for integrals over [t₀, tₙ]: fitted ends, readings in between."""
 

@@ -89,7 +89,7 @@ class Event:
         }
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class RateResidual:
     """The quantities events are found from, on a uniform grid (kept for plots and tests)."""
 

@@ -145,7 +145,7 @@ def _rss_stack(j: np.ndarray, z: np.ndarray) -> np.ndarray:
     return np.einsum("mn,mn->m", r, r)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class SurroundingsFit:
     """The exchange constant and the surroundings term found with it."""
 
