@@ -230,17 +230,22 @@ def _abs_second_differences(v: np.ndarray, out: np.ndarray | None = None) -> Ite
 
 def _window_reach(v: np.ndarray) -> float:
     """max over i of |v_i − x| for x anywhere in the window of ``HAMPEL_WINDOW`` (7) readings
-    around i (the ends repeated outward, as the running median has them): max7 − v and
-    v − min7, running maxima and minima by doubling, block by block."""
+    around i (the ends repeated outward, as the running median has them). Those x are readings
+    at most 3 rows from i (a repeated end is such a reading), so this is the largest
+    |v_(i+lag) − v_i| for lag 1 to 3: each one subtraction, as max7 − v_i is, hence the same
+    number, worked through block by block into one small buffer."""
     half = HAMPEL_WINDOW // 2
+    n = v.size
+    step = smoothing.BLOCK
+    buf = np.empty(min(step, n))
     reach = 0.0
-    for _, seg in smoothing.halo_blocks(v, half):
-        centre = seg[half:-half]
-        for pick, sign in ((np.maximum, 1.0), (np.minimum, -1.0)):
-            two = pick(seg[:-1], seg[1:])  # windows of 2, 4, then 7 = 4 + 3 overlapping
-            four = pick(two[:-2], two[2:])
-            seven = pick(four[:-3], four[3:])
-            reach = max(reach, float((sign * (seven - centre)).max()))
+    for start in range(0, n - 1, step):
+        stop = min(start + step, n)
+        for lag in range(1, half + 1):
+            m = min(stop, n - lag) - start
+            if m > 0:
+                d = np.subtract(v[start + lag : start + lag + m], v[start : start + m], out=buf[:m])
+                reach = max(reach, float(d.max()), -float(d.min()))
     return reach
 
 

@@ -92,12 +92,13 @@ def test_at_the_threshold_the_shortcut_does_not_decide():
     assert outcomes == {0, 1}  # the series does straddle the threshold
 
 
-@pytest.mark.parametrize("n", [7, 8, 13, 100, (1 << 16) + 3, (1 << 17) + 11])
+@pytest.mark.parametrize("n", [1, 2, 4, 7, 8, 13, 100, (1 << 14) + 1, (1 << 16) + 3, (1 << 17) + 11])
 def test_window_reach_is_the_windows_reach_and_bounds_the_residuals(n):
     from heatlog.inputgate import _window_reach
     from heatlog.smoothing import running_median
 
-    v = np.random.default_rng(n).normal(size=n)
+    # a column of a two-column table, as the CSV reader gives it (a strided view)
+    v = np.random.default_rng(n).normal(size=(n, 2))[:, 1]
     windows = np.lib.stride_tricks.sliding_window_view(np.pad(v, 3, mode="edge"), 7)
     want = max(float((windows.max(1) - v).max()), float((v - windows.min(1)).max()))
     assert _window_reach(v) == want
