@@ -327,8 +327,10 @@ def _time_scale(
     findings: list[Finding],
     where: str,
     limit: float | None = None,
+    ordered: bool = False,
 ) -> float:
-    """Seconds per unit of the time column: from the header, else from the sampling pattern."""
+    """Seconds per unit of the time column: from the header, else from the sampling pattern.
+    ``ordered``: the caller knows ``t`` rises strictly (its range is then its ends)."""
     u = unit.strip().lower()
     if u:
         if u not in _TIME_UNITS:
@@ -349,9 +351,10 @@ def _time_scale(
                 )
             )
         return scale
-    if not (t[1:] > t[:-1]).any():
+    # some step rises (else there is no pattern): certainly when the last stamp is the later
+    if not (t.size >= 2 and t[-1] > t[0]) and not (t[1:] > t[:-1]).any():
         return 1.0
-    span = float(np.max(t) - np.min(t))
+    span = float(t[-1] - t[0]) if ordered else float(np.max(t) - np.min(t))
     limit = MAX_RUN_S[kind] if limit is None else limit
     # the median step and the whole-number test only where a branch below needs them
     median_step: list[float] = []
@@ -507,14 +510,20 @@ def _temperature(
                 )
                 keep &= ~sentinel
                 valid &= ~sentinel
+        given = y
         y = np.where(absurd, 0.0, y) if any_absurd else y
         y = _to_celsius(y, valid, unit, name, findings, where)
-        if n and (float(y.min()) < MIN_TEMP_C or float(y.max()) > MAX_TEMP_C):
+        # the column as given (°C, nothing absurd): its range is the one taken above
+        lo_c, hi_c = (low, high) if y is given else (float(y.min()), float(y.max()))
+        if n and (lo_c < MIN_TEMP_C or hi_c > MAX_TEMP_C):
             impossible = valid & ((y < MIN_TEMP_C) | (y > MAX_TEMP_C))
             absurd = absurd | impossible
             valid = valid & ~impossible
+            any_absurd = True
     elif any_absurd:
         y = np.where(absurd, 0.0, y)
+    if not any_absurd:  # nothing absurd: no masks to look through
+        return _spikes(y, keep, name, lines, findings, raw)
     for a, b in _runs(absurd & keep):
         if b - a > MAX_SPIKE_RUN or valid.sum() < HAMPEL_WINDOW:
             shown = _line_list(lines, np.arange(a, b))
@@ -541,6 +550,14 @@ def _temperature(
             )
         )
         keep &= ~absurd
+    return _spikes(y, keep, name, lines, findings, raw)
+
+
+def _spikes(
+    y: np.ndarray, keep: np.ndarray, name: str, lines: Any, findings: list[Finding], raw: bool
+) -> np.ndarray:
+    """Isolated spikes of a column among the ``keep`` rows: flagged and cleared from ``keep``;
+    returns the column."""
     spikes, _ = spike_rows(y, keep)
     if spikes.size:
         shown = _line_list(lines, spikes)
@@ -789,7 +806,9 @@ def gate_series(
         return a if every else a[keep]
 
     t_kept = kept_rows(t)
-    scale = _time_scale(t_kept, time_unit, time_name, kind, findings, where, limit)
+    scale = _time_scale(
+        t_kept, time_unit, time_name, kind, findings, where, limit, ordered=rising and every
+    )
     return Gated(
         t_kept * scale if scale != 1.0 else t_kept,
         kept_rows(y),
