@@ -256,7 +256,11 @@ def _solve(j: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, float]:
     return p, float(r @ r)
 
 
-def _fit(model: str, ft, fy, at, ay, k_fixed: float | None = None) -> DriftFit:
+def _fit(
+    model: str, ft, fy, at, ay, k_fixed: float | None = None, lin: DriftFit | None = None
+) -> DriftFit:
+    """One drift model fitted; the Newtonian search starts from the linear fit's k (``lin``, the
+    linear fit of the same periods when the caller has it)."""
     t_f = float(ft.mean())
     t_a = float(at.mean())
     y = np.concatenate([fy, ay])
@@ -267,8 +271,7 @@ def _fit(model: str, ft, fy, at, ay, k_fixed: float | None = None) -> DriftFit:
         params = p
         jac = j
     else:
-        lin = _fit("linear", ft, fy, at, ay)
-        k0 = lin.k_per_s
+        k0 = (lin if lin is not None else _fit("linear", ft, fy, at, ay)).k_per_s
         span = max(ft[-1] - ft[0], at[-1] - at[0], at[-1] - ft[0]) or 1.0
         kmax = 20.0 / span
 
@@ -356,7 +359,7 @@ def fit_drift(
     if model not in (*MODELS, "auto"):
         raise ReductionError(f"unknown drift model {model!r}; use linear, newtonian or auto")
     lin = _fit("linear", fore_t, fore_y, after_t, after_y)
-    newt = _fit("newtonian", fore_t, fore_y, after_t, after_y, k_fixed)
+    newt = _fit("newtonian", fore_t, fore_y, after_t, after_y, k_fixed, lin)
     if k_fixed is not None:
         return DriftChoice(newt, lin, newt, "newtonian with k from the surroundings model")
     if model == "auto":
