@@ -6,7 +6,7 @@ import pytest
 from heatlog.inputgate import _abs_second_differences
 from heatlog.reduce.drift import _design, design_stack
 from heatlog.reduce import surroundings
-from heatlog.reduce.surroundings import _rss_stack, env_response, env_responses
+from heatlog.reduce.surroundings import _rss_stack, env_response, env_responses, ramp_responses
 from heatlog.smoothing import halo_blocks
 
 
@@ -24,6 +24,19 @@ def test_env_responses_rows_are_env_response(seed):
     rows = env_responses(t, e, ks)
     for k, row in zip(ks, rows, strict=True):
         np.testing.assert_array_equal(row, env_response(t, e, float(k)))
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_ramp_responses_are_the_recursion_for_a_steady_ramp(seed):
+    rng = np.random.default_rng(seed)
+    t = 50.0 + _times(rng, 3000)
+    span = t[-1] - t[0]
+    ks = np.concatenate([[0.0], np.geomspace(1e-3 / span, 20.0 / span, 30)])
+    closed = ramp_responses(t, ks)
+    rec = env_responses(t, t - 0.5 * (t[0] + t[-1]), ks)
+    assert np.all(closed[0] == 0.0)  # no exchange, no surroundings term
+    for row, want in zip(closed[1:], rec[1:], strict=True):
+        np.testing.assert_allclose(row, want, rtol=0, atol=1e-9 * np.abs(want).max())
 
 
 @pytest.mark.parametrize("seed", range(4))

@@ -44,6 +44,7 @@ from heatlog.reduce.surroundings import (
     ENV_NOISE_DRAWS,
     SurroundingsFit,
     env_response,
+    fit_rooms,
     fit_surroundings,
     ramp_preferred,
 )
@@ -394,8 +395,7 @@ def reduce_thermogram(
     if env is not None:
         sur = fit_surroundings(t, y, fm, am, env)
     elif drift_model == "auto":
-        ramp = fit_surroundings(t, y, fm, am, None, ramp=True)
-        steady = fit_surroundings(t, y, fm, am, None, ramp=False)
+        ramp, steady = fit_rooms(t, y, fm, am)
         if ramp_preferred(ramp, steady.aic):
             sur = ramp
         elif (

@@ -109,6 +109,19 @@ def env_responses(t: np.ndarray, e: np.ndarray, ks: np.ndarray) -> np.ndarray:
 _NORMAL_COND_MAX = 1e10
 
 
+def ramp_responses(t: np.ndarray, ks: np.ndarray) -> np.ndarray:
+    """:func:`env_responses` of the steady ramp e = t − (t₀ + t_end)/2 in closed form, one row
+    per k: w = τ − E·(1 − k(t₀ − c)), τ = t − t₀, E = (1 − e^(−kτ))/k, c the midpoint. Equal to
+    the recursion to rounding (1e-10 of the largest |w| or better) with one exponential per
+    reading instead of three: the grid of the ramp search uses it, the search itself the
+    recursion."""
+    t = np.asarray(t, dtype=float)
+    ks = np.asarray(ks, dtype=float)
+    tau = t - t[0]
+    lead = t[0] - 0.5 * (t[0] + t[-1])
+    return tau - expo_rows(ks, tau) * (1.0 - ks[:, None] * lead)
+
+
 def _rss_svd(j: np.ndarray, z: np.ndarray) -> np.ndarray:
     """:func:`_rss_stack` by SVD, as ``numpy.linalg.lstsq`` fits (singular values below
     ε·max(n, p) of the largest dropped)."""
@@ -163,19 +176,99 @@ class SurroundingsFit:
         return self.n * math.log(max(self.rss, 1e-300) / max(self.n, 1)) + 2 * p
 
 
-def _k_search(rss_of, span: float, rss_grid=None) -> float:
-    """k with the least RSS: a grid from 0 to 20/span (``rss_grid``: the RSS of the whole grid
-    in one call, else ``rss_of`` point by point), then Brent's minimiser between the grid
-    neighbours of the best point."""
-    kmax = 20.0 / span
-    grid = np.concatenate([[0.0], np.geomspace(1e-3 / span, kmax, 30)])
-    vals = rss_grid(grid) if rss_grid is not None else np.array([rss_of(k) for k in grid])
+def _k_grid(span: float) -> np.ndarray:
+    """The k searched first: 0 and 30 values from 1e-3/span to 20/span, evenly in log k."""
+    return np.concatenate([[0.0], np.geomspace(1e-3 / span, 20.0 / span, 30)])
+
+
+def _k_search(rss_of, grid: np.ndarray, vals: np.ndarray) -> float:
+    """k with the least RSS: the best point of the ``grid`` (RSS ``vals``), then Brent's
+    minimiser between its grid neighbours."""
     i = int(np.argmin(vals))
     lo, hi = grid[max(i - 1, 0)], grid[min(i + 1, grid.size - 1)]
     if hi <= lo:
         return float(grid[i])
     k = minimize_bounded(rss_of, lo, hi, xatol=1e-12 + 1e-9 * grid[i])[0]
     return k if rss_of(k) <= vals[i] else float(grid[i])
+
+
+def _fits(
+    t: np.ndarray,
+    y: np.ndarray,
+    fore: np.ndarray,
+    after: np.ndarray,
+    env: np.ndarray | None,
+    kinds: tuple[str, ...],
+) -> list[SurroundingsFit]:
+    """One fit per kind ("measured" with ``env``, "ramp", "steady") of the same periods: the
+    k grid is worked through once for all of them (one design per k), then each kind's k is
+    refined by its own search."""
+    rows = np.concatenate([np.flatnonzero(fore), np.flatnonzero(after)])  # fore rows, then after
+    ft, at = t[fore], t[after]
+    t_f, t_a = float(ft.mean()), float(at.mean())
+    yy = y[rows]
+    span = max(at[-1] - ft[0], 1.0)
+    if env is not None:
+        e = np.asarray(env, dtype=float) - float(np.mean(env))
+    else:
+        e = t - 0.5 * (t[0] + t[-1])
+
+    def system(kind: str, k: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        j = _design("newtonian", k, ft, at, t_f, t_a)
+        if kind == "steady":  # no surroundings term to compute
+            return j, yy, np.zeros(t.size)
+        w = env_response(t, e, k)
+        if kind == "ramp":
+            return np.column_stack([j, w[rows]]), yy, w
+        return j, yy - w[rows], w
+
+    def rss_of(kind: str, k: float) -> float:
+        j, z, _ = system(kind, k)
+        p, *_ = np.linalg.lstsq(j, z, rcond=None)
+        r = z - j @ p
+        return float(r @ r)
+
+    def rss_chunk(ks: np.ndarray) -> dict[str, np.ndarray]:
+        j = design_stack(ks, ft, at, t_f, t_a)
+        z = np.broadcast_to(yy, (ks.size, yy.size))
+        out = {}
+        if "steady" in kinds:
+            out["steady"] = _rss_stack(j, z)
+        if "ramp" in kinds:
+            ww = ramp_responses(t, ks)[:, rows]
+            out["ramp"] = _rss_stack(np.concatenate([j, ww[:, :, None]], axis=2), z)
+        if "measured" in kinds:
+            out["measured"] = _rss_stack(j, z - env_responses(t, e, ks)[:, rows])
+        return out
+
+    grid = _k_grid(span)
+    # a few k at a time: the stacked temporaries stay small enough to be reused, where a whole
+    # grid's would be fresh memory (page faults) on every run
+    chunks = [rss_chunk(grid[i : i + _GRID_CHUNK]) for i in range(0, grid.size, _GRID_CHUNK)]
+    fits = []
+    for kind in kinds:
+        vals = np.concatenate([c[kind] for c in chunks])
+        k = _k_search(lambda k, kind=kind: rss_of(kind, k), grid, vals)
+        j, z, w = system(kind, k)
+        p, *_ = np.linalg.lstsq(j, z, rcond=None)
+        r = z - j @ p
+        rss = float(r @ r)
+        n = int(z.size)
+        if kind == "measured":
+            fits.append(SurroundingsFit("measured", k, w, rss=rss, n=n))
+            continue
+        if kind == "steady":
+            fits.append(SurroundingsFit("steady", k, w, 0.0, 0.0, rss, n))
+            continue
+        s2 = residual_sigma(r, n - 5) ** 2
+        try:
+            cov = np.linalg.inv(j.T @ j) * s2
+            u_beta = float(math.sqrt(max(cov[3, 3], 0.0)))
+        except np.linalg.LinAlgError:
+            u_beta = math.inf
+        beta = float(p[3])
+        fits.append(SurroundingsFit("ramp", k, beta * w, beta, u_beta, rss, n))
+    return fits
 
 
 def fit_surroundings(
@@ -191,66 +284,17 @@ def fit_surroundings(
     ``env`` is the logged surroundings temperature on ``t`` (measured kind); ``None`` fits the
     ramp model, or with ``ramp=False`` the steady room (for the AIC comparison on the same data).
     """
-    ft, at = t[fore], t[after]
-    t_f, t_a = float(ft.mean()), float(at.mean())
-    yy = np.concatenate([y[fore], y[after]])
-    span = max(at[-1] - ft[0], 1.0)
-    if env is not None:
-        e = np.asarray(env, dtype=float) - float(np.mean(env))
-    else:
-        e = t - 0.5 * (t[0] + t[-1])
+    kind = "measured" if env is not None else "ramp" if ramp else "steady"
+    return _fits(t, y, fore, after, env, (kind,))[0]
 
-    def system(k: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        j = _design("newtonian", k, ft, at, t_f, t_a)
-        if env is None and not ramp:  # the steady room: no surroundings term to compute
-            return j, yy, np.zeros(t.size)
-        w = env_response(t, e, k)
-        ww = np.concatenate([w[fore], w[after]])
-        if env is None:
-            return np.column_stack([j, ww]), yy, w
-        return j, yy - ww, w
 
-    def rss_of(k: float) -> float:
-        j, z, _ = system(k)
-        p, *_ = np.linalg.lstsq(j, z, rcond=None)
-        r = z - j @ p
-        return float(r @ r)
-
-    def rss_grid(ks: np.ndarray) -> np.ndarray:
-        # a few k at a time: the stacked temporaries stay small enough to be reused, where
-        # a whole grid's would be fresh memory (page faults) on every run
-        step = _GRID_CHUNK
-        if ks.size > step:
-            return np.concatenate([rss_grid(ks[i : i + step]) for i in range(0, ks.size, step)])
-        j = design_stack(ks, ft, at, t_f, t_a)
-        z = np.broadcast_to(yy, (ks.size, yy.size))
-        if env is not None or ramp:
-            w = env_responses(t, e, ks)
-            ww = np.concatenate([w[:, fore], w[:, after]], axis=1)
-            if env is None:
-                j = np.concatenate([j, ww[:, :, None]], axis=2)
-            else:
-                z = z - ww
-        return _rss_stack(j, z)
-
-    k = _k_search(rss_of, span, rss_grid)
-    j, z, w = system(k)
-    p, *_ = np.linalg.lstsq(j, z, rcond=None)
-    r = z - j @ p
-    rss = float(r @ r)
-    n = int(z.size)
-    if env is not None:
-        return SurroundingsFit("measured", k, w, rss=rss, n=n)
-    if not ramp:
-        return SurroundingsFit("steady", k, w, 0.0, 0.0, rss, n)
-    s2 = residual_sigma(r, n - 5) ** 2
-    try:
-        cov = np.linalg.inv(j.T @ j) * s2
-        u_beta = float(math.sqrt(max(cov[3, 3], 0.0)))
-    except np.linalg.LinAlgError:
-        u_beta = math.inf
-    beta = float(p[3])
-    return SurroundingsFit("ramp", k, beta * w, beta, u_beta, rss, n)
+def fit_rooms(
+    t: np.ndarray, y: np.ndarray, fore: np.ndarray, after: np.ndarray
+) -> tuple[SurroundingsFit, SurroundingsFit]:
+    """The drifting-room (ramp) and the steady-room fit of the same periods, as
+    :func:`fit_surroundings` gives each, sharing the k grid's designs."""
+    ramp, steady = _fits(t, y, fore, after, None, ("ramp", "steady"))
+    return ramp, steady
 
 
 def ramp_preferred(ramp: SurroundingsFit, steady_aic: float) -> bool:
