@@ -1,12 +1,22 @@
-"""The stacked (whole-grid) forms used by the k searches equal their one-k counterparts."""
+"""The stacked (whole-grid) forms used by the k searches equal their one-k counterparts, and a
+shared grid gives each fit what its own would."""
 
 import numpy as np
 import pytest
 
 from heatlog.inputgate import _abs_second_differences
-from heatlog.reduce.drift import _design, design_stack
 from heatlog.reduce import surroundings
-from heatlog.reduce.surroundings import _rss_stack, env_response, env_responses, ramp_responses
+from heatlog.reduce.drift import _design, design_stack
+from heatlog.reduce.sampling import block_means
+from heatlog.reduce.surroundings import (
+    _rss_stack,
+    env_response,
+    env_responses,
+    fit_rooms,
+    fit_surroundings,
+    ramp_responses,
+)
+from heatlog.reduce.synthetic import room_run
 from heatlog.smoothing import halo_blocks
 
 
@@ -96,3 +106,25 @@ def test_second_differences_block_by_block(n):
     for _ in _abs_second_differences(v, out):
         pass
     np.testing.assert_array_equal(out, want)
+
+
+@pytest.mark.parametrize("seed", range(3))
+def test_room_fits_together_equal_each_alone(seed):
+    # fit_rooms shares the k grid between the drifting- and the steady-room fit; each result
+    # must be the one its own fit gives, to the last bit
+    th = room_run(seed, log_env=False).thermogram
+    t, y, _ = block_means(th.time_s, th.temp_C, 4000)
+    fore = t <= t[0] + 0.2 * (t[-1] - t[0])
+    after = t >= t[0] + 0.6 * (t[-1] - t[0])
+    ramp, steady = fit_rooms(t, y, fore, after)
+    for together, alone in (
+        (ramp, fit_surroundings(t, y, fore, after, None, ramp=True)),
+        (steady, fit_surroundings(t, y, fore, after, None, ramp=False)),
+    ):
+        assert together.kind == alone.kind
+        assert (together.k_per_s, together.rss, together.n) == (alone.k_per_s, alone.rss, alone.n)
+        assert (together.beta_K_per_s, together.u_beta_K_per_s) == (
+            alone.beta_K_per_s,
+            alone.u_beta_K_per_s,
+        )
+        np.testing.assert_array_equal(together.w, alone.w)

@@ -102,13 +102,6 @@ def env_responses(t: np.ndarray, e: np.ndarray, ks: np.ndarray) -> np.ndarray:
     return out
 
 
-#: Largest condition number of a layer's normal equations (columns scaled to unit length) that
-#: is solved as such: up to it the solution's relative rounding stays below about 1e-6, and the
-#: residual sum of squares, computed from the residuals themselves, is exact to second order in
-#: that; above it, or singular, the layer goes through the SVD (common practice, no source).
-_NORMAL_COND_MAX = 1e10
-
-
 def ramp_responses(t: np.ndarray, ks: np.ndarray) -> np.ndarray:
     """:func:`env_responses` of the steady ramp e = t − (t₀ + t_end)/2 in closed form, one row
     per k: w = τ − E·(1 − k(t₀ − c)), τ = t − t₀, E = (1 − e^(−kτ))/k, c the midpoint. Equal to
@@ -120,6 +113,13 @@ def ramp_responses(t: np.ndarray, ks: np.ndarray) -> np.ndarray:
     tau = t - t[0]
     lead = t[0] - 0.5 * (t[0] + t[-1])
     return tau - expo_rows(ks, tau) * (1.0 - ks[:, None] * lead)
+
+
+#: Largest condition number of a layer's normal equations (columns scaled to unit length) that
+#: is solved as such: up to it the solution's relative rounding stays below about 1e-6, and the
+#: residual sum of squares, computed from the residuals themselves, is exact to second order in
+#: that; above it, or singular, the layer goes through the SVD (common practice, no source).
+_NORMAL_COND_MAX = 1e10
 
 
 def _rss_svd(j: np.ndarray, z: np.ndarray) -> np.ndarray:
