@@ -37,7 +37,7 @@ import numpy as np
 
 from heatlog import smoothing
 from heatlog.errors import InputError
-from heatlog.orderstats import all_finite, median
+from heatlog.orderstats import median
 from heatlog.runschema import QUANTITY_BOUNDS
 
 Severity = Literal["refuse", "flag"]
@@ -474,11 +474,14 @@ def _temperature(
     findings: list[Finding],
     where: str,
     raw: bool,
+    span: tuple[float, float] | None = None,
 ) -> np.ndarray:
-    """Absurd values, unit, sentinels and spikes of one temperature (or raw reading) column.
-    Clears ``keep`` where a reading is left out; returns the converted column."""
+    """Absurd values, unit, sentinels and spikes of one temperature (or raw reading) column
+    (``span``: its (min, max) when the caller has it). Clears ``keep`` where a reading is left
+    out; returns the converted column."""
     n = y.size
-    low, high = float(np.min(y)), float(np.max(y))  # NaN (a channel's) fails the tests below
+    # NaN (a channel's) fails the tests below
+    low, high = span if span is not None else (float(np.min(y)), float(np.max(y)))
     beyond = _beyond(y, MAX_ABS_READING, (low, high))
     any_absurd = beyond is not None
     absurd = beyond if beyond is not None else np.zeros(n, dtype=bool)
@@ -669,8 +672,12 @@ def gate_series(
     keep = np.ones(n, dtype=bool)
     if n == 0:
         return Gated(t, y, channels, keep, tuple(findings))
+    # each column's range first: NaN carries through min and max, so finite ends mean every value
+    # is finite, and the absurd-value tests below start from the same range
+    spans: dict[str, tuple[float, float]] = {}
     for name, arr in (("time", t), ("reading", y)):
-        if all_finite(arr):
+        spans[name] = low, high = float(arr.min()), float(arr.max())
+        if math.isfinite(low) and math.isfinite(high):
             continue
         bad = ~np.isfinite(arr)
         if bad.any():
@@ -684,7 +691,7 @@ def gate_series(
             )
 
     # absurd times: never used in arithmetic
-    absurd_t = _beyond(t, MAX_ABS_TIME)
+    absurd_t = _beyond(t, MAX_ABS_TIME, spans["time"])
     if absurd_t is not None:
         rows = np.flatnonzero(absurd_t)
         shown = _line_list(ln, rows)
@@ -730,7 +737,7 @@ def gate_series(
             keep &= ~fault
 
     # temperature (or raw reading) and temperature channels
-    y = _temperature(y, keep, temp_unit, temp_name, ln, findings, where, raw)
+    y = _temperature(y, keep, temp_unit, temp_name, ln, findings, where, raw, spans["reading"])
     for name in temperature_channels:
         if name in channels:
             channels[name] = _temperature(
@@ -759,8 +766,8 @@ def gate_series(
     # (a log with every row kept and no duplicate is not copied or indexed on the way)
     every = bool(keep.all())
     rising = every and n >= 2 and bool((t[1:] > t[:-1]).all())  # no repeat, nothing out of order
-    idx = np.arange(n) if every else np.flatnonzero(keep)
-    if idx.size >= 3 and not rising:
+    idx = None if rising else np.arange(n) if every else np.flatnonzero(keep)
+    if idx is not None and idx.size >= 3:
         tk, yk = (t, y) if every else (t[idx], y[idx])
         dup = np.concatenate([[False], (np.diff(tk) == 0) & (np.diff(yk) == 0)])
         any_dup = bool(dup.any())
@@ -786,7 +793,7 @@ def gate_series(
                 keep[rows] = False
 
     faults = sum(f.count for f in findings if f.code in ("sentinel", "flagged-rows"))
-    kept = int(keep.sum())
+    kept = int(np.count_nonzero(keep))
     dropped = n - kept - faults
     if dropped > max(MAX_SPIKE_RUN, MAX_DROPPED_SHARE * n) or kept < n / 2:
         refuse(

@@ -8,6 +8,7 @@ ISO 8601 or a spreadsheet form, becomes seconds from the first row) and the inpu
 
 from __future__ import annotations
 
+import math
 import os
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
@@ -77,7 +78,12 @@ def check_thermogram_arrays(time_s: np.ndarray, temp_C: np.ndarray, where: str) 
             f"{where}: need at least {MIN_ROWS} rows for a thermogram "
             f"(fore-period, event, after-period), got {n}"
         )
+    later = time_s[1:] > time_s[:-1]  # (no full-size difference array for a clean log)
+    rising = bool(later.all())  # a NaN fails every comparison, so it is not rising
     for name, arr in (("time", time_s), ("temperature", temp_C)):
+        # rising times are finite when their ends are (a NaN was ruled out just above)
+        if name == "time" and rising and math.isfinite(arr[0]) and math.isfinite(arr[-1]):
+            continue
         if all_finite(arr):
             continue
         bad = ~np.isfinite(arr)
@@ -86,8 +92,7 @@ def check_thermogram_arrays(time_s: np.ndarray, temp_C: np.ndarray, where: str) 
                 f"{where}: {name} holds a non-finite value (NaN or inf) in data row "
                 f"{int(np.argmax(bad)) + 1}"
             )
-    later = time_s[1:] > time_s[:-1]  # (no full-size difference array for a clean log)
-    if not later.all():
+    if not rising:
         i = int(np.argmin(later))
         raise InputError(
             f"{where}: time must increase strictly from row to row; data row {i + 2} "
