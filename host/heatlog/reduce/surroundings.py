@@ -222,13 +222,7 @@ def _fits(
             return np.column_stack([j, w[rows]]), yy, w
         return j, yy - w[rows], w
 
-    def rss_of(kind: str, k: float) -> float:
-        j, z, _ = system(kind, k)
-        p, *_ = np.linalg.lstsq(j, z, rcond=None)
-        r = z - j @ p
-        return float(r @ r)
-
-    def rss_chunk(ks: np.ndarray) -> dict[str, np.ndarray]:
+    def rss_chunk(ks: np.ndarray, kinds: tuple[str, ...] = kinds) -> dict[str, np.ndarray]:
         j = design_stack(ks, ft, at, t_f, t_a)
         z = np.broadcast_to(yy, (ks.size, yy.size))
         out = {}
@@ -240,6 +234,10 @@ def _fits(
         if "measured" in kinds:
             out["measured"] = _rss_stack(j, z - env_responses(t, e, ks)[:, rows])
         return out
+
+    def rss_of(kind: str, k: float) -> float:
+        # the search refines the grid's own objective, so its values and the grid's compare
+        return float(rss_chunk(np.array([k]), (kind,))[kind][0])
 
     grid = _k_grid(span)
     # a few k at a time: the stacked temporaries stay small enough to be reused, where a whole
