@@ -122,16 +122,16 @@ def probe_response(s: np.ndarray, k: float, tau_r: float, tau_p: float) -> np.nd
     b = k
     if abs(a - b) < 1e-9 * a:
         a *= 1 + 1e-6
-    v = (a / (a - b)) * (decay(b) - decay(a))
+    eb, ea = decay(b), decay(a)
     if tau_p <= 1e-6:
-        return v
+        return (a / (a - b)) * (eb - ea)
     c = 1.0 / tau_p
     if abs(c - a) < 1e-6 * a:
         c = a * (1 + 1e-6)
     if abs(c - b) < 1e-9 * c:
         c *= 1 + 1e-6
     ec = decay(c)
-    return (a / (a - b)) * (c * (decay(b) - ec) / (c - b) - c * (decay(a) - ec) / (c - a))
+    return (a / (a - b)) * (c * (eb - ec) / (c - b) - c * (ea - ec) / (c - a))
 
 
 @dataclass(frozen=True)
