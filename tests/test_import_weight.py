@@ -3,8 +3,8 @@ any part of scipy (scipy.optimize alone costs about 0.4 s, scipy.ndimage and sci
 quarter to half a second each) would cost more than the whole reduction of a million-row log,
 which should take about as long as reading the file; none is needed there. Nor is numpy.ma,
 which numpy.median and numpy.unique import on first use (heatlog.orderstats stands in), nor the
-few milliseconds each of numpy.polynomial (Savitzky–Golay edges use numpy.polyfit) and difflib
-(only a misspelt run-file key needs it).
+few milliseconds each of numpy.polynomial (Savitzky–Golay edges use numpy.polyfit), difflib
+(only a misspelt run-file key needs it) and pathlib (the CSV reader opens paths as strings).
 
 Each case runs ``python -X importtime -m heatlog reduce FILE`` in a fresh interpreter with this
 checkout's ``host/`` first on the path and reads the imported module names from its report.
@@ -22,7 +22,7 @@ from heatlog.reduce.synthetic import Release, synthetic_run
 
 HOST = Path(__file__).resolve().parents[1] / "host"
 #: Packages the CSV reduce path must not import (the module or any of its submodules).
-FORBIDDEN = ("pandas", "scipy", "numpy.ma", "numpy.polynomial", "difflib")
+FORBIDDEN = ("pandas", "scipy", "numpy.ma", "numpy.polynomial", "difflib", "pathlib")
 
 
 def _write(path, env):

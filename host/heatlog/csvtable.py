@@ -15,7 +15,6 @@ import os
 import re
 from collections.abc import Sequence
 from dataclasses import dataclass, field
-from pathlib import Path
 
 import numpy as np
 
@@ -64,7 +63,7 @@ class Table:
     notes: tuple[str, ...] = ()
     _lines: list[np.ndarray] = field(default_factory=list, repr=False)
     _text: str | None = field(default=None, repr=False)
-    _path: Path | None = field(default=None, repr=False)
+    _path: str | None = field(default=None, repr=False)
     _header_line: int = 1
 
     def line_numbers(self) -> np.ndarray:
@@ -72,9 +71,15 @@ class Table:
             text = self._text
             if text is None:
                 assert self._path is not None
-                text = self._path.read_text(encoding="utf-8-sig", errors="replace")
+                text = _read_text(self._path, errors="replace")
             self._lines.append(_data_lines(text, self._header_line))
         return self._lines[0]
+
+
+def _read_text(path: str, errors: str = "strict") -> str:
+    """The whole file as text (UTF-8, a byte-order mark dropped, universal newlines)."""
+    with open(path, encoding="utf-8-sig", errors=errors) as handle:
+        return handle.read()
 
 
 def _data_lines(text: str, header_line: int) -> np.ndarray:
@@ -195,16 +200,15 @@ def read_table(
     common spreadsheet form, :mod:`heatlog.clocktext`): it is returned as seconds from the first
     row (``force_clock``: it must, even when its first cell looks like a number).
     """
-    path: Path | None = None
+    path: str | None = None
     rest_on_disk = False
     if isinstance(source, io.TextIOBase):
         text = source.read()
         where = getattr(source, "name", what)
     else:
-        path = Path(source)
-        where = str(path)
+        path = where = os.fspath(source)  # (no pathlib: a few ms of every reduce's start-up)
         try:
-            with path.open(encoding="utf-8-sig") as handle:
+            with open(path, encoding="utf-8-sig") as handle:
                 text = handle.read(_HEAD_CHARS)
                 # Long files: only the head is decoded here; numpy.loadtxt reads the rows from
                 # the file itself below (twice as fast as from an in-memory string).
@@ -235,7 +239,7 @@ def read_table(
         rest_on_disk = False
         assert path is not None
         try:
-            text = path.read_text(encoding="utf-8-sig")
+            text = _read_text(path)
         except UnicodeDecodeError:
             raise InputError(
                 f"{where}: not a UTF-8 text file; save it as UTF-8 (CSV UTF-8) and try again"
@@ -282,7 +286,7 @@ def read_table(
     if (decimal_comma or clock) and rest_on_disk:
         assert path is not None
         return read_table(
-            io.StringIO(path.read_text(encoding="utf-8-sig", errors="strict")),
+            io.StringIO(_read_text(path)),
             columns,
             optional=optional,
             min_rows=min_rows,
@@ -315,7 +319,7 @@ def read_table(
             )
         )
 
-    rows: io.StringIO | Path = io.StringIO(data_text)
+    rows: io.StringIO | str = io.StringIO(data_text)
     skip = 0
     if rest_on_disk:
         assert path is not None
@@ -339,7 +343,7 @@ def read_table(
     except ValueError:
         if rest_on_disk:
             assert path is not None
-            full = path.read_text(encoding="utf-8-sig", errors="replace")
+            full = _read_text(path, errors="replace")
             full = full.replace("\r\n", "\n")
             data_text = full.split("\n", header_line)[-1]
         raise InputError(

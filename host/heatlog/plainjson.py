@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
-from pathlib import Path
+import os
 from typing import Any
 
 import numpy as np
@@ -30,6 +30,6 @@ def jsonable(obj: Any) -> Any:
         return jsonable(obj.item())
     if isinstance(obj, float):
         return obj if math.isfinite(obj) else None
-    if isinstance(obj, Path):
-        return str(obj)
+    if isinstance(obj, os.PathLike):
+        return os.fsdecode(obj)
     return obj

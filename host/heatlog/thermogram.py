@@ -12,7 +12,6 @@ import math
 import os
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
-from pathlib import Path
 from typing import Any
 
 import numpy as np
@@ -117,7 +116,7 @@ def read_thermogram_csv(
     Every row passes the input gate; its findings are in ``metadata["findings"]``. Bad files
     raise :class:`InputError` with one line.
     """
-    p = Path(path)
+    p = os.fspath(path)
     table = read_table(
         p,
         [time_col, temp_col, *channels],
@@ -134,7 +133,7 @@ def read_thermogram_csv(
         temp_col,
         channels,
         flags_col=flag_col,
-        where=str(p),
+        where=p,
         kind="thermogram",
         temperature_channels=[c for c in channels if c.lower().endswith(("_c", "temp"))],
     )
@@ -143,7 +142,7 @@ def read_thermogram_csv(
         temp_C=gated.temp_C,
         channels=gated.channels,
         metadata={
-            "source": str(p),
+            "source": p,
             "time_col": time_col,
             "temp_col": temp_col,
             "findings": gated.findings,
@@ -162,7 +161,7 @@ def read_profile_csv(
     """A long-run log (``heatlog profile FILE``): time, temperature, environment and flags
     columns in file order (clock resets are the profile's to split), past the input gate.
     Returns ``(time_s, temp_C, env_C, flags, findings)``."""
-    p = Path(path)
+    p = os.fspath(path)
     optional = [c for c in (env_col, flags_col) if c]
     table = read_table(p, [time_col, temp_col, *optional], what="log", clock_col=time_col)
     gated = gate_table(
@@ -170,7 +169,7 @@ def read_profile_csv(
         time_col,
         temp_col,
         optional,
-        where=str(p),
+        where=p,
         kind="profile",
         temperature_channels=[env_col] if env_col else [],
         run_kind=run_kind,
