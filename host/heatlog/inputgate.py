@@ -673,10 +673,14 @@ def gate_series(
     if n == 0:
         return Gated(t, y, channels, keep, tuple(findings))
     # each column's range first: NaN carries through min and max, so finite ends mean every value
-    # is finite, and the absurd-value tests below start from the same range
+    # is finite, and the absurd-value tests below start from the same range. Strictly rising
+    # times (a NaN fails every comparison) have their ends as their range.
+    t_rises = n >= 2 and bool((t[1:] > t[:-1]).all())
     spans: dict[str, tuple[float, float]] = {}
     for name, arr in (("time", t), ("reading", y)):
-        spans[name] = low, high = float(arr.min()), float(arr.max())
+        rises = t_rises and arr is t
+        low, high = (float(t[0]), float(t[-1])) if rises else (float(arr.min()), float(arr.max()))
+        spans[name] = low, high
         if math.isfinite(low) and math.isfinite(high):
             continue
         bad = ~np.isfinite(arr)
@@ -765,7 +769,8 @@ def gate_series(
     # time glitches among the kept rows: duplicates and single stamps out of order
     # (a log with every row kept and no duplicate is not copied or indexed on the way)
     every = bool(keep.all())
-    rising = every and n >= 2 and bool((t[1:] > t[:-1]).all())  # no repeat, nothing out of order
+    # no repeat, nothing out of order (the check above holds while no absurd time was zeroed)
+    rising = every and n >= 2 and (t_rises if absurd_t is None else bool((t[1:] > t[:-1]).all()))
     idx = None if rising else np.arange(n) if every else np.flatnonzero(keep)
     if idx is not None and idx.size >= 3:
         tk, yk = (t, y) if every else (t[idx], y[idx])
