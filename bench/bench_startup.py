@@ -27,10 +27,10 @@ sys.path.insert(0, str(HOST))
 
 from bench_reduce import write_run  # noqa: E402  (the same invented run file)
 
-#: What pip's generated ``heatlog`` launcher does (``[project.scripts] heatlog = heatlog.cli:main``).
+#: What pip's generated ``heatlog`` launcher does (``[project.scripts] heatlog = heatlog.cli:run``).
 ENTRY = (
-    "import re, sys; from heatlog.cli import main; "
-    "sys.argv[0] = re.sub(r'(-script\\.pyw|\\.exe)?$', '', sys.argv[0]); sys.exit(main())"
+    "import re, sys; from heatlog.cli import run; "
+    "sys.argv[0] = re.sub(r'(-script\\.pyw|\\.exe)?$', '', sys.argv[0]); sys.exit(run())"
 )
 
 #: Compiled bytecode for every process of the run (a temporary folder, so the checkout stays

@@ -54,3 +54,33 @@ def test_version_and_help_import_no_command_module():
 def test_unknown_command_is_a_usage_error():
     r = CliRunner().invoke(main, ["no-such-command"])
     assert r.exit_code == 2 and "No such command" in r.output
+
+
+def test_console_script_freezes_the_imported_modules_and_keeps_collecting(tmp_path):
+    # `heatlog` as installed runs heatlog.cli:run: the command's modules are imported with the
+    # collector paused and then frozen; the collector must be on again for the command itself.
+    from heatlog.reduce.synthetic import synthetic_run
+
+    th = synthetic_run(noise_K=0.002, seed=3).thermogram
+    path = tmp_path / "run.csv"
+    rows = "\n".join(f"{a:.3f},{b:.5f}" for a, b in zip(th.time_s, th.temp_C, strict=True))
+    path.write_text("time_s,temp_C\n" + rows + "\n")
+    code = (
+        "import gc, sys\n"
+        "from heatlog.cli import run\n"
+        f"sys.argv = ['heatlog', 'reduce', {str(path)!r}]\n"
+        "try:\n"
+        "    run()\n"
+        "except SystemExit as exc:\n"
+        "    status = exc.code\n"
+        "print('STATE', gc.isenabled(), gc.get_freeze_count() > 1000, status)\n"
+    )
+    out = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=True
+    ).stdout
+    assert "corrected ΔT" in out, out
+    assert "STATE True True 0" in out, out
+    version = subprocess.run(
+        [sys.executable, "-m", "heatlog", "--version"], capture_output=True, text=True, check=True
+    ).stdout
+    assert "heatlog" in version

@@ -1,4 +1,4 @@
-from heatlog.cli import main
+from heatlog.cli import run
 
 if __name__ == "__main__":
-    main()
+    run()
