@@ -30,23 +30,28 @@ def test_listing_matches_the_loaded_commands():
     assert main.list_commands(ctx) == sorted(COMMANDS)
 
 
+def _fresh(setup: str, call: str, report: str) -> str:
+    """stdout of a new interpreter that runs ``setup``, then ``call`` (a heatlog entry point,
+    which ends in SystemExit: its code in ``status``), then ``report``."""
+    code = (
+        f"{setup}\ntry:\n    {call}\n    status = 0\n"
+        f"except SystemExit as exc:\n    status = exc.code\n{report}\n"
+    )
+    return subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=True
+    ).stdout
+
+
 def test_version_and_help_import_no_command_module():
     # A fresh interpreter: what `heatlog --help` imports must not include numpy or any command
     # (the output-encoding wrapper the group enters on every run is stdlib only, and allowed).
-    code = (
-        "import sys\n"
-        "from heatlog.cli import main\n"
-        "try:\n"
-        "    main(['--help'])\n"
-        "except SystemExit:\n"
-        "    pass\n"
+    out = _fresh(
+        "import sys\nfrom heatlog.cli import main",
+        "main(['--help'])",
         "heavy = sorted(m for m in sys.modules if m.split('.')[0] in ('numpy', 'scipy')"
         " or (m.startswith('heatlog.cli.') and m != 'heatlog.cli.asciitext'))\n"
-        "print('HEAVY', heavy)\n"
+        "print('HEAVY', heavy)",
     )
-    out = subprocess.run(
-        [sys.executable, "-c", code], capture_output=True, text=True, check=True
-    ).stdout
     assert "HEAVY []" in out, out
     assert "reduce" in out and "Commands:" in out
 
@@ -65,19 +70,11 @@ def test_console_script_freezes_the_imported_modules_and_keeps_collecting(tmp_pa
     path = tmp_path / "run.csv"
     rows = "\n".join(f"{a:.3f},{b:.5f}" for a, b in zip(th.time_s, th.temp_C, strict=True))
     path.write_text("time_s,temp_C\n" + rows + "\n")
-    code = (
-        "import gc, sys\n"
-        "from heatlog.cli import run\n"
-        f"sys.argv = ['heatlog', 'reduce', {str(path)!r}]\n"
-        "try:\n"
-        "    run()\n"
-        "except SystemExit as exc:\n"
-        "    status = exc.code\n"
-        "print('STATE', gc.isenabled(), gc.get_freeze_count() > 1000, status)\n"
+    out = _fresh(
+        f"import gc, sys\nfrom heatlog.cli import run\nsys.argv = ['heatlog', 'reduce', {str(path)!r}]",
+        "run()",
+        "print('STATE', gc.isenabled(), gc.get_freeze_count() > 1000, status)",
     )
-    out = subprocess.run(
-        [sys.executable, "-c", code], capture_output=True, text=True, check=True
-    ).stdout
     assert "corrected ΔT" in out, out
     assert "STATE True True 0" in out, out
     version = subprocess.run(
