@@ -92,7 +92,9 @@ def test_at_the_threshold_the_shortcut_does_not_decide():
     assert outcomes == {0, 1}  # the series does straddle the threshold
 
 
-@pytest.mark.parametrize("n", [1, 2, 4, 7, 8, 13, 100, (1 << 14) + 1, (1 << 16) + 3, (1 << 17) + 11])
+@pytest.mark.parametrize(
+    "n", [1, 2, 4, 7, 8, 13, 100, (1 << 14) + 1, (1 << 16) + 3, (1 << 17) + 11]
+)
 def test_window_reach_is_the_windows_reach_and_bounds_the_residuals(n):
     from heatlog.inputgate import _window_reach
     from heatlog.smoothing import running_median
