@@ -47,6 +47,7 @@ from heatlog.reduce.surroundings import (
     fit_rooms,
     fit_surroundings,
     ramp_preferred,
+    ramp_shape,
 )
 from heatlog.reduce.uncertainty import delta_t_budget, resolution_u
 from heatlog.smoothing import moving_average
@@ -215,7 +216,7 @@ def _surroundings_rows(
     k = k_fixed
     _, u_k, _, _ = fit.k_and_t_inf()
     if sur.kind == "ramp":
-        e = t - 0.5 * (t[0] + t[-1])
+        e = ramp_shape(t)
         w1 = env_response(t, e, k)
         ub = sur.u_beta_K_per_s
         hi_v = _rp_with(t, y_meas - (sur.beta_K_per_s + ub) * w1, lo, t0, ta, hi, k)

@@ -102,16 +102,23 @@ def env_responses(t: np.ndarray, e: np.ndarray, ks: np.ndarray) -> np.ndarray:
     return out
 
 
+def ramp_shape(t: np.ndarray) -> np.ndarray:
+    """The room drift of the ramp model before its rate β: e = t − (t₀ + t_end)/2 (unit slope,
+    zero in the middle of the log). The fit, its closed form and the budget rows share it."""
+    t = np.asarray(t, dtype=float)
+    return t - 0.5 * (t[0] + t[-1])
+
+
 def ramp_responses(t: np.ndarray, ks: np.ndarray) -> np.ndarray:
-    """:func:`env_responses` of the steady ramp e = t − (t₀ + t_end)/2 in closed form, one row
-    per k: w = τ − E·(1 − k(t₀ − c)), τ = t − t₀, E = (1 − e^(−kτ))/k, c the midpoint. Equal to
-    the recursion to rounding (1e-10 of the largest |w| or better) with one exponential per
-    reading instead of three: the grid of the ramp search uses it, the search itself the
-    recursion."""
+    """:func:`env_responses` of :func:`ramp_shape` in closed form, one row per k:
+    w = τ − E·(1 − k·e₀), τ = t − t₀, E = (1 − e^(−kτ))/k, e₀ the shape at t₀. Equal to the
+    recursion to rounding (1e-10 of the largest |w| or better) with one exponential per reading
+    instead of three: the ramp search (its grid and its refinement) uses it, the reported fit
+    the recursion."""
     t = np.asarray(t, dtype=float)
     ks = np.asarray(ks, dtype=float)
     tau = t - t[0]
-    lead = t[0] - 0.5 * (t[0] + t[-1])
+    lead = float(ramp_shape(t[[0, -1]])[0])  # e₀ (the shape needs only the two ends)
     return tau - expo_rows(ks, tau) * (1.0 - ks[:, None] * lead)
 
 
@@ -208,10 +215,7 @@ def _fits(
     t_f, t_a = float(ft.mean()), float(at.mean())
     yy = y[rows]
     span = max(at[-1] - ft[0], 1.0)
-    if env is not None:
-        e = np.asarray(env, dtype=float) - float(np.mean(env))
-    else:
-        e = t - 0.5 * (t[0] + t[-1])
+    e = ramp_shape(t) if env is None else np.asarray(env, dtype=float) - float(np.mean(env))
 
     def system(kind: str, k: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         j = _design("newtonian", k, ft, at, t_f, t_a)
